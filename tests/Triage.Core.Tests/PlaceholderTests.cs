@@ -1,0 +1,7 @@
+namespace Triage.Core.Tests;
+
+public class PlaceholderTests
+{
+    [Fact]
+    public void Arithmetic_Works() => Assert.Equal(4, 2 + 2);
+}
