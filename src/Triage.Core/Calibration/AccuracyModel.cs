@@ -39,3 +39,19 @@ public sealed record ConfusionMatrix(
     string PhaseBin,
     IReadOnlyList<string> Labels,
     IReadOnlyList<IReadOnlyList<int>> Counts);
+
+/// <summary>
+/// The whole accuracy model as the calibration writes it and the planner reads it (the
+/// calibration JSON). S/N is per resolution element at <see cref="SnrReferenceWavelengthAngstrom"/>
+/// on the continuum: the convention shared by calibration, exposure model and planner.
+/// Producers may add members; consumers rely on these.
+/// </summary>
+public sealed record AccuracyModelDocument(
+    string SnrConvention,
+    double SnrReferenceWavelengthAngstrom,
+    IReadOnlyList<string> Subtypes,
+    IReadOnlyList<double> Resolutions,
+    IReadOnlyList<double?> SnrLevels,
+    IReadOnlyList<PhaseBin> PhaseBins,
+    IReadOnlyList<CalibrationCell> Cells,
+    IReadOnlyList<ConfusionMatrix> Confusions);
