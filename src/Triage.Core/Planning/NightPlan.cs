@@ -1,0 +1,177 @@
+namespace Triage.Core.Planning;
+
+/// <summary>How far the solver got.</summary>
+public enum PlanStatus
+{
+    /// <summary>Proved optimal on the time grid.</summary>
+    Optimal,
+
+    /// <summary>A feasible plan; the gap says how far from the bound it may be.</summary>
+    Feasible,
+
+    /// <summary>The solver found nothing better than the heuristic (or was not run).</summary>
+    Heuristic,
+
+    /// <summary>Nothing could be planned (no unit or no option).</summary>
+    Empty,
+}
+
+/// <summary>What a solver returns before the plan is explained.</summary>
+/// <param name="Observations">The chosen observations.</param>
+/// <param name="Status">Solver status.</param>
+/// <param name="Objective">Σ net value of the observations.</param>
+/// <param name="Bound">A proven upper bound on the objective (null when none was computed).</param>
+/// <param name="MarginalValuePerHour">Per unit: objective gained by one more hour of its time (LP dual), null if unknown.</param>
+/// <param name="ChoicesBeforePruning">(option, level) pairs before pruning.</param>
+/// <param name="ChoicesAfterPruning">Pairs the solver saw.</param>
+/// <param name="Notes">Diagnostics (clamped values, dropped entries...).</param>
+public sealed record PlanOutcome(
+    IReadOnlyList<PlannedObservation> Observations,
+    PlanStatus Status,
+    double Objective,
+    double? Bound,
+    IReadOnlyList<double?> MarginalValuePerHour,
+    int ChoicesBeforePruning,
+    int ChoicesAfterPruning,
+    IReadOnlyList<string> Notes);
+
+/// <summary>The night plan as served and written to file.</summary>
+/// <param name="Advisory">Statement that the plan is advisory.</param>
+/// <param name="Objective">What was maximised.</param>
+/// <param name="Spectrographs">Per spectrograph, its ordered queue.</param>
+/// <param name="Unassigned">Candidates left out, with the reason.</param>
+/// <param name="Summary">Totals and solver figures.</param>
+/// <param name="Notes">Diagnostics: clamped calibration values, safety drops, filled cells.</param>
+public sealed record NightPlan(
+    string Advisory,
+    PlanObjective Objective,
+    IReadOnlyList<SpectrographQueue> Spectrographs,
+    IReadOnlyList<UnassignedCandidate> Unassigned,
+    PlanSummary Summary,
+    IReadOnlyList<string> Notes)
+{
+    /// <summary>The advisory statement every plan carries.</summary>
+    public const string AdvisoryStatement =
+        "This plan is advisory. It proposes what to observe and when; the observatory's own interlocks, " +
+        "safety systems and operators decide what is actually observed.";
+}
+
+/// <summary>One spectrograph's queue for the night.</summary>
+/// <param name="SpectrographId">Roster id.</param>
+/// <param name="Name">Spectrograph name.</param>
+/// <param name="SiteName">Its site.</param>
+/// <param name="ResolvingPower">R.</param>
+/// <param name="BudgetSeconds">Time available to the network tonight, s.</param>
+/// <param name="UsedSeconds">Time the queue occupies, s.</param>
+/// <param name="Cost">Cost of that time.</param>
+/// <param name="MarginalValuePerHour">Objective gained by one more hour here (LP dual); null if unknown.</param>
+/// <param name="Queue">Entries in start order.</param>
+public sealed record SpectrographQueue(
+    string SpectrographId,
+    string Name,
+    string SiteName,
+    double ResolvingPower,
+    double BudgetSeconds,
+    double UsedSeconds,
+    double Cost,
+    double? MarginalValuePerHour,
+    IReadOnlyList<QueueEntry> Queue);
+
+/// <summary>One planned observation.</summary>
+/// <param name="CandidateId">Candidate id.</param>
+/// <param name="StartUtc">Start of acquisition.</param>
+/// <param name="EndUtc">End of the last readout (start + exposure + overheads).</param>
+/// <param name="ExposureSeconds">Open-shutter time, s.</param>
+/// <param name="Airmass">Airmass (mid-observation when the sky model was consulted, else the worst in the window).</param>
+/// <param name="PredictedMagnitude">Predicted AB magnitude.</param>
+/// <param name="ExpectedSnr">S/N per resolution element expected.</param>
+/// <param name="ExpectedAccuracy">Probability of a correct subtype, 0…1.</param>
+/// <param name="InformationBits">Expected information gain, bits.</param>
+/// <param name="Value">Contribution to the objective (weight × A or weight × I).</param>
+/// <param name="Reason">Why it is here, in one sentence.</param>
+/// <param name="Alternatives">Value on every unit that could take it (best level there).</param>
+/// <param name="RunnerUpSpectrographId">The next best unit, if any.</param>
+/// <param name="LossIfMovedToCheapest">Value lost by moving it to the cheapest unit that can see it (0 when already there).</param>
+public sealed record QueueEntry(
+    string CandidateId,
+    DateTimeOffset StartUtc,
+    DateTimeOffset EndUtc,
+    double ExposureSeconds,
+    double Airmass,
+    double PredictedMagnitude,
+    double ExpectedSnr,
+    double ExpectedAccuracy,
+    double InformationBits,
+    double Value,
+    string Reason,
+    IReadOnlyList<UnitAlternative> Alternatives,
+    string? RunnerUpSpectrographId,
+    double LossIfMovedToCheapest);
+
+/// <summary>What a candidate would yield on one unit (its best level there).</summary>
+public sealed record UnitAlternative(
+    string SpectrographId,
+    string Name,
+    double ResolvingPower,
+    double ExpectedAccuracy,
+    double Value,
+    double DurationSeconds,
+    double CostPerHour);
+
+/// <summary>Why a candidate is not in the plan.</summary>
+public enum UnassignedReason
+{
+    /// <summary>Never above the limits of any open unit in the dark window.</summary>
+    NeverVisible,
+
+    /// <summary>Visible, but too faint for every unit to reach a useful S/N.</summary>
+    TooFaint,
+
+    /// <summary>Worth less than the time it needs (others use that time better).</summary>
+    Outbid,
+
+    /// <summary>Planned, then removed by the final safety check.</summary>
+    SafetyRejected,
+}
+
+/// <summary>A candidate left out of the plan.</summary>
+/// <param name="CandidateId">Candidate id.</param>
+/// <param name="Reason">Category.</param>
+/// <param name="Detail">One sentence with the numbers.</param>
+/// <param name="BestValue">Its best value on any unit (null when it has no option).</param>
+/// <param name="BestSpectrographId">Where that best value would be.</param>
+/// <param name="TimeNeededSeconds">Time that best option needs, s.</param>
+/// <param name="ValueOfThatTime">Marginal value of that much time on that unit (LP dual × time).</param>
+public sealed record UnassignedCandidate(
+    string CandidateId,
+    UnassignedReason Reason,
+    string Detail,
+    double? BestValue,
+    string? BestSpectrographId,
+    double? TimeNeededSeconds,
+    double? ValueOfThatTime);
+
+/// <summary>Totals of a plan.</summary>
+/// <param name="Candidates">Candidates considered.</param>
+/// <param name="Assigned">Candidates in a queue.</param>
+/// <param name="ExpectedCorrectIdentifications">Σ A over the plan (unweighted).</param>
+/// <param name="ExpectedInformationBits">Σ I over the plan (unweighted).</param>
+/// <param name="Objective">Σ value − price × cost.</param>
+/// <param name="Bound">Proven upper bound on the objective (null if none).</param>
+/// <param name="Gap">(bound − objective) / bound, 0…1 (null without a bound).</param>
+/// <param name="Status">Solver status.</param>
+/// <param name="TotalCost">Cost of the plan.</param>
+/// <param name="ChoicesBeforePruning">(candidate, unit, window, level) choices before pruning.</param>
+/// <param name="ChoicesAfterPruning">Choices the solver saw.</param>
+public sealed record PlanSummary(
+    int Candidates,
+    int Assigned,
+    double ExpectedCorrectIdentifications,
+    double ExpectedInformationBits,
+    double Objective,
+    double? Bound,
+    double? Gap,
+    PlanStatus Status,
+    double TotalCost,
+    int ChoicesBeforePruning,
+    int ChoicesAfterPruning);

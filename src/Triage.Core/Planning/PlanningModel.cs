@@ -1,0 +1,172 @@
+// The problem on a time grid of Δ seconds, with pairs that can never be worth it removed:
+//   a choice (option o, level ℓ) occupies d = ⌈duration/Δ⌉ ticks and may start at tick
+//   t ∈ [⌈from/Δ⌉, ⌊to/Δ⌋ − d], so the whole observation lies inside the option's window;
+//   net value v − price·cost must be positive and d·Δ ≤ the unit's budget;
+//   on one option a level is kept only if it is worth more than every shorter level
+//   (dominated levels go), then at most L levels (the most valuable and the densest);
+//   per candidate only the units of its best K choices by value and by value per second stay.
+// Rounding durations up and starts inward makes every grid solution feasible in real time.
+namespace Triage.Core.Planning;
+
+/// <summary>Settings of the time grid and of pruning.</summary>
+public sealed record PlanningSettings
+{
+    /// <summary>Start-time grid Δ, s. Default 120 (2 minutes): finer grids cost solver time for little value.</summary>
+    public double StepSeconds { get; init; } = 120;
+
+    /// <summary>Units kept per candidate ranked by the best net value there. Default 2.</summary>
+    public int UnitsKeptByValue { get; init; } = 2;
+
+    /// <summary>Units kept per candidate ranked by net value per second there (the cheap, quick units). Default 2.</summary>
+    public int UnitsKeptByDensity { get; init; } = 2;
+
+    /// <summary>Exposure levels kept per option after removing dominated ones. Default 2.</summary>
+    public int LevelsKeptPerOption { get; init; } = 2;
+}
+
+/// <summary>One surviving (option, level) pair on the grid.</summary>
+/// <param name="Option">Index into <see cref="PlanningProblem.Options"/>.</param>
+/// <param name="Level">Index into that option's levels.</param>
+/// <param name="Candidate">Candidate index.</param>
+/// <param name="Unit">Unit index.</param>
+/// <param name="DurationTicks">Ticks occupied (duration rounded up).</param>
+/// <param name="EarliestTick">First allowed start tick.</param>
+/// <param name="LatestTick">Last allowed start tick (≥ earliest).</param>
+/// <param name="NetValue">Value − price × cost.</param>
+/// <param name="Cost">Cost of the ticks occupied.</param>
+public readonly record struct Choice(
+    int Option,
+    int Level,
+    int Candidate,
+    int Unit,
+    int DurationTicks,
+    long EarliestTick,
+    long LatestTick,
+    double NetValue,
+    double Cost);
+
+/// <summary>A chosen observation: a choice and its start tick.</summary>
+public readonly record struct PlacedChoice(int ChoiceIndex, long StartTick);
+
+/// <summary>The pruned, discretised problem shared by the heuristic and the solver.</summary>
+public sealed class PlanningModel
+{
+    private PlanningModel(PlanningProblem problem, PlanningSettings settings, Choice[] choices, long[] budgetTicks, int before)
+    {
+        Problem = problem;
+        Settings = settings;
+        Choices = choices;
+        BudgetTicks = budgetTicks;
+        ChoicesBeforePruning = before;
+    }
+
+    /// <summary>The problem compiled.</summary>
+    public PlanningProblem Problem { get; }
+
+    /// <summary>The grid and pruning settings.</summary>
+    public PlanningSettings Settings { get; }
+
+    /// <summary>Surviving choices.</summary>
+    public IReadOnlyList<Choice> Choices { get; }
+
+    /// <summary>Per unit, the budget in whole ticks.</summary>
+    public IReadOnlyList<long> BudgetTicks { get; }
+
+    /// <summary>How many (option, level) pairs there were before pruning.</summary>
+    public int ChoicesBeforePruning { get; }
+
+    /// <summary>Grid step Δ, s.</summary>
+    public double StepSeconds => Settings.StepSeconds;
+
+    /// <summary>Compiles and prunes a problem.</summary>
+    /// <exception cref="ArgumentException">The problem or settings are invalid.</exception>
+    public static PlanningModel Compile(PlanningProblem problem, PlanningSettings? settings = null)
+    {
+        ArgumentNullException.ThrowIfNull(problem);
+        settings ??= new PlanningSettings();
+        if (!(settings.StepSeconds > 0) || settings.UnitsKeptByValue < 1 || settings.UnitsKeptByDensity < 0 || settings.LevelsKeptPerOption < 1)
+        {
+            throw new ArgumentException("StepSeconds must be > 0, UnitsKeptByValue and LevelsKeptPerOption ≥ 1.", nameof(settings));
+        }
+
+        problem.Validate();
+        var step = settings.StepSeconds;
+        var budgetTicks = problem.Units.Select(u => (long)Math.Floor(u.BudgetSeconds / step + 1e-9)).ToArray();
+        var before = 0;
+        var perCandidate = new List<Choice>[problem.Candidates.Count];
+        for (var o = 0; o < problem.Options.Count; o++)
+        {
+            var option = problem.Options[o];
+            before += option.Levels.Count;
+            var earliest = (long)Math.Ceiling(option.Window.FromSeconds / step - 1e-9);
+            var windowEndTick = (long)Math.Floor(option.Window.ToSeconds / step + 1e-9);
+            var kept = new List<Choice>();
+            foreach (var l in Enumerable.Range(0, option.Levels.Count).OrderBy(l => option.Levels[l].DurationSeconds).ThenByDescending(l => option.Levels[l].Value))
+            {
+                var level = option.Levels[l];
+                var ticks = (int)Math.Ceiling(level.DurationSeconds / step - 1e-9);
+                var latest = windowEndTick - ticks;
+                var net = problem.NetValue(option, level);
+                if (latest < earliest || net <= 0 || ticks > budgetTicks[option.Unit] || (kept.Count > 0 && net <= kept[^1].NetValue))
+                {
+                    continue;
+                }
+
+                kept.Add(new Choice(o, l, option.Candidate, option.Unit, ticks, earliest, latest, net, problem.Cost(option.Unit, ticks * step)));
+            }
+
+            if (kept.Count > settings.LevelsKeptPerOption)
+            {
+                // The most valuable level, then the densest, then the next most valuable.
+                var selected = new HashSet<int> { kept.Count - 1 };
+                if (settings.LevelsKeptPerOption >= 2)
+                {
+                    selected.Add(Enumerable.Range(0, kept.Count).MaxBy(i => kept[i].NetValue / kept[i].DurationTicks));
+                }
+
+                for (var i = kept.Count - 2; i >= 0 && selected.Count < settings.LevelsKeptPerOption; i--)
+                {
+                    selected.Add(i);
+                }
+
+                kept = kept.Where((_, i) => selected.Contains(i)).ToList();
+            }
+
+            (perCandidate[option.Candidate] ??= []).AddRange(kept);
+        }
+
+        var choices = new List<Choice>();
+        foreach (var list in perCandidate)
+        {
+            if (list is null || list.Count == 0)
+            {
+                continue;
+            }
+
+            var byUnit = list.GroupBy(c => c.Unit).Select(g => (Unit: g.Key, Best: g.Max(c => c.NetValue), Density: g.Max(c => c.NetValue / c.DurationTicks))).ToList();
+            var keepUnits = byUnit.OrderByDescending(u => u.Best).ThenBy(u => u.Unit).Take(settings.UnitsKeptByValue)
+                .Concat(byUnit.OrderByDescending(u => u.Density).ThenBy(u => u.Unit).Take(settings.UnitsKeptByDensity))
+                .Select(u => u.Unit).ToHashSet();
+            choices.AddRange(list.Where(c => keepUnits.Contains(c.Unit)));
+        }
+
+        return new PlanningModel(problem, settings, choices.ToArray(), budgetTicks, before);
+    }
+
+    /// <summary>Net value of a set of placed choices.</summary>
+    public double ObjectiveOf(IEnumerable<PlacedChoice> placed) => placed.Sum(p => Choices[p.ChoiceIndex].NetValue);
+
+    /// <summary>Converts placed choices into planned observations in real time.</summary>
+    public IReadOnlyList<PlannedObservation> ToObservations(IEnumerable<PlacedChoice> placed)
+        => placed.Select(p =>
+        {
+            var c = Choices[p.ChoiceIndex];
+            return new PlannedObservation(c.Option, c.Level, p.StartTick * StepSeconds);
+        }).OrderBy(o => Problem.Options[o.Option].Unit).ThenBy(o => o.StartSeconds).ToArray();
+}
+
+/// <summary>An observation in a plan: which option and level, starting when.</summary>
+/// <param name="Option">Index into <see cref="PlanningProblem.Options"/>.</param>
+/// <param name="Level">Index into the option's levels.</param>
+/// <param name="StartSeconds">Start, s from the problem's epoch.</param>
+public readonly record struct PlannedObservation(int Option, int Level, double StartSeconds);

@@ -1,0 +1,215 @@
+// The night plan as a CP-SAT model [1, 2]: for every surviving choice j (candidate, unit,
+// window, exposure level) a literal pⱼ and an optional interval [sⱼ, sⱼ + dⱼ) with
+// sⱼ ∈ [earliestⱼ, latestⱼ] on a grid of Δ seconds;
+//   Σ_{j∈c} pⱼ ≤ 1 (each candidate),  NoOverlap{intervals of unit u},  Σ_{j∈u} dⱼ pⱼ ≤ budgetᵤ,
+//   Σⱼ ⌈costⱼ⌉ pⱼ ≤ cap,   maximise Σⱼ round(S·(vⱼ − price·costⱼ)) pⱼ.
+// Warm start: the best greedy plan (density, value, and priced by the LP duals of
+// CapacityRelaxation). Bound reported: the LP relaxation over all units (and the solver's own
+// bound when pruning dropped nothing), so the gap is honest about pruning too.
+//
+// References
+// [1] L. Perron, F. Didier, CP-SAT, Google OR-Tools (2024), "Scheduling" and "Solution hinting" chapters of the guide.
+// [2] P. Baptiste, C. Le Pape, W. Nuijten, Constraint-Based Scheduling, Kluwer 2001, ch. 2 (disjunctive resource).
+using System.Diagnostics;
+using System.Globalization;
+using Google.OrTools.Sat;
+using Triage.Core.Planning;
+
+namespace Triage.Scheduling;
+
+/// <summary>Settings of the solver run.</summary>
+public sealed record SolverSettings
+{
+    /// <summary>Wall-clock limit for the whole solve (relaxation, heuristic and CP-SAT), s. Default 4.</summary>
+    public double TimeLimitSeconds { get; init; } = 4;
+
+    /// <summary>CP-SAT search workers. Default 2 (the machine's cores).</summary>
+    public int Workers { get; init; } = 2;
+
+    /// <summary>
+    /// Reproducible run: one worker, fixed seed and a deterministic-time limit instead of wall time,
+    /// so the same input always gives the same plan. Default false.
+    /// </summary>
+    public bool Deterministic { get; init; }
+
+    /// <summary>Deterministic-time limit used when <see cref="Deterministic"/> is set (solver units ≈ s). Default 5.</summary>
+    public double DeterministicTimeLimit { get; init; } = 5;
+
+    /// <summary>Random seed of the search. Default 17.</summary>
+    public int Seed { get; init; } = 17;
+
+    /// <summary>Skip CP-SAT and return the greedy plan (baseline). Default false.</summary>
+    public bool HeuristicOnly { get; init; }
+
+    /// <summary>Time grid and pruning.</summary>
+    public PlanningSettings Planning { get; init; } = new();
+}
+
+/// <summary>Plans a night: LP bound, greedy warm start, CP-SAT, independent validation.</summary>
+public static class NightPlanner
+{
+    private const double ValueScale = 1e6;
+    private const double CostScale = 1e4;
+
+    /// <summary>Solves <paramref name="problem"/> and returns the raw outcome (see <see cref="PlanReport"/> to explain it).</summary>
+    /// <exception cref="ArgumentException">The problem or settings are invalid.</exception>
+    public static PlanOutcome Solve(PlanningProblem problem, SolverSettings? settings = null, CancellationToken cancellationToken = default)
+    {
+        ArgumentNullException.ThrowIfNull(problem);
+        settings ??= new SolverSettings();
+        if (!(settings.TimeLimitSeconds > 0) || settings.Workers < 1)
+        {
+            throw new ArgumentException("TimeLimitSeconds must be > 0 and Workers ≥ 1.", nameof(settings));
+        }
+
+        var clock = Stopwatch.StartNew();
+        var notes = new List<string>();
+        var full = PlanningModel.Compile(problem, settings.Planning with
+        {
+            UnitsKeptByValue = int.MaxValue,
+            UnitsKeptByDensity = 0,
+            LevelsKeptPerOption = int.MaxValue,
+        });
+        var model = PlanningModel.Compile(problem, settings.Planning);
+        if (model.Choices.Count == 0)
+        {
+            return new PlanOutcome([], PlanStatus.Empty, 0, 0, new double?[problem.Units.Count], model.ChoicesBeforePruning, 0, notes);
+        }
+
+        var relaxation = CapacityRelaxation.Solve(full);
+        if (!relaxation.Solved)
+        {
+            notes.Add("The LP relaxation did not solve; the bound is the sum of each candidate's best value.");
+        }
+
+        var prices = relaxation.MarginalValuePerHour.Select(v => v / 3600.0 * model.StepSeconds).ToArray();
+        var greedy = GreedyPlanner.SolveBest(model, prices);
+        var greedyValue = model.ObjectiveOf(greedy);
+        IReadOnlyList<PlacedChoice> best = greedy;
+        var status = PlanStatus.Heuristic;
+        double? bound = relaxation.Bound;
+
+        var remaining = settings.TimeLimitSeconds - clock.Elapsed.TotalSeconds;
+        if (!settings.HeuristicOnly && !cancellationToken.IsCancellationRequested && (remaining > 0.05 || settings.Deterministic))
+        {
+            var (placed, cpStatus, cpBound) = RunCpSat(model, greedy, settings, remaining, cancellationToken);
+            if (placed is not null && model.ObjectiveOf(placed) >= greedyValue - 1e-9)
+            {
+                best = placed;
+                status = cpStatus == CpSolverStatus.Optimal ? PlanStatus.Optimal : PlanStatus.Feasible;
+            }
+
+            if (cpBound is { } cb && model.Choices.Count == full.Choices.Count)
+            {
+                bound = Math.Min(bound ?? double.PositiveInfinity, cb);
+            }
+        }
+
+        var observations = model.ToObservations(best);
+        var violations = PlanValidator.Violations(problem, observations);
+        if (violations.Count > 0)
+        {
+            // Never hand out a plan that breaks a hard rule: fall back to the greedy plan, which is checked again.
+            notes.AddRange(violations.Select(v => "Rejected solver plan: " + v));
+            observations = model.ToObservations(greedy);
+            status = PlanStatus.Heuristic;
+            var greedyViolations = PlanValidator.Violations(problem, observations);
+            if (greedyViolations.Count > 0)
+            {
+                notes.AddRange(greedyViolations.Select(v => "Rejected heuristic plan: " + v));
+                observations = [];
+                status = PlanStatus.Empty;
+            }
+        }
+
+        var objective = observations.Sum(o => problem.NetValue(problem.Options[o.Option], problem.Options[o.Option].Levels[o.Level]));
+        if (bound is { } b && objective > b)
+        {
+            bound = objective;
+        }
+
+        if (status == PlanStatus.Optimal && bound is { } ob && ob - objective > 1e-6 * Math.Max(1, ob))
+        {
+            notes.Add(string.Create(CultureInfo.InvariantCulture,
+                $"CP-SAT proved the pruned model optimal; the bound {ob:F3} covers every unit and the continuous relaxation."));
+        }
+
+        return new PlanOutcome(observations, status, objective, bound,
+            relaxation.MarginalValuePerHour.Select(v => (double?)v).ToArray(), full.ChoicesBeforePruning, model.Choices.Count, notes);
+    }
+
+    private static (IReadOnlyList<PlacedChoice>? Placed, CpSolverStatus Status, double? Bound) RunCpSat(
+        PlanningModel model, IReadOnlyList<PlacedChoice> hint, SolverSettings settings, double remainingSeconds, CancellationToken cancellationToken)
+    {
+        var problem = model.Problem;
+        var choices = model.Choices;
+        var cp = new CpModel();
+        var present = new BoolVar[choices.Count];
+        var starts = new IntVar[choices.Count];
+        var intervals = new IntervalVar[choices.Count];
+        for (var j = 0; j < choices.Count; j++)
+        {
+            var c = choices[j];
+            present[j] = cp.NewBoolVar(string.Empty);
+            starts[j] = cp.NewIntVar(c.EarliestTick, c.LatestTick, string.Empty);
+            intervals[j] = cp.NewOptionalFixedSizeIntervalVar(starts[j], c.DurationTicks, present[j], string.Empty);
+        }
+
+        foreach (var group in Enumerable.Range(0, choices.Count).GroupBy(j => choices[j].Candidate))
+        {
+            if (group.Count() > 1)
+            {
+                cp.AddAtMostOne(group.Select(j => (ILiteral)present[j]));
+            }
+        }
+
+        foreach (var group in Enumerable.Range(0, choices.Count).GroupBy(j => choices[j].Unit))
+        {
+            var members = group.ToArray();
+            cp.AddNoOverlap(members.Select(j => intervals[j]));
+            if (members.Sum(j => (long)choices[j].DurationTicks) > model.BudgetTicks[group.Key])
+            {
+                cp.Add(LinearExpr.WeightedSum(members.Select(j => present[j]), members.Select(j => (long)choices[j].DurationTicks)) <= model.BudgetTicks[group.Key]);
+            }
+        }
+
+        if (problem.NetworkCostCap is { } cap)
+        {
+            cp.Add(LinearExpr.WeightedSum(present, choices.Select(c => (long)Math.Ceiling(c.Cost * CostScale))) <= (long)Math.Floor(cap * CostScale));
+        }
+
+        cp.Maximize(LinearExpr.WeightedSum(present, choices.Select(c => (long)Math.Round(c.NetValue * ValueScale))));
+
+        var hinted = hint.ToDictionary(h => h.ChoiceIndex, h => h.StartTick);
+        for (var j = 0; j < choices.Count; j++)
+        {
+            var on = hinted.TryGetValue(j, out var start);
+            cp.AddHint(present[j], on);
+            cp.AddHint(starts[j], on ? start : choices[j].EarliestTick);
+        }
+
+        var parameters = settings.Deterministic
+            ? string.Create(CultureInfo.InvariantCulture, $"num_workers:1 random_seed:{settings.Seed} max_deterministic_time:{settings.DeterministicTimeLimit}")
+            : string.Create(CultureInfo.InvariantCulture, $"num_workers:{settings.Workers} random_seed:{settings.Seed} max_time_in_seconds:{Math.Max(0.05, remainingSeconds):F3}");
+        var solver = new CpSolver { StringParameters = parameters };
+        using var registration = cancellationToken.Register(solver.StopSearch);
+        var status = solver.Solve(cp);
+        if (status is not (CpSolverStatus.Optimal or CpSolverStatus.Feasible))
+        {
+            return (null, status, null);
+        }
+
+        var placed = new List<PlacedChoice>();
+        for (var j = 0; j < choices.Count; j++)
+        {
+            if (solver.BooleanValue(present[j]))
+            {
+                placed.Add(new PlacedChoice(j, solver.Value(starts[j])));
+            }
+        }
+
+        // Coefficients were rounded to 1/S; widen the bound by the worst rounding of the chosen count.
+        var bound = solver.BestObjectiveBound / ValueScale + 0.5 * problem.Candidates.Count / ValueScale;
+        return (placed, status, bound);
+    }
+}
