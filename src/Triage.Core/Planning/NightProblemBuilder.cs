@@ -1,0 +1,353 @@
+// From roster, candidates, calibration and night to the planning problem:
+//   units: available spectrographs at open sites, available = dark window ∩ [now, ∞), shrunk by a margin;
+//   windows: the target's visibility windows (altitude, airmass, Sun, Moon, darkness) ∩ availability,
+//            shrunk by the margin and cut into chunks of at most a few hours;
+//   per chunk and S/N level n on the calibration axis: exposure t(n) from the CCD equation at the
+//            chunk's worst airmass, the Moon at its middle and the magnitude m + k·σ_m (so n is
+//            reached with margin), duration = t + overhead; value = w·A or w·I from the accuracy
+//            surface at (R, n, phase belief at the chunk's middle).
+// The final safety check re-evaluates every planned minute with the exact sky functions.
+using System.Globalization;
+using Triage.Core.Exposure;
+using Triage.Core.Roster;
+using Triage.Core.Sky;
+
+namespace Triage.Core.Planning;
+
+/// <summary>Settings of the problem builder.</summary>
+public sealed record NightBuildSettings
+{
+    /// <summary>What the plan maximises. Default accuracy.</summary>
+    public PlanObjective Objective { get; init; } = PlanObjective.Accuracy;
+
+    /// <summary>Night model settings (twilight depth etc.). Default: astronomical twilight (18°).</summary>
+    public NightOptions Night { get; init; } = new();
+
+    /// <summary>Visibility windows are shrunk by this much at each end, s. Default 60: a safety margin against rounding of the crossing times.</summary>
+    public double WindowMarginSeconds { get; init; } = 60;
+
+    /// <summary>Longest chunk a window is cut into, h. Default 3: exposures are computed at the chunk's worst airmass.</summary>
+    public double ChunkHours { get; init; } = 3;
+
+    /// <summary>Plan for magnitude + k·σ so the S/N is reached with margin. Default k = 1.</summary>
+    public double MagnitudeSigmaMargin { get; init; } = 1;
+
+    /// <summary>Longest total integration of one observation, s. Default 7,200 (2 h).</summary>
+    public double MaxObservationSeconds { get; init; } = 7200;
+
+    /// <summary>Value given up per unit of cost. Default 0.</summary>
+    public double PricePerCostUnit { get; init; }
+
+    /// <summary>Network cost cap for the night. Default none.</summary>
+    public double? NetworkCostCap { get; init; }
+}
+
+/// <summary>The problem built for one night, with what the safety check and the report need.</summary>
+public sealed class PlanningNight
+{
+    private readonly Dictionary<Guid, NightModel> _nights;
+    private readonly (Site Site, Spectrograph Spectrograph)[] _unitRoster;
+    private readonly ITargetForecast[] _targets;
+
+    internal PlanningNight(PlanningProblem problem, Dictionary<Guid, NightModel> nights, (Site, Spectrograph)[] unitRoster, ITargetForecast[] targets, List<string> notes)
+    {
+        Problem = problem;
+        _nights = nights;
+        _unitRoster = unitRoster;
+        _targets = targets;
+        Notes = notes;
+    }
+
+    /// <summary>The problem in solver terms.</summary>
+    public PlanningProblem Problem { get; }
+
+    /// <summary>Diagnostics of the build (closed sites, polar nights, calibration gaps, clamped values).</summary>
+    public IReadOnlyList<string> Notes { get; }
+
+    /// <summary>Airmass of an option's target at <paramref name="seconds"/> from the epoch.</summary>
+    public double AirmassAt(int option, double seconds)
+    {
+        var o = Problem.Options[option];
+        var night = _nights[_unitRoster[o.Unit].Site.Id];
+        return night.Airmass(_targets[o.Candidate].Position, Problem.EpochUtc.AddSeconds(seconds)) ?? double.PositiveInfinity;
+    }
+
+    /// <summary>
+    /// Independent final check of every observation against its site's Sun avoidance, altitude and
+    /// airmass limits, Moon avoidance and dark window, sampled every <paramref name="sampleSeconds"/>
+    /// and at both ends with the exact sky functions (not the precomputed windows).
+    /// </summary>
+    /// <returns>Candidate index → reason, for every observation that breaks a limit.</returns>
+    public IReadOnlyDictionary<int, string> SafetyViolations(IReadOnlyList<PlannedObservation> observations, double sampleSeconds = 60)
+    {
+        var violations = new Dictionary<int, string>();
+        foreach (var obs in observations)
+        {
+            var option = Problem.Options[obs.Option];
+            var (site, spectrograph) = _unitRoster[option.Unit];
+            var night = _nights[site.Id];
+            var target = _targets[option.Candidate].Position;
+            var altitudeLimit = night.AltitudeLimitDeg(spectrograph.MaxAirmass);
+            var start = Problem.EpochUtc.AddSeconds(obs.StartSeconds);
+            var end = start.AddSeconds(option.Levels[obs.Level].DurationSeconds);
+            var dark = night.DarkWindow.Window;
+            string? why = null;
+            if (dark is not { } d || start < d.StartUtc || end > d.EndUtc)
+            {
+                why = "outside the site's dark window";
+            }
+
+            for (var t = start; why is null; t = t.AddSeconds(sampleSeconds))
+            {
+                if (t > end)
+                {
+                    t = end;
+                }
+
+                var inv = CultureInfo.InvariantCulture;
+                var altitude = night.AltitudeDeg(target, t);
+                var sunSeparation = night.SunSeparationDeg(target, t);
+                var sunAltitude = night.SunAltitudeDeg(t);
+                if (altitude < altitudeLimit)
+                {
+                    why = string.Create(inv, $"altitude {altitude:F2}° below the limit {altitudeLimit:F2}° at {t:HH:mm:ss}Z");
+                }
+                else if (sunSeparation < site.SunAvoidanceDeg)
+                {
+                    why = string.Create(inv, $"{sunSeparation:F1}° from the Sun, inside the avoidance angle {site.SunAvoidanceDeg:F1}° at {t:HH:mm:ss}Z");
+                }
+                else if (sunAltitude > -night.Options.TwilightDepthDeg)
+                {
+                    why = string.Create(inv, $"Sun at {sunAltitude:F2}°, above −{night.Options.TwilightDepthDeg:F0}° at {t:HH:mm:ss}Z");
+                }
+                else if ((!night.Options.MoonAvoidanceOnlyWhenMoonUp || night.MoonHorizontal(t).AltitudeDeg > 0)
+                         && night.MoonSeparationDeg(target, t) < site.MoonAvoidanceDeg)
+                {
+                    why = string.Create(inv, $"inside the Moon-avoidance angle {site.MoonAvoidanceDeg:F1}° at {t:HH:mm:ss}Z");
+                }
+
+                if (t == end)
+                {
+                    break;
+                }
+            }
+
+            if (why is not null)
+            {
+                violations[option.Candidate] = $"Removed by the final safety check on {spectrograph.Name}: {why}.";
+            }
+        }
+
+        return violations;
+    }
+}
+
+/// <summary>Builds the night's planning problem from the roster, candidates and calibration.</summary>
+public static class NightProblemBuilder
+{
+    /// <summary>Builds the problem for the night starting on the local evening of <paramref name="night"/>.</summary>
+    /// <param name="sites">Sites of the network.</param>
+    /// <param name="spectrographs">Spectrographs (those at closed sites or not available are skipped).</param>
+    /// <param name="targets">Candidates with their forecasts.</param>
+    /// <param name="surface">The active calibration as an accuracy surface.</param>
+    /// <param name="night">Local date of the evening the night starts.</param>
+    /// <param name="nowUtc">Nothing is planned before this instant (replanning during the night).</param>
+    /// <param name="settings">Builder settings.</param>
+    /// <exception cref="ArgumentException">Duplicate ids, or a spectrograph at an unknown site.</exception>
+    public static PlanningNight Build(
+        IReadOnlyList<Site> sites,
+        IReadOnlyList<Spectrograph> spectrographs,
+        IReadOnlyList<ITargetForecast> targets,
+        AccuracySurface surface,
+        DateOnly night,
+        DateTimeOffset nowUtc,
+        NightBuildSettings? settings = null)
+    {
+        ArgumentNullException.ThrowIfNull(sites);
+        ArgumentNullException.ThrowIfNull(spectrographs);
+        ArgumentNullException.ThrowIfNull(targets);
+        ArgumentNullException.ThrowIfNull(surface);
+        settings ??= new NightBuildSettings();
+        var inv = CultureInfo.InvariantCulture;
+        var notes = new List<string>(surface.Notes);
+        var siteById = sites.ToDictionary(s => s.Id);
+        if (targets.Select(t => t.Id).Distinct(StringComparer.Ordinal).Count() != targets.Count)
+        {
+            throw new ArgumentException("Candidate ids must be unique.", nameof(targets));
+        }
+
+        var nights = new Dictionary<Guid, NightModel>();
+        var roster = new List<(Site Site, Spectrograph Spectrograph, SecondsWindow Available)>();
+        var margin = settings.WindowMarginSeconds;
+        foreach (var sg in spectrographs)
+        {
+            if (!siteById.TryGetValue(sg.SiteId, out var site))
+            {
+                throw new ArgumentException($"Spectrograph '{sg.Name}' refers to unknown site {sg.SiteId}.", nameof(spectrographs));
+            }
+
+            if (site.Status != SiteStatus.Open || sg.Status != SpectrographStatus.Available)
+            {
+                continue;
+            }
+
+            if (!nights.TryGetValue(site.Id, out var model))
+            {
+                model = NightModel.For(site, night, settings.Night);
+                nights[site.Id] = model;
+                if (model.DarkWindow.Window is null)
+                {
+                    notes.Add($"Site '{site.Name}' has no dark time on {night:yyyy-MM-dd} at {settings.Night.TwilightDepthDeg}° twilight.");
+                }
+            }
+
+            roster.Add((site, sg, default));
+        }
+
+        var darkStarts = nights.Values.Where(n => n.DarkWindow.Window is not null).Select(n => n.DarkWindow.Window!.Value.StartUtc).ToList();
+        var epoch = darkStarts.Count > 0 ? darkStarts.Min() : nowUtc;
+        if (nowUtc > epoch)
+        {
+            epoch = nowUtc;
+        }
+
+        double Seconds(DateTimeOffset t) => (t - epoch).TotalSeconds;
+        var units = new List<PlanningUnit>();
+        var unitRoster = new List<(Site, Spectrograph)>();
+        foreach (var (site, sg, _) in roster)
+        {
+            var dark = nights[site.Id].DarkWindow.Window;
+            if (dark is not { } d)
+            {
+                continue;
+            }
+
+            var available = new SecondsWindow(Math.Max(Seconds(d.StartUtc), Seconds(nowUtc)) + margin, Seconds(d.EndUtc) - margin);
+            if (available.LengthSeconds <= 0)
+            {
+                continue;
+            }
+
+            units.Add(new PlanningUnit(sg.Id.ToString(), sg.Name, site.Name, sg.ResolvingPower, available,
+                Math.Max(0, sg.NightlyBudgetHours * 3600), sg.CostPerHour));
+            unitRoster.Add((site, sg));
+        }
+
+        var slices = unitRoster.Select(u => surface.AtResolution(u.Item2.ResolvingPower)).ToArray();
+        foreach (var (slice, (_, sg)) in slices.Zip(unitRoster).Where(x => x.First.ResolutionClamped))
+        {
+            notes.Add(string.Create(inv, $"Spectrograph '{sg.Name}' has R={sg.ResolvingPower:F0}, outside the calibrated R range {surface.Resolutions[0]:F0}–{surface.Resolutions[^1]:F0}; the edge of the grid is used."));
+        }
+
+        var calculators = unitRoster.Select(u => ExposureCalculator.For(u.Item2, u.Item1)).ToArray();
+        var candidates = new List<PlanningCandidate>();
+        var options = new List<PlanOption>();
+        var clampedCandidates = 0;
+        var snrLevels = surface.SnrAxis;
+        for (var c = 0; c < targets.Count; c++)
+        {
+            var target = targets[c];
+            var prior = surface.AlignPrior(target.SubtypePrior);
+            var anyVisible = false;
+            var anyLevel = false;
+            var clamped = false;
+            var visibilityCache = new Dictionary<(Guid, double), TargetVisibility>();
+            var moonCache = new Dictionary<(Guid, DateTimeOffset), MoonlightGeometry>();
+            for (var u = 0; u < units.Count; u++)
+            {
+                var (site, sg) = unitRoster[u];
+                var nightModel = nights[site.Id];
+                if (!visibilityCache.TryGetValue((site.Id, sg.MaxAirmass), out var visibility))
+                {
+                    visibility = nightModel.VisibilityWindows(target.Position, sg.MaxAirmass);
+                    visibilityCache[(site.Id, sg.MaxAirmass)] = visibility;
+                }
+
+                foreach (var w in visibility.Windows)
+                {
+                    var window = new SecondsWindow(Seconds(w.StartUtc) + margin, Seconds(w.EndUtc) - margin).Intersect(units[u].Available);
+                    if (window.LengthSeconds <= 0)
+                    {
+                        continue;
+                    }
+
+                    anyVisible = true;
+                    var chunks = Math.Max(1, (int)Math.Ceiling(window.LengthSeconds / (settings.ChunkHours * 3600)));
+                    var chunkLength = window.LengthSeconds / chunks;
+                    for (var k = 0; k < chunks; k++)
+                    {
+                        var chunk = new SecondsWindow(window.FromSeconds + k * chunkLength, window.FromSeconds + (k + 1) * chunkLength);
+                        var from = epoch.AddSeconds(chunk.FromSeconds);
+                        var mid = epoch.AddSeconds((chunk.FromSeconds + chunk.ToSeconds) / 2);
+                        var to = epoch.AddSeconds(chunk.ToSeconds);
+                        var worstAirmass = Math.Max(
+                            nightModel.Airmass(target.Position, from) ?? double.PositiveInfinity,
+                            Math.Max(nightModel.Airmass(target.Position, mid) ?? double.PositiveInfinity, nightModel.Airmass(target.Position, to) ?? double.PositiveInfinity));
+                        if (!double.IsFinite(worstAirmass))
+                        {
+                            continue;
+                        }
+
+                        if (!moonCache.TryGetValue((site.Id, mid), out var moon))
+                        {
+                            moon = nightModel.Moonlight(target.Position, mid);
+                            moonCache[(site.Id, mid)] = moon;
+                        }
+
+                        var magnitude = target.MagnitudeAt(mid);
+                        var planningMagnitude = magnitude.MagnitudeAB + settings.MagnitudeSigmaMargin * magnitude.SigmaMag;
+                        var phase = target.PhaseAt(mid);
+                        var conditions = new ObservingConditions
+                        {
+                            Airmass = worstAirmass,
+                            Moon = moon,
+                            MaxTotalSeconds = Math.Max(1, Math.Min(settings.MaxObservationSeconds, chunk.LengthSeconds - sg.OverheadSeconds)),
+                        };
+                        var levels = new List<ExposureLevel>();
+                        foreach (var snr in snrLevels)
+                        {
+                            if (conditions.MaxTotalSeconds <= 1)
+                            {
+                                break;
+                            }
+
+                            var estimate = calculators[u].TimeFor(planningMagnitude, snr, conditions);
+                            if (!estimate.Reachable || estimate.ElapsedSeconds > chunk.LengthSeconds)
+                            {
+                                break;
+                            }
+
+                            var value = slices[u].Evaluate(prior, snr, phase);
+                            clamped |= value.Clamped && !slices[u].ResolutionClamped;
+                            var unweighted = settings.Objective == PlanObjective.Accuracy ? value.ExpectedAccuracy : value.InformationBits;
+                            levels.Add(new ExposureLevel(snr, estimate.ExposureSeconds, estimate.ElapsedSeconds, value.ExpectedAccuracy,
+                                value.InformationBits, target.ScienceWeight * unweighted));
+                        }
+
+                        if (levels.Count > 0)
+                        {
+                            anyLevel = true;
+                            options.Add(new PlanOption(c, u, chunk, levels, worstAirmass, magnitude.MagnitudeAB, clamped));
+                        }
+                    }
+                }
+            }
+
+            if (clamped)
+            {
+                clampedCandidates++;
+            }
+
+            candidates.Add(new PlanningCandidate(target.Id, target.ScienceWeight,
+                anyLevel ? CandidateStanding.Plannable : anyVisible ? CandidateStanding.TooFaint : CandidateStanding.NeverVisible));
+        }
+
+        if (clampedCandidates > 0)
+        {
+            notes.Add($"{clampedCandidates} candidates had a phase or S/N outside the calibration grid; the grid's edge values were used for them.");
+        }
+
+        var problem = new PlanningProblem(epoch, units, candidates, options, settings.Objective, settings.PricePerCostUnit, settings.NetworkCostCap);
+        return new PlanningNight(problem, nights, unitRoster.ToArray(), targets.ToArray(), notes);
+    }
+}
