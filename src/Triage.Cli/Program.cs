@@ -1,1 +1,15 @@
-﻿Console.WriteLine("Hello, World!");
+using System.CommandLine;
+using Triage.Cli.Verbs;
+
+var root = new RootCommand("triage: plan tonight's spectroscopic follow-up of transient candidates.");
+Command[] verbs =
+[
+    DatabaseVerb.Create(),
+    KeyVerb.Create(),
+    DemoVerb.Create(),
+];
+foreach (var verb in verbs)
+{
+    root.Subcommands.Add(verb);
+}
+return await root.Parse(args).InvokeAsync();
