@@ -1,5 +1,6 @@
 using Triage.Api.Access;
 using Triage.Api.Errors;
+using Triage.Api.Jobs;
 using Triage.Api.Operations;
 using Triage.Api.Roster;
 
@@ -12,6 +13,7 @@ builder.Services.AddOpenApi();
 builder.Services.AddDatabase(builder.Configuration);
 builder.Services.AddAccess(builder.Configuration);
 builder.Services.AddRoster();
+builder.Services.AddJobs(builder.Configuration);
 
 var app = builder.Build();
 app.UseTriageProblems();
@@ -27,6 +29,7 @@ app.UseMiddleware<BodySizeLimitMiddleware>();
 app.MapOperations();
 app.MapKeys();
 app.MapRoster();
+app.MapJobs();
 
 await app.PrepareDatabaseAsync();
 await app.RunAsync();
