@@ -2,6 +2,7 @@ using Triage.Api.Access;
 using Triage.Api.Errors;
 using Triage.Api.Jobs;
 using Triage.Api.Operations;
+using Triage.Api.Plans;
 using Triage.Api.Roster;
 
 var builder = WebApplication.CreateBuilder(args);
@@ -14,6 +15,7 @@ builder.Services.AddDatabase(builder.Configuration);
 builder.Services.AddAccess(builder.Configuration);
 builder.Services.AddRoster();
 builder.Services.AddJobs(builder.Configuration);
+builder.Services.AddPlans();
 
 var app = builder.Build();
 app.UseTriageProblems();
@@ -30,6 +32,7 @@ app.MapOperations();
 app.MapKeys();
 app.MapRoster();
 app.MapJobs();
+app.MapPlans();
 
 await app.PrepareDatabaseAsync();
 await app.RunAsync();

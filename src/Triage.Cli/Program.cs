@@ -9,6 +9,7 @@ Command[] verbs =
     DemoVerb.Create(),
     FitVerb.Create(),
     InventCandidatesVerb.Create(),
+    PlanVerb.Create(),
 ];
 foreach (var verb in verbs)
 {

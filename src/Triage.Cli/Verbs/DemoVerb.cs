@@ -27,30 +27,29 @@ internal static class DemoVerb
                 Console.Error.WriteLine($"--roster: {rosterFile.FullName} not found.");
                 return 2;
             }
-            RosterDocument document;
+            (IReadOnlyList<Site> Sites, IReadOnlyList<Spectrograph> Spectrographs) network;
             try
             {
-                document = RosterJson.Parse(await File.ReadAllTextAsync(rosterFile.FullName, ct));
+                network = RosterJson.Parse(await File.ReadAllTextAsync(rosterFile.FullName, ct));
             }
-            catch (JsonException e)
+            catch (FormatException e)
             {
                 Console.Error.WriteLine($"--roster: {rosterFile.Name}: {e.Message}");
                 return 2;
             }
             await using var data = TriageDataSource.Create(ConnectionOption.Resolve(parse.GetValue(connection)));
-            var (sites, added) = await LoadRosterAsync(new RosterStore(data), document, ct);
+            var (sites, added) = await LoadRosterAsync(new RosterStore(data), network.Sites, network.Spectrographs, ct);
             Console.WriteLine($"Demo roster: {sites} sites, {added} rows added (existing rows kept).");
 
-            var keys = await EnsureKeysAsync(new KeyStore(data), document, parse.GetValue(keysFile)!, ct);
+            var keys = await EnsureKeysAsync(new KeyStore(data), network.Sites, parse.GetValue(keysFile)!, ct);
             Console.WriteLine($"Demo keys: {keys.FullName}");
             return 0;
         });
         return new Command("demo", "The invented demo scenario.") { load };
     }
 
-    private static async Task<(int Sites, int Added)> LoadRosterAsync(RosterStore store, RosterDocument document, CancellationToken ct)
+    private static async Task<(int Sites, int Added)> LoadRosterAsync(RosterStore store, IReadOnlyList<Site> sites, IReadOnlyList<Spectrograph> instruments, CancellationToken ct)
     {
-        var (sites, instruments) = document.ToRecords();
         var now = DateTimeOffset.UtcNow;
         var added = 0;
         foreach (var site in sites)
@@ -71,7 +70,7 @@ internal static class DemoVerb
     }
 
     /// <summary>The demo keys: reused when the file's keys still authenticate, issued afresh otherwise.</summary>
-    private static async Task<FileInfo> EnsureKeysAsync(KeyStore keys, RosterDocument document, FileInfo file, CancellationToken ct)
+    private static async Task<FileInfo> EnsureKeysAsync(KeyStore keys, IReadOnlyList<Site> sites, FileInfo file, CancellationToken ct)
     {
         if (file.Exists)
         {
@@ -93,7 +92,7 @@ internal static class DemoVerb
             ["broker"] = (await keys.IssueAsync("demo broker", [Scope.Broker], null, now, ct)).Secret,
             ["scheduler"] = (await keys.IssueAsync("demo scheduler", [Scope.Scheduler], null, now, ct)).Secret,
         };
-        foreach (var observatory in document.Sites.Select(s => s.Observatory).OfType<string>().Distinct())
+        foreach (var observatory in sites.Select(s => s.Observatory).OfType<string>().Distinct())
         {
             issued[$"observatory: {observatory}"] = (await keys.IssueAsync($"demo {observatory}", [Scope.Observatory], observatory, now, ct)).Secret;
         }

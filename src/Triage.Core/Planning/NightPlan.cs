@@ -50,6 +50,12 @@ public sealed record NightPlan(
     PlanSummary Summary,
     IReadOnlyList<string> Notes)
 {
+    /// <summary>Local date of the evening the night starts (set by the host).</summary>
+    public DateOnly? Night { get; init; }
+
+    /// <summary>When the plan was computed (set by the host; the core never reads the clock).</summary>
+    public DateTimeOffset? GeneratedUtc { get; init; }
+
     /// <summary>The advisory statement every plan carries.</summary>
     public const string AdvisoryStatement =
         "This plan is advisory. It proposes what to observe and when; the observatory's own interlocks, " +

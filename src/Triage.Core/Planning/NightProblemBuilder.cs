@@ -145,6 +145,9 @@ public sealed class PlanningNight
 /// <summary>Builds the night's planning problem from the roster, candidates and calibration.</summary>
 public static class NightProblemBuilder
 {
+    /// <summary>Predicted magnitudes fainter than this (AB) are treated as unobservable by any unit.</summary>
+    public const double MaxPlannableMagnitude = 30;
+
     /// <summary>Builds the problem for the night starting on the local evening of <paramref name="night"/>.</summary>
     /// <param name="sites">Sites of the network.</param>
     /// <param name="spectrographs">Spectrographs (those at closed sites or not available are skipped).</param>
@@ -296,6 +299,12 @@ public static class NightProblemBuilder
 
                         var magnitude = target.MagnitudeAt(mid);
                         var planningMagnitude = magnitude.MagnitudeAB + settings.MagnitudeSigmaMargin * magnitude.SigmaMag;
+                        if (!double.IsFinite(planningMagnitude) || planningMagnitude > MaxPlannableMagnitude)
+                        {
+                            // No usable light curve (or one extrapolated to nothing): the exposure cannot be sized.
+                            continue;
+                        }
+
                         var phase = target.PhaseAt(mid);
                         var conditions = new ObservingConditions
                         {
