@@ -1,4 +1,5 @@
 using Triage.Api.Access;
+using Triage.Api.Candidates;
 using Triage.Api.Errors;
 using Triage.Api.Operations;
 using Triage.Api.Roster;
@@ -12,6 +13,7 @@ builder.Services.AddOpenApi();
 builder.Services.AddDatabase(builder.Configuration);
 builder.Services.AddAccess(builder.Configuration);
 builder.Services.AddRoster();
+builder.Services.AddCandidates(builder.Configuration);
 
 var app = builder.Build();
 app.UseTriageProblems();
@@ -27,6 +29,7 @@ app.UseMiddleware<BodySizeLimitMiddleware>();
 app.MapOperations();
 app.MapKeys();
 app.MapRoster();
+app.MapCandidates();
 
 await app.PrepareDatabaseAsync();
 await app.RunAsync();
