@@ -1,6 +1,7 @@
 using Triage.Api.Access;
 using Triage.Api.Candidates;
 using Triage.Api.Errors;
+using Triage.Api.Jobs;
 using Triage.Api.Operations;
 using Triage.Api.Roster;
 
@@ -14,6 +15,7 @@ builder.Services.AddDatabase(builder.Configuration);
 builder.Services.AddAccess(builder.Configuration);
 builder.Services.AddRoster();
 builder.Services.AddCandidates(builder.Configuration);
+builder.Services.AddJobs(builder.Configuration);
 
 var app = builder.Build();
 app.UseTriageProblems();
@@ -30,6 +32,7 @@ app.MapOperations();
 app.MapKeys();
 app.MapRoster();
 app.MapCandidates();
+app.MapJobs();
 
 await app.PrepareDatabaseAsync();
 await app.RunAsync();

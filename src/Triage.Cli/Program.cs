@@ -1,7 +1,17 @@
 using System.CommandLine;
 using Triage.Cli.Verbs;
 
-var root = new RootCommand("Triage: plan tonight's spectroscopic follow-up of transient candidates.");
-root.Subcommands.Add(FitVerb.Create());
-root.Subcommands.Add(InventCandidatesVerb.Create());
-return root.Parse(args).Invoke();
+var root = new RootCommand("triage: plan tonight's spectroscopic follow-up of transient candidates.");
+Command[] verbs =
+[
+    DatabaseVerb.Create(),
+    KeyVerb.Create(),
+    DemoVerb.Create(),
+    FitVerb.Create(),
+    InventCandidatesVerb.Create(),
+];
+foreach (var verb in verbs)
+{
+    root.Subcommands.Add(verb);
+}
+return await root.Parse(args).InvokeAsync();

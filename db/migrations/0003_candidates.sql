@@ -1,4 +1,4 @@
--- 0002: broker candidates, their photometry, light-curve state, lifecycle and observation reports.
+-- 0003: broker candidates, their photometry, light-curve state, lifecycle and observation reports.
 -- A candidate is identified by (broker, broker_candidate_id): the broker is the posting key's public id.
 -- Photometry is identified by (candidate, band, time to the microsecond). Both keys make intake idempotent.
 
