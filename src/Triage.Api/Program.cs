@@ -1,4 +1,5 @@
 using Triage.Api.Access;
+using Triage.Api.Candidates;
 using Triage.Api.Errors;
 using Triage.Api.Jobs;
 using Triage.Api.Operations;
@@ -14,6 +15,7 @@ builder.Services.AddOpenApi();
 builder.Services.AddDatabase(builder.Configuration);
 builder.Services.AddAccess(builder.Configuration);
 builder.Services.AddRoster();
+builder.Services.AddCandidates(builder.Configuration);
 builder.Services.AddJobs(builder.Configuration);
 builder.Services.AddPlans();
 
@@ -31,6 +33,7 @@ app.UseMiddleware<BodySizeLimitMiddleware>();
 app.MapOperations();
 app.MapKeys();
 app.MapRoster();
+app.MapCandidates();
 app.MapJobs();
 app.MapPlans();
 

@@ -427,6 +427,8 @@ public static partial class BrokerBatchValidator
             F("magAb", "is required (or give fluxMicroJy).");
         }
 
+        // Kept to the microsecond, the resolution of PostgreSQL timestamps, so a point's identity survives storage.
+        time = new DateTimeOffset(time.UtcTicks - time.UtcTicks % 10, TimeSpan.Zero);
         return ok ? new PhotometryPoint(time, ModifiedJulianDate.FromUtc(time), band, flux, fluxErr, upper, s.MagAb, s.MagAbError) : null;
     }
 }

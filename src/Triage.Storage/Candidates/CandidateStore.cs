@@ -1,0 +1,489 @@
+using System.Text.Json;
+using Dapper;
+using Npgsql;
+using NpgsqlTypes;
+using Triage.Core.Candidates;
+
+namespace Triage.Storage.Candidates;
+
+/// <summary>A validated candidate with the hash of the submission it came from.</summary>
+public sealed record CandidateIntake(Candidate Candidate, byte[] ContentHash);
+
+/// <summary>What a batch upsert did.</summary>
+public sealed record IntakeSummary(int Received, int Created, int Updated, int Unchanged, int PhotometryWritten);
+
+/// <summary>Filters for listing candidates; null means "any".</summary>
+/// <param name="State">Lifecycle state.</param>
+/// <param name="ConeRaDeg">Cone centre RA (with <paramref name="ConeDecDeg"/> and <paramref name="ConeRadiusDeg"/>).</param>
+/// <param name="ConeDecDeg">Cone centre Dec.</param>
+/// <param name="ConeRadiusDeg">Cone radius, degrees.</param>
+/// <param name="BrighterThanMagAb">Only candidates predicted brighter (smaller magnitude) than this at <paramref name="At"/>.</param>
+/// <param name="At">Instant of the brightness prediction.</param>
+/// <param name="UpdatedSince">Only candidates changed at or after this instant.</param>
+/// <param name="After">Cursor: only ids after this one.</param>
+/// <param name="Limit">Page size.</param>
+public sealed record CandidateQuery(
+    CandidateState? State, double? ConeRaDeg, double? ConeDecDeg, double? ConeRadiusDeg,
+    double? BrighterThanMagAb, DateTimeOffset At, DateTimeOffset? UpdatedSince, Guid? After, int Limit);
+
+/// <summary>A candidate as listed.</summary>
+public sealed record CandidateListRow(
+    Guid Id, string Broker, string BrokerCandidateId, double RaDeg, double DecDeg, DateTimeOffset DiscoveredAt,
+    double? Redshift, string State, string? ClassifiedLabel, double ScienceWeight,
+    double? PredictedMag, double? PredictedMagRate, DateTimeOffset? FittedAt, bool FitCurrent, DateTimeOffset UpdatedAt);
+
+/// <summary>One lifecycle or intake event.</summary>
+public sealed record CandidateEventRow(DateTimeOffset At, string Kind, string? FromState, string? ToState, string Actor, string? Detail);
+
+/// <summary>One observation report.</summary>
+public sealed record ObservationReportRow(
+    Guid Id, Guid SpectrographId, string Outcome, double? AchievedSnr, string? ClassifiedLabel, DateTimeOffset ObservedAt, DateTimeOffset ReportedAt, string Reporter);
+
+/// <summary>Everything stored about one candidate.</summary>
+public sealed record CandidateDetail(
+    CandidateListRow Summary, Candidate Candidate, int DataVersion, int FitVersion, string? FitJson, string? PriorJson,
+    IReadOnlyList<CandidateEventRow> History, IReadOnlyList<ObservationReportRow> Observations);
+
+/// <summary>A fit computed for a stored candidate.</summary>
+public sealed record StoredFit(Guid Id, int DataVersion, string FitJson, string PriorJson, double? PredictedMag, double? PredictedMagRate, DateTimeOffset FittedAt);
+
+/// <summary>How an observation report ended.</summary>
+public enum ReportOutcome
+{
+    Recorded,
+    UnknownCandidate,
+    RefusedInState,
+}
+
+/// <summary>
+/// Candidates in PostgreSQL. Batch intake copies the batch into temporary staging tables with
+/// binary COPY and merges it with <c>INSERT … SELECT … ON CONFLICT</c> in one transaction, so a
+/// batch is stored whole or not at all and concurrent retries of the same batch never duplicate
+/// a candidate or a photometry point.
+/// </summary>
+public sealed class CandidateStore(NpgsqlDataSource dataSource)
+{
+    private const string CreateStagingSql = """
+        CREATE TEMP TABLE stage_candidates (
+            id uuid, broker_candidate_id text, ra_deg float8, dec_deg float8, ux float8, uy float8, uz float8,
+            discovered_at timestamptz, redshift float8, redshift_error float8, subtype_probabilities jsonb,
+            science_weight float8, notes text, broker_state jsonb, content_hash bytea) ON COMMIT DROP;
+        CREATE TEMP TABLE stage_photometry (
+            broker_candidate_id text, band text, observed_at timestamptz, flux_microjy float8, flux_error_microjy float8,
+            upper_limit boolean, mag_ab float8, mag_ab_error float8) ON COMMIT DROP;
+        """;
+
+    private const string MergeCandidatesSql = """
+        WITH up AS (
+            INSERT INTO candidates (id, broker, broker_candidate_id, ra_deg, dec_deg, ux, uy, uz, discovered_at, redshift,
+                redshift_error, subtype_probabilities, science_weight, notes, broker_state, content_hash, created_at, updated_at)
+            SELECT id, @broker, broker_candidate_id, ra_deg, dec_deg, ux, uy, uz, discovered_at, redshift, redshift_error,
+                subtype_probabilities, science_weight, notes, broker_state, content_hash, @now, @now
+            FROM stage_candidates ORDER BY broker_candidate_id
+            ON CONFLICT (broker, broker_candidate_id) DO UPDATE SET
+                ra_deg = EXCLUDED.ra_deg, dec_deg = EXCLUDED.dec_deg, ux = EXCLUDED.ux, uy = EXCLUDED.uy, uz = EXCLUDED.uz,
+                discovered_at = EXCLUDED.discovered_at, redshift = EXCLUDED.redshift, redshift_error = EXCLUDED.redshift_error,
+                subtype_probabilities = EXCLUDED.subtype_probabilities, science_weight = EXCLUDED.science_weight,
+                notes = EXCLUDED.notes, broker_state = EXCLUDED.broker_state, content_hash = EXCLUDED.content_hash,
+                data_version = candidates.data_version + 1, version = candidates.version + 1, updated_at = EXCLUDED.updated_at,
+                state = CASE WHEN candidates.state = 'stale' THEN 'new' ELSE candidates.state END
+            WHERE candidates.content_hash <> EXCLUDED.content_hash
+            RETURNING id, (xmax = 0) AS inserted
+        ), events AS (
+            INSERT INTO candidate_events (candidate_id, at, kind, actor)
+            SELECT id, @now, CASE WHEN inserted THEN 'created' ELSE 'updated' END, @broker FROM up
+        )
+        SELECT count(*) FILTER (WHERE inserted)::int AS Created, count(*) FILTER (WHERE NOT inserted)::int AS Updated FROM up
+        """;
+
+    private const string MergePhotometrySql = """
+        INSERT INTO candidate_photometry (candidate_id, band, observed_at, flux_microjy, flux_error_microjy, upper_limit, mag_ab, mag_ab_error)
+        SELECT c.id, s.band, s.observed_at, s.flux_microjy, s.flux_error_microjy, s.upper_limit, s.mag_ab, s.mag_ab_error
+        FROM stage_photometry s JOIN candidates c ON c.broker = @broker AND c.broker_candidate_id = s.broker_candidate_id
+        ORDER BY c.id, s.band, s.observed_at
+        ON CONFLICT (candidate_id, band, observed_at) DO UPDATE SET
+            flux_microjy = EXCLUDED.flux_microjy, flux_error_microjy = EXCLUDED.flux_error_microjy,
+            upper_limit = EXCLUDED.upper_limit, mag_ab = EXCLUDED.mag_ab, mag_ab_error = EXCLUDED.mag_ab_error
+        WHERE (candidate_photometry.flux_microjy, candidate_photometry.flux_error_microjy, candidate_photometry.upper_limit,
+               candidate_photometry.mag_ab, candidate_photometry.mag_ab_error)
+           IS DISTINCT FROM (EXCLUDED.flux_microjy, EXCLUDED.flux_error_microjy, EXCLUDED.upper_limit, EXCLUDED.mag_ab, EXCLUDED.mag_ab_error)
+        """;
+
+    /// <summary>Stores a validated batch for one broker, all or nothing. Retries a deadlock or serialization failure twice.</summary>
+    public async Task<IntakeSummary> UpsertBatchAsync(string broker, IReadOnlyList<CandidateIntake> batch, DateTimeOffset now, CancellationToken ct = default)
+    {
+        for (int attempt = 0; ; attempt++)
+        {
+            try
+            {
+                return await UpsertOnceAsync(broker, batch, now, ct);
+            }
+            catch (PostgresException ex) when (attempt < 2 && ex.SqlState is PostgresErrorCodes.DeadlockDetected or PostgresErrorCodes.SerializationFailure)
+            {
+                await Task.Delay(20 * (attempt + 1), ct);
+            }
+        }
+    }
+
+    private async Task<IntakeSummary> UpsertOnceAsync(string broker, IReadOnlyList<CandidateIntake> batch, DateTimeOffset now, CancellationToken ct)
+    {
+        await using var conn = await dataSource.OpenConnectionAsync(ct);
+        await using var tx = await conn.BeginTransactionAsync(ct);
+        await conn.ExecuteAsync(new CommandDefinition(CreateStagingSql, transaction: tx, cancellationToken: ct));
+
+        await using (var copy = await conn.BeginBinaryImportAsync(
+            "COPY stage_candidates (id, broker_candidate_id, ra_deg, dec_deg, ux, uy, uz, discovered_at, redshift, redshift_error, " +
+            "subtype_probabilities, science_weight, notes, broker_state, content_hash) FROM STDIN (FORMAT BINARY)", ct))
+        {
+            foreach (var (c, hash) in batch)
+            {
+                var (x, y, z) = UnitVector(c.RaDeg, c.DecDeg);
+                await copy.StartRowAsync(ct);
+                await copy.WriteAsync(Guid.CreateVersion7(now), NpgsqlDbType.Uuid, ct);
+                await copy.WriteAsync(c.Id, NpgsqlDbType.Text, ct);
+                await copy.WriteAsync(c.RaDeg, NpgsqlDbType.Double, ct);
+                await copy.WriteAsync(c.DecDeg, NpgsqlDbType.Double, ct);
+                await copy.WriteAsync(x, NpgsqlDbType.Double, ct);
+                await copy.WriteAsync(y, NpgsqlDbType.Double, ct);
+                await copy.WriteAsync(z, NpgsqlDbType.Double, ct);
+                await copy.WriteAsync(c.DiscoveredUtc.UtcDateTime, NpgsqlDbType.TimestampTz, ct);
+                await WriteNullableAsync(copy, c.Redshift, ct);
+                await WriteNullableAsync(copy, c.RedshiftError, ct);
+                await WriteJsonAsync(copy, c.SubtypeProbabilities is null ? null : JsonSerializer.Serialize(c.SubtypeProbabilities), ct);
+                await copy.WriteAsync(c.ScienceWeight, NpgsqlDbType.Double, ct);
+                if (c.Notes is null)
+                {
+                    await copy.WriteNullAsync(ct);
+                }
+                else
+                {
+                    await copy.WriteAsync(c.Notes, NpgsqlDbType.Text, ct);
+                }
+                await WriteJsonAsync(copy, c.BrokerState is null ? null : JsonSerializer.Serialize(c.BrokerState, BrokerBatchJson.Options), ct);
+                await copy.WriteAsync(hash, NpgsqlDbType.Bytea, ct);
+            }
+            await copy.CompleteAsync(ct);
+        }
+
+        int points = 0;
+        await using (var copy = await conn.BeginBinaryImportAsync(
+            "COPY stage_photometry (broker_candidate_id, band, observed_at, flux_microjy, flux_error_microjy, upper_limit, mag_ab, mag_ab_error) " +
+            "FROM STDIN (FORMAT BINARY)", ct))
+        {
+            foreach (var (c, _) in batch)
+            {
+                foreach (var p in c.Photometry)
+                {
+                    await copy.StartRowAsync(ct);
+                    await copy.WriteAsync(c.Id, NpgsqlDbType.Text, ct);
+                    await copy.WriteAsync(p.Band.Name, NpgsqlDbType.Text, ct);
+                    await copy.WriteAsync(p.TimeUtc.UtcDateTime, NpgsqlDbType.TimestampTz, ct);
+                    await copy.WriteAsync(p.FluxMicroJy, NpgsqlDbType.Double, ct);
+                    await copy.WriteAsync(p.FluxErrorMicroJy, NpgsqlDbType.Double, ct);
+                    await copy.WriteAsync(p.IsUpperLimit, NpgsqlDbType.Boolean, ct);
+                    await WriteNullableAsync(copy, p.MagAb, ct);
+                    await WriteNullableAsync(copy, p.MagAbError, ct);
+                    points++;
+                }
+            }
+            await copy.CompleteAsync(ct);
+        }
+
+        var (created, updated) = await conn.QuerySingleAsync<(int Created, int Updated)>(
+            new CommandDefinition(MergeCandidatesSql, new { broker, now }, tx, cancellationToken: ct));
+        int written = await conn.ExecuteAsync(new CommandDefinition(MergePhotometrySql, new { broker }, tx, cancellationToken: ct));
+        await tx.CommitAsync(ct);
+        return new IntakeSummary(batch.Count, created, updated, batch.Count - created - updated, written);
+    }
+
+    private static async Task WriteNullableAsync(NpgsqlBinaryImporter copy, double? value, CancellationToken ct)
+    {
+        if (value is { } v)
+        {
+            await copy.WriteAsync(v, NpgsqlDbType.Double, ct);
+        }
+        else
+        {
+            await copy.WriteNullAsync(ct);
+        }
+    }
+
+    private static async Task WriteJsonAsync(NpgsqlBinaryImporter copy, string? json, CancellationToken ct)
+    {
+        if (json is null)
+        {
+            await copy.WriteNullAsync(ct);
+        }
+        else
+        {
+            await copy.WriteAsync(json, NpgsqlDbType.Jsonb, ct);
+        }
+    }
+
+    /// <summary>Unit vector of an ICRS direction (for cone searches).</summary>
+    public static (double X, double Y, double Z) UnitVector(double raDeg, double decDeg)
+    {
+        double ra = raDeg * Math.PI / 180, dec = decDeg * Math.PI / 180;
+        return (Math.Cos(dec) * Math.Cos(ra), Math.Cos(dec) * Math.Sin(ra), Math.Sin(dec));
+    }
+
+    // ---- queries --------------------------------------------------------------------------
+
+    private const string ListColumns = """
+        id AS Id, broker AS Broker, broker_candidate_id AS BrokerCandidateId, ra_deg AS RaDeg, dec_deg AS DecDeg,
+        discovered_at AS DiscoveredAt, redshift AS Redshift, state AS State, classified_label AS ClassifiedLabel,
+        science_weight AS ScienceWeight, predicted_mag AS PredictedMag, predicted_mag_rate AS PredictedMagRate,
+        fitted_at AS FittedAt, (fit_version = data_version) AS FitCurrent, updated_at AS UpdatedAt
+        """;
+
+    private const string ListSql = $"""
+        SELECT {ListColumns} FROM candidates
+        WHERE (@state::text IS NULL OR state = @state)
+          AND (@updatedSince::timestamptz IS NULL OR updated_at >= @updatedSince)
+          AND (@cosRadius::float8 IS NULL OR ux * @x0 + uy * @y0 + uz * @z0 >= @cosRadius)
+          AND (@brighterThan::float8 IS NULL OR (predicted_mag IS NOT NULL
+               AND predicted_mag + predicted_mag_rate * (extract(epoch FROM (@at::timestamptz - fitted_at)) / 86400.0) <= @brighterThan))
+          AND (@after::uuid IS NULL OR id > @after)
+        ORDER BY id
+        LIMIT @limit
+        """;
+
+    /// <summary>One page of candidates ordered by id (ids grow with creation time).</summary>
+    public async Task<IReadOnlyList<CandidateListRow>> ListAsync(CandidateQuery q, CancellationToken ct = default)
+    {
+        double? x0 = null, y0 = null, z0 = null, cosRadius = null;
+        if (q.ConeRaDeg is { } ra && q.ConeDecDeg is { } dec && q.ConeRadiusDeg is { } radius)
+        {
+            (x0, y0, z0) = UnitVector(ra, dec);
+            cosRadius = Math.Cos(radius * Math.PI / 180);
+        }
+        await using var conn = await dataSource.OpenConnectionAsync(ct);
+        var rows = await conn.QueryAsync<ListRowData>(new CommandDefinition(ListSql, new
+        {
+            state = q.State is { } s ? CandidateLifecycle.Name(s) : null,
+            updatedSince = q.UpdatedSince?.UtcDateTime,
+            cosRadius,
+            x0,
+            y0,
+            z0,
+            brighterThan = q.BrighterThanMagAb,
+            at = q.At.UtcDateTime,
+            after = q.After,
+            limit = q.Limit,
+        }, cancellationToken: ct));
+        return rows.Select(r => r.ToRow()).ToList();
+    }
+
+    private const string GetSql = $"""
+        SELECT {ListColumns}, redshift_error AS RedshiftError, subtype_probabilities::text AS SubtypeProbabilities,
+            notes AS Notes, broker_state::text AS BrokerState, data_version AS DataVersion, fit_version AS FitVersion,
+            fit::text AS Fit, prior::text AS Prior
+        FROM candidates WHERE id = @id;
+        SELECT band AS Band, observed_at AS ObservedAt, flux_microjy AS FluxMicroJy, flux_error_microjy AS FluxErrorMicroJy,
+            upper_limit AS UpperLimit, mag_ab AS MagAb, mag_ab_error AS MagAbError
+        FROM candidate_photometry WHERE candidate_id = @id ORDER BY observed_at, band;
+        SELECT at AS At, kind AS Kind, from_state AS FromState, to_state AS ToState, actor AS Actor, detail AS Detail
+        FROM candidate_events WHERE candidate_id = @id ORDER BY id;
+        SELECT id AS Id, spectrograph_id AS SpectrographId, outcome AS Outcome, achieved_snr AS AchievedSnr,
+            classified_label AS ClassifiedLabel, observed_at AS ObservedAt, reported_at AS ReportedAt, reporter AS Reporter
+        FROM observation_reports WHERE candidate_id = @id ORDER BY observed_at, reported_at;
+        """;
+
+    /// <summary>A candidate with its photometry, fit, prior, history and observations; null when unknown.</summary>
+    public async Task<CandidateDetail?> GetAsync(Guid id, CancellationToken ct = default)
+    {
+        await using var conn = await dataSource.OpenConnectionAsync(ct);
+        await using var grid = await conn.QueryMultipleAsync(new CommandDefinition(GetSql, new { id }, cancellationToken: ct));
+        var row = await grid.ReadSingleOrDefaultAsync<DetailRowData>();
+        if (row is null)
+        {
+            return null;
+        }
+        var photometry = (await grid.ReadAsync<PhotometryRowData>()).Select(p => p.ToPoint()).ToList();
+        var events = (await grid.ReadAsync<EventRowData>()).Select(e => new CandidateEventRow(Utc.From(e.At), e.Kind, e.FromState, e.ToState, e.Actor, e.Detail)).ToList();
+        var reports = (await grid.ReadAsync<ReportRowData>()).Select(r => new ObservationReportRow(
+            r.Id, r.SpectrographId, r.Outcome, r.AchievedSnr, r.ClassifiedLabel, Utc.From(r.ObservedAt), Utc.From(r.ReportedAt), r.Reporter)).ToList();
+        var summary = row.ToRow();
+        var candidate = new Candidate(summary.BrokerCandidateId, summary.RaDeg, summary.DecDeg, summary.DiscoveredAt, summary.Redshift,
+            row.RedshiftError, photometry,
+            row.SubtypeProbabilities is null ? null : JsonSerializer.Deserialize<Dictionary<string, double>>(row.SubtypeProbabilities),
+            summary.ScienceWeight, row.Notes,
+            row.BrokerState is null ? null : JsonSerializer.Deserialize<BrokerState>(row.BrokerState, BrokerBatchJson.Options));
+        return new CandidateDetail(summary, candidate, row.DataVersion, row.FitVersion, row.Fit, row.Prior, events, reports);
+    }
+
+    private const string PendingSql = "SELECT id FROM candidates WHERE fit_version < data_version ORDER BY id LIMIT @limit";
+
+    /// <summary>Ids of candidates whose stored fit is older than their data.</summary>
+    public async Task<IReadOnlyList<Guid>> PendingFitsAsync(int limit, CancellationToken ct = default)
+    {
+        await using var conn = await dataSource.OpenConnectionAsync(ct);
+        return (await conn.QueryAsync<Guid>(new CommandDefinition(PendingSql, new { limit }, cancellationToken: ct))).ToList();
+    }
+
+    private const string SaveFitSql = """
+        UPDATE candidates SET fit = @FitJson::jsonb, prior = @PriorJson::jsonb, predicted_mag = @PredictedMag,
+            predicted_mag_rate = @PredictedMagRate, fitted_at = @FittedAt, fit_version = @DataVersion
+        WHERE id = @Id AND fit_version < @DataVersion AND data_version >= @DataVersion
+        """;
+
+    /// <summary>Stores a fit unless a fit of the same or newer data is already there.</summary>
+    public async Task<bool> SaveFitAsync(StoredFit fit, CancellationToken ct = default)
+    {
+        await using var conn = await dataSource.OpenConnectionAsync(ct);
+        return await conn.ExecuteAsync(new CommandDefinition(SaveFitSql, new
+        {
+            fit.Id,
+            fit.DataVersion,
+            fit.FitJson,
+            fit.PriorJson,
+            fit.PredictedMag,
+            fit.PredictedMagRate,
+            FittedAt = fit.FittedAt.UtcDateTime,
+        }, cancellationToken: ct)) == 1;
+    }
+
+    // ---- lifecycle ------------------------------------------------------------------------
+
+    private const string LockStateSql = "SELECT state FROM candidates WHERE id = @id FOR UPDATE";
+
+    private const string SetStateSql = """
+        UPDATE candidates SET state = @to, classified_label = COALESCE(@label, classified_label), version = version + 1, updated_at = @now
+        WHERE id = @id
+        """;
+
+    private const string EventSql = """
+        INSERT INTO candidate_events (candidate_id, at, kind, from_state, to_state, actor, detail)
+        VALUES (@id, @now, @kind, @from, @to, @actor, @detail)
+        """;
+
+    /// <summary>Moves a candidate to another state if <paramref name="allowed"/> says so. Returns the previous state, or null when unknown.</summary>
+    public async Task<(CandidateState? Previous, bool Moved)> TransitionAsync(
+        Guid id, CandidateState to, Func<CandidateState, bool> allowed, string actor, string? reason, DateTimeOffset now, CancellationToken ct = default)
+    {
+        await using var conn = await dataSource.OpenConnectionAsync(ct);
+        await using var tx = await conn.BeginTransactionAsync(ct);
+        var current = await conn.QuerySingleOrDefaultAsync<string?>(new CommandDefinition(LockStateSql, new { id }, tx, cancellationToken: ct));
+        if (current is null || !CandidateLifecycle.TryParse(current, out var from))
+        {
+            return (null, false);
+        }
+        if (!allowed(from))
+        {
+            return (from, false);
+        }
+        await conn.ExecuteAsync(new CommandDefinition(SetStateSql, new { id, to = CandidateLifecycle.Name(to), label = (string?)null, now = now.UtcDateTime }, tx, cancellationToken: ct));
+        await conn.ExecuteAsync(new CommandDefinition(EventSql, new
+        {
+            id,
+            now = now.UtcDateTime,
+            kind = "transition",
+            from = current,
+            to = CandidateLifecycle.Name(to),
+            actor,
+            detail = reason,
+        }, tx, cancellationToken: ct));
+        await tx.CommitAsync(ct);
+        return (from, true);
+    }
+
+    private const string InsertReportSql = """
+        INSERT INTO observation_reports (id, candidate_id, spectrograph_id, outcome, achieved_snr, classified_label, observed_at, reported_at, reporter)
+        VALUES (@reportId, @id, @spectrographId, @outcome, @snr, @label, @observedAt, @now, @actor)
+        """;
+
+    /// <summary>Records an observation report and moves the state as <see cref="CandidateLifecycle.AfterReport"/> says.</summary>
+    public async Task<(ReportOutcome Outcome, CandidateState? State, Guid ReportId)> ReportObservationAsync(
+        Guid id, Guid spectrographId, ObservationOutcome outcome, double? achievedSnr, string? label, DateTimeOffset observedAt,
+        string actor, DateTimeOffset now, CancellationToken ct = default)
+    {
+        await using var conn = await dataSource.OpenConnectionAsync(ct);
+        await using var tx = await conn.BeginTransactionAsync(ct);
+        var current = await conn.QuerySingleOrDefaultAsync<string?>(new CommandDefinition(LockStateSql, new { id }, tx, cancellationToken: ct));
+        if (current is null || !CandidateLifecycle.TryParse(current, out var from))
+        {
+            return (ReportOutcome.UnknownCandidate, null, Guid.Empty);
+        }
+        var next = CandidateLifecycle.AfterReport(from, outcome, label is not null);
+        if (next is not { } to)
+        {
+            return (ReportOutcome.RefusedInState, from, Guid.Empty);
+        }
+        var reportId = Guid.CreateVersion7(now);
+        string outcomeName = outcome.ToString().ToLowerInvariant();
+        await conn.ExecuteAsync(new CommandDefinition(InsertReportSql, new
+        {
+            reportId,
+            id,
+            spectrographId,
+            outcome = outcomeName,
+            snr = achievedSnr,
+            label,
+            observedAt = observedAt.UtcDateTime,
+            now = now.UtcDateTime,
+            actor,
+        }, tx, cancellationToken: ct));
+        await conn.ExecuteAsync(new CommandDefinition(SetStateSql, new { id, to = CandidateLifecycle.Name(to), label, now = now.UtcDateTime }, tx, cancellationToken: ct));
+        await conn.ExecuteAsync(new CommandDefinition(EventSql, new
+        {
+            id,
+            now = now.UtcDateTime,
+            kind = "observation",
+            from = current,
+            to = CandidateLifecycle.Name(to),
+            actor,
+            detail = label is null ? $"{outcomeName} on {spectrographId}" : $"{outcomeName} on {spectrographId}: {label}",
+        }, tx, cancellationToken: ct));
+        await tx.CommitAsync(ct);
+        return (ReportOutcome.Recorded, to, reportId);
+    }
+
+    // ---- row shapes (Dapper) --------------------------------------------------------------
+
+    private class ListRowData
+    {
+        public Guid Id { get; init; }
+        public string Broker { get; init; } = "";
+        public string BrokerCandidateId { get; init; } = "";
+        public double RaDeg { get; init; }
+        public double DecDeg { get; init; }
+        public DateTime DiscoveredAt { get; init; }
+        public double? Redshift { get; init; }
+        public string State { get; init; } = "";
+        public string? ClassifiedLabel { get; init; }
+        public double ScienceWeight { get; init; }
+        public double? PredictedMag { get; init; }
+        public double? PredictedMagRate { get; init; }
+        public DateTime? FittedAt { get; init; }
+        public bool FitCurrent { get; init; }
+        public DateTime UpdatedAt { get; init; }
+
+        public CandidateListRow ToRow() => new(Id, Broker, BrokerCandidateId, RaDeg, DecDeg, Utc.From(DiscoveredAt), Redshift, State,
+            ClassifiedLabel, ScienceWeight, PredictedMag, PredictedMagRate, Utc.From(FittedAt), FitCurrent, Utc.From(UpdatedAt));
+    }
+
+    private sealed class DetailRowData : ListRowData
+    {
+        public double? RedshiftError { get; init; }
+        public string? SubtypeProbabilities { get; init; }
+        public string? Notes { get; init; }
+        public string? BrokerState { get; init; }
+        public int DataVersion { get; init; }
+        public int FitVersion { get; init; }
+        public string? Fit { get; init; }
+        public string? Prior { get; init; }
+    }
+
+    private sealed record PhotometryRowData(string Band, DateTime ObservedAt, double FluxMicroJy, double FluxErrorMicroJy, bool UpperLimit, double? MagAb, double? MagAbError)
+    {
+        public PhotometryPoint ToPoint()
+        {
+            var t = Utc.From(ObservedAt);
+            return new PhotometryPoint(t, Core.LightCurves.ModifiedJulianDate.FromUtc(t), PhotometricBands.Get(Band), FluxMicroJy, FluxErrorMicroJy, UpperLimit, MagAb, MagAbError);
+        }
+    }
+
+    private sealed record EventRowData(DateTime At, string Kind, string? FromState, string? ToState, string Actor, string? Detail);
+
+    private sealed record ReportRowData(Guid Id, Guid SpectrographId, string Outcome, double? AchievedSnr, string? ClassifiedLabel, DateTime ObservedAt, DateTime ReportedAt, string Reporter);
+}

@@ -1,0 +1,157 @@
+using System.Net;
+using System.Text.Json.Nodes;
+using Triage.Api.Tests.Infrastructure;
+using Triage.Storage.Access;
+
+namespace Triage.Api.Tests.Candidates;
+
+[Collection(ApiCollection.Name)]
+public sealed class CandidateLifecycleTests(TriageApiFactory api)
+{
+    private async Task<string> NewCandidateAsync()
+    {
+        var broker = api.ClientWith(await api.KeyAsync(Scope.Broker));
+        var candidate = CandidateBodies.Candidate();
+        double ra = Random.Shared.NextDouble() * 359;
+        candidate["raDeg"] = ra;
+        var posted = await broker.PostAsync("/api/candidates/batches", Bodies.Json(CandidateBodies.Batch(candidate)));
+        Assert.Equal(HttpStatusCode.OK, posted.StatusCode);
+        var reader = api.ClientWith(await api.KeyAsync(Scope.Scheduler));
+        var page = await (await reader.GetAsync($"/api/candidates?raDeg={ra}&decDeg=-23.5&radiusDeg=0.0001&limit=1000")).ReadObjectAsync();
+        return (string)page["items"]!.AsArray().Single(i => (string)i!["brokerCandidateId"]! == (string)candidate["id"]!)!["id"]!;
+    }
+
+    private async Task<(HttpClient Client, string SpectrographId)> ObservatoryAsync()
+    {
+        var client = api.ClientWith(await api.KeyAsync(Scope.Observatory, Unique.Name("obs")));
+        var site = await (await client.PostAsync("/api/sites", Bodies.Json(Bodies.Site()))).ReadObjectAsync();
+        var sp = await (await client.PostAsync($"/api/sites/{site["id"]}/spectrographs", Bodies.Json(Bodies.Spectrograph()))).ReadObjectAsync();
+        return (client, (string)sp["id"]!);
+    }
+
+    private static StringContent Report(string spectrographId, string outcome, double? snr = null, string? label = null) => Bodies.Json(new JsonObject
+    {
+        ["spectrographId"] = spectrographId,
+        ["outcome"] = outcome,
+        ["achievedSnr"] = snr,
+        ["classifiedLabel"] = label,
+        ["observedUtc"] = DateTimeOffset.UtcNow.AddHours(-1).ToString("O"),
+    });
+
+    private static StringContent To(string state, bool force = false) => Bodies.Json(new JsonObject { ["to"] = state, ["force"] = force });
+
+    private async Task<string> StateAsync(string id)
+    {
+        var reader = api.ClientWith(await api.KeyAsync(Scope.Scheduler));
+        return (string)(await (await reader.GetAsync($"/api/candidates/{id}")).ReadObjectAsync())["candidate"]!["state"]!;
+    }
+
+    [Fact]
+    public async Task Lifecycle_PlannedObservedClassified_NotReplannedUnlessForced()
+    {
+        var id = await NewCandidateAsync();
+        var scheduler = api.ClientWith(await api.KeyAsync(Scope.Scheduler));
+        var (observatory, spectrograph) = await ObservatoryAsync();
+
+        Assert.Equal(HttpStatusCode.OK, (await scheduler.PostAsync($"/api/candidates/{id}/transitions", To("planned"))).StatusCode);
+        var observed = await (await observatory.PostAsync($"/api/candidates/{id}/observations", Report(spectrograph, "done", 12))).ReadObjectAsync();
+        Assert.Equal("observed", (string)observed["state"]!);
+        var classified = await (await observatory.PostAsync($"/api/candidates/{id}/observations", Report(spectrograph, "done", 25, "Ic-BL"))).ReadObjectAsync();
+        Assert.Equal("classified", (string)classified["state"]!);
+
+        var refused = await scheduler.PostAsync($"/api/candidates/{id}/transitions", To("planned"));
+        await Bodies.AssertProblemNamingAsync(refused, 409, "to");
+        Assert.Equal(HttpStatusCode.OK, (await scheduler.PostAsync($"/api/candidates/{id}/transitions", To("planned", force: true))).StatusCode);
+
+        var reader = api.ClientWith(await api.KeyAsync(Scope.Scheduler));
+        var detail = await (await reader.GetAsync($"/api/candidates/{id}")).ReadObjectAsync();
+        Assert.Equal("Ic-BL", (string)detail["candidate"]!["classifiedLabel"]!);
+        Assert.Equal(2, detail["observations"]!.AsArray().Count);
+        Assert.Equal(["created", "transition", "observation", "observation", "transition"], detail["history"]!.AsArray().Select(e => (string)e!["kind"]!));
+    }
+
+    [Fact]
+    public async Task Report_LostToWeather_PlannedCandidateReturnsToNew()
+    {
+        var id = await NewCandidateAsync();
+        var scheduler = api.ClientWith(await api.KeyAsync(Scope.Scheduler));
+        var (observatory, spectrograph) = await ObservatoryAsync();
+        await scheduler.PostAsync($"/api/candidates/{id}/transitions", To("planned"));
+
+        var answer = await (await observatory.PostAsync($"/api/candidates/{id}/observations", Report(spectrograph, "weather"))).ReadObjectAsync();
+
+        Assert.Equal("new", (string)answer["state"]!);
+    }
+
+    [Fact]
+    public async Task Report_FromObservatoryNotOwningSpectrograph_403AndStateUnchanged()
+    {
+        var id = await NewCandidateAsync();
+        var (_, spectrograph) = await ObservatoryAsync();
+        var (other, _) = await ObservatoryAsync();
+
+        var response = await other.PostAsync($"/api/candidates/{id}/observations", Report(spectrograph, "done", 30, "Ia"));
+
+        await Bodies.AssertProblemNamingAsync(response, 403, "spectrographId");
+        Assert.Equal("new", await StateAsync(id));
+    }
+
+    [Fact]
+    public async Task Report_UnknownCandidate_404()
+    {
+        var (observatory, spectrograph) = await ObservatoryAsync();
+
+        var response = await observatory.PostAsync($"/api/candidates/{Guid.NewGuid()}/observations", Report(spectrograph, "done", 30));
+
+        await Bodies.AssertProblemNamingAsync(response, 404, "id");
+    }
+
+    [Fact]
+    public async Task Report_UnknownSpectrograph_404()
+    {
+        var id = await NewCandidateAsync();
+        var (observatory, _) = await ObservatoryAsync();
+
+        var response = await observatory.PostAsync($"/api/candidates/{id}/observations", Report(Guid.NewGuid().ToString(), "failed"));
+
+        await Bodies.AssertProblemNamingAsync(response, 404, "spectrographId");
+    }
+
+    [Theory]
+    [InlineData("done", null, null, "achievedSnr")]
+    [InlineData("cloudy", null, null, "outcome")]
+    [InlineData("weather", null, "Ia", "classifiedLabel")]
+    [InlineData("done", 10.0, "Ia-ish", "classifiedLabel")]
+    public async Task Report_BadBody_400NamingField(string outcome, double? snr, string? label, string field)
+    {
+        var id = await NewCandidateAsync();
+        var (observatory, spectrograph) = await ObservatoryAsync();
+
+        var response = await observatory.PostAsync($"/api/candidates/{id}/observations", Report(spectrograph, outcome, snr, label));
+
+        await Bodies.AssertProblemNamingAsync(response, 400, field);
+    }
+
+    [Fact]
+    public async Task Report_ByBrokerKey_403()
+    {
+        var id = await NewCandidateAsync();
+        var broker = api.ClientWith(await api.KeyAsync(Scope.Broker));
+
+        var response = await broker.PostAsync($"/api/candidates/{id}/observations", Report(Guid.NewGuid().ToString(), "failed"));
+
+        Assert.Equal(HttpStatusCode.Forbidden, response.StatusCode);
+    }
+
+    [Fact]
+    public async Task Transition_AbandonedToPlanned_409AndUnknownCandidate404()
+    {
+        var id = await NewCandidateAsync();
+        var scheduler = api.ClientWith(await api.KeyAsync(Scope.Scheduler));
+        Assert.Equal(HttpStatusCode.OK, (await scheduler.PostAsync($"/api/candidates/{id}/transitions", To("abandoned"))).StatusCode);
+
+        await Bodies.AssertProblemNamingAsync(await scheduler.PostAsync($"/api/candidates/{id}/transitions", To("planned")), 409, "to");
+        await Bodies.AssertProblemNamingAsync(await scheduler.PostAsync($"/api/candidates/{Guid.NewGuid()}/transitions", To("planned")), 404, "id");
+        await Bodies.AssertProblemNamingAsync(await scheduler.PostAsync($"/api/candidates/{id}/transitions", To("classified")), 400, "to");
+    }
+}
