@@ -114,6 +114,7 @@ internal static class SkyVerb
                 illumination = CliJson.Round(phase.IlluminatedFraction, 4),
                 phaseAngleDeg = CliJson.Round(phase.PhaseAngleDeg, 3),
                 atUtc = CliJson.Utc(reference),
+                riseSet = model.MoonRiseSet().Select(e => new { kind = e.Kind, utc = CliJson.Utc(e.Utc) }),
                 samples = samples.Select(t =>
                 {
                     var hz = model.MoonHorizontal(t);

@@ -220,3 +220,25 @@ public class NightModelTests
         }
     }
 }
+
+public class NightModelMoonTests
+{
+    [Theory]
+    [InlineData("2026-05-12")]
+    [InlineData("2026-08-28")]
+    [InlineData("2027-02-06")]
+    public void MoonRiseSet_Events_AreCrossingsOfMinus0Point833Degrees(string night)
+    {
+        // Definition check against the exact topocentric Moon: at each event the altitude is −0.833° within 0.002°
+        // (the Moon climbs ≤ 0.25°/min, so 0.5 s of timing error is 0.002°), and it rises (sets) through it.
+        var model = NightModel.For(ReferenceSite.Site(), DateOnly.Parse(night));
+        var events = model.MoonRiseSet();
+        Assert.NotEmpty(events);
+        foreach (var e in events)
+        {
+            Assert.InRange(model.MoonHorizontal(e.Utc).AltitudeDeg, -0.835, -0.831);
+            double later = model.MoonHorizontal(e.Utc.AddMinutes(5)).AltitudeDeg;
+            Assert.Equal(e.Kind == MoonEventKind.Rise, later > -0.833);
+        }
+    }
+}
