@@ -179,3 +179,22 @@ public class ExposureCalculatorTests
         Assert.Equal(nameof(ObservingConditions.WavelengthAngstrom), ex.ParamName);
     }
 }
+
+public class ExposureCalculatorValidationTests
+{
+    [Fact]
+    public void For_ZeroThroughput_ThrowsNamingTheField()
+    {
+        var sp = ExposureCalculatorTests.WorkedExample() with { Throughput = 0 };
+        var ex = Assert.Throws<ArgumentOutOfRangeException>(() => ExposureCalculator.For(sp, ExposureCalculatorTests.WorkedExampleSite()));
+        Assert.Equal(nameof(Spectrograph.Throughput), ex.ParamName);
+    }
+
+    [Fact]
+    public void TimeFor_NonPositiveSnr_ThrowsNamingTheParameter()
+    {
+        var calc = ExposureCalculator.For(ExposureCalculatorTests.WorkedExample(), ExposureCalculatorTests.WorkedExampleSite());
+        var ex = Assert.Throws<ArgumentOutOfRangeException>(() => calc.TimeFor(19, 0));
+        Assert.Equal("signalToNoise", ex.ParamName);
+    }
+}
