@@ -71,6 +71,17 @@ public class ExposureCalculatorTests
     }
 
     [Fact]
+    public void SignalToNoiseFor_DiameterReadingOfObstruction_MatchesVariantRow()
+    {
+        // check-values §4d variants [D]: "15 % of diameter" = 1 − 0.15² = 0.0225 of the area: A = 30 709.07 cm²,
+        // s = 8.82917 e⁻/s, b = 5.65263 e⁻/s, S/N(600 s) = 56.335, t(S/N 10) = 25.989 s. Tolerance 1e-4 relative.
+        var calc = ExposureCalculator.For(WorkedExample() with { CentralObstruction = 0.15 * 0.15 }, WorkedExampleSite());
+        Assert.InRange(calc.EffectiveAreaCm2 / 30709.07 - 1, -1e-5, 1e-5);
+        Assert.InRange(calc.SignalToNoiseFor(19.0, 600, ThreePixels).SignalToNoise / 56.335 - 1, -1e-4, 1e-4);
+        Assert.InRange(calc.TimeFor(19.0, 10, ThreePixels).ExposureSeconds / 25.989 - 1, -1e-4, 1e-4);
+    }
+
+    [Fact]
     public void Rates_DefaultExtraction_PicksThreePixelsForTheWorkedExample()
     {
         // Common practice: extract about ±1 FWHM; 2 × 1.2″ / 0.75″ = 3.2 → 3 px, the example's choice.

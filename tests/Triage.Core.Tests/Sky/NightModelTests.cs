@@ -102,6 +102,21 @@ public class NightModelTests
         Assert.InRange((w.EndUtc - DateTimeOffset.Parse("2026-01-16T08:22:50Z")).TotalSeconds, -5, 5);
     }
 
+    [Theory]
+    [InlineData("2026-03-20")]
+    [InlineData("2026-06-21")]
+    public void Twilights_GridRefinedTimes_AgreeWithExactSunAltitude(string night)
+    {
+        // Oracle: the exact (non-grid) Sun altitude at each reported time equals −depression within 0.002°
+        // (the Sun moves ≤ 0.25°/min, so 0.002° is 0.5 s; the grid interpolation error is far smaller).
+        var model = NightModel.For(ReferenceSite.Site(), DateOnly.Parse(night));
+        foreach (var tw in model.Twilights)
+        {
+            Assert.InRange(model.SunAltitudeDeg(tw.EveningUtc!.Value) + tw.DepressionDeg, -0.002, 0.002);
+            Assert.InRange(model.SunAltitudeDeg(tw.MorningUtc!.Value) + tw.DepressionDeg, -0.002, 0.002);
+        }
+    }
+
     [Fact]
     public void VisibilityWindows_CaseC1Target_IsVisibleAtTheReferenceInstant()
     {
