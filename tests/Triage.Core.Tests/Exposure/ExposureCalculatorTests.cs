@@ -124,6 +124,41 @@ public class ExposureCalculatorTests
         Assert.True(est.ExposureSeconds > unsplit.ExposureSeconds);
     }
 
+    [Theory]
+    [InlineData(20.0, 10.0, 60.0)]
+    [InlineData(21.5, 10.0, 100.0)]
+    [InlineData(22.0, 5.0, 30.0)]
+    public void TimeFor_SplitExposures_MatchesSegmentBisectionOracle(double mag, double snr, double maxExposure)
+    {
+        // Oracle: walk the segments ((n−1)t_max, n t_max] where the readout count is fixed and S/N rises with t;
+        // the first segment whose end reaches the S/N holds the answer, found by bisection (no quadratic involved).
+        var calc = ExposureCalculator.For(WorkedExample(maxExposureSeconds: maxExposure), WorkedExampleSite());
+        double Snr(double t) => calc.SignalToNoiseFor(mag, t, ThreePixels).SignalToNoise;
+        int n = 1;
+        while (Snr(n * maxExposure) < snr)
+        {
+            n++;
+        }
+
+        double lo = (n - 1) * maxExposure, hi = n * maxExposure;
+        for (int i = 0; i < 60; i++)
+        {
+            double mid = 0.5 * (lo + hi);
+            if (mid > (n - 1) * maxExposure && Snr(mid) >= snr)
+            {
+                hi = mid;
+            }
+            else
+            {
+                lo = mid;
+            }
+        }
+
+        var est = calc.TimeFor(mag, snr, ThreePixels);
+        Assert.Equal(n, est.ExposureCount);
+        Assert.InRange(est.ExposureSeconds - hi, -1e-6, 1e-6);
+    }
+
     [Fact]
     public void TimeFor_Unreachable_ReturnsBestWithinLimitWithoutInfinity()
     {
