@@ -10,6 +10,8 @@ Command[] verbs =
     FitVerb.Create(),
     InventCandidatesVerb.Create(),
     PlanVerb.Create(),
+    SkyVerb.Create(),
+    ExptimeVerb.Create(),
 ];
 foreach (var verb in verbs)
 {

@@ -165,12 +165,16 @@ public sealed class ExposureCalculator
         int maxCount = (int)Math.Min(MaxExposureCount, Math.Ceiling(c.MaxTotalSeconds / tMax - 1e-9));
         if (s > 0)
         {
-            for (int n = 1; n <= maxCount; n++)
+            // s² t² − S/N² (s + b + dark) t − S/N² n RN²_pix = 0, positive root (both other coefficients ≤ 0).
+            double b = sn2 * variancePerSecond;
+            double Root(int n) => (b + Math.Sqrt(b * b + 4 * s * s * sn2 * n * rates.ReadNoiseVariancePerExposure)) / (2 * s * s);
+
+            // t(n) grows with n, so no count below t(1)/t_max can hold its own time: start there.
+            double t1 = Root(1);
+            int first = (int)Math.Clamp(Math.Ceiling(t1 / tMax - 1e-9), 1, MaxExposureCount);
+            for (int n = first; n <= maxCount; n++)
             {
-                // s² t² − S/N² (s + b + dark) t − S/N² n RN²_pix = 0, positive root (both other coefficients ≤ 0).
-                double b = sn2 * variancePerSecond;
-                double cq = sn2 * n * rates.ReadNoiseVariancePerExposure;
-                double t = (b + Math.Sqrt(b * b + 4 * s * s * cq)) / (2 * s * s);
+                double t = Root(n);
                 if (t > c.MaxTotalSeconds * (1 + 1e-12))
                 {
                     break;

@@ -241,8 +241,8 @@ public sealed class NightModel
     /// <summary>Evening and morning crossings of the Sun's centre through altitude −<paramref name="depressionDeg"/>.</summary>
     public TwilightTimes TwilightAt(double depressionDeg)
     {
-        var sunMargin = new SunMargin(this, Math.Sin(-depressionDeg * Angles.DegToRad));
-        var found = FindIntervals(SunNodes(sunMargin.SinLimit), 0, ref sunMargin);
+        var sunMargin = new BelowMargin(this, _sun, Math.Sin(-depressionDeg * Angles.DegToRad));
+        var found = FindIntervals(BelowNodes(_sunSinAlt, sunMargin.SinLimit), 0, ref sunMargin);
         DateTimeOffset? evening = null, morning = null;
         if (found.Count > 0)
         {
@@ -260,10 +260,36 @@ public sealed class NightModel
         return new TwilightTimes(depressionDeg, evening, morning);
     }
 
+    /// <summary>
+    /// Moonrise and moonset inside the span: the topocentric altitude of the Moon's centre crossing −0.833°
+    /// (standard refraction 34′ plus a 16′ semidiameter; parallax is already in the topocentric altitude).
+    /// Several events can occur in 24 h; all are listed in time order.
+    /// </summary>
+    public IReadOnlyList<MoonEvent> MoonRiseSet()
+    {
+        var margin = new BelowMargin(this, _moon, Math.Sin(-0.833 * Angles.DegToRad));
+        var below = FindIntervals(BelowNodes(_moonSinAlt, margin.SinLimit), 0, ref margin);
+        var events = new List<MoonEvent>();
+        foreach (var (start, end) in below)
+        {
+            if (start > 0)
+            {
+                events.Add(new MoonEvent(MoonEventKind.Set, ToUtc(start)));
+            }
+
+            if (end < _spanMinutes)
+            {
+                events.Add(new MoonEvent(MoonEventKind.Rise, ToUtc(end)));
+            }
+        }
+
+        return events;
+    }
+
     private DarkWindow FindDarkWindow(double depthDeg, out double startX, out double endX)
     {
-        var sunMargin = new SunMargin(this, Math.Sin(-depthDeg * Angles.DegToRad));
-        var found = FindIntervals(SunNodes(sunMargin.SinLimit), 0, ref sunMargin);
+        var sunMargin = new BelowMargin(this, _sun, Math.Sin(-depthDeg * Angles.DegToRad));
+        var found = FindIntervals(BelowNodes(_sunSinAlt, sunMargin.SinLimit), 0, ref sunMargin);
         if (found.Count == 0)
         {
             startX = endX = 0;
@@ -275,12 +301,12 @@ public sealed class NightModel
         return new DarkWindow(kind, new TimeWindow(ToUtc(startX), ToUtc(endX)), depthDeg);
     }
 
-    private double[] SunNodes(double sinLimit)
+    private static double[] BelowNodes(double[] sinAltitudes, double sinLimit)
     {
-        var nodes = new double[_sunSinAlt.Length];
+        var nodes = new double[sinAltitudes.Length];
         for (int i = 0; i < nodes.Length; i++)
         {
-            nodes[i] = sinLimit - _sunSinAlt[i];
+            nodes[i] = sinLimit - sinAltitudes[i];
         }
 
         return nodes;
@@ -423,11 +449,12 @@ public sealed class NightModel
         double At(double x);
     }
 
-    private readonly struct SunMargin(NightModel night, double sinLimit) : IMargin
+    /// <summary>Margin of a tabulated body (Sun or Moon) being below an altitude.</summary>
+    private readonly struct BelowMargin(NightModel night, Vec3[] table, double sinLimit) : IMargin
     {
         public double SinLimit => sinLimit;
 
-        public double At(double x) => sinLimit - night.SinAltitudeAt(night.Interpolate(night._sun, x), x);
+        public double At(double x) => sinLimit - night.SinAltitudeAt(night.Interpolate(table, x), x);
     }
 
     private readonly struct TargetMargin(NightModel night, Vec3 target, double sinAltLimit) : IMargin

@@ -88,3 +88,15 @@ public sealed record TargetVisibility(
     /// <summary>Total observable time.</summary>
     public TimeSpan TotalDuration => Windows.Aggregate(TimeSpan.Zero, (sum, w) => sum + w.Duration);
 }
+
+/// <summary>Whether the Moon rises or sets.</summary>
+public enum MoonEventKind
+{
+    Rise,
+    Set,
+}
+
+/// <summary>A moonrise or moonset.</summary>
+/// <param name="Kind">Rise or set.</param>
+/// <param name="Utc">When the Moon's centre crosses −0.833° topocentric altitude.</param>
+public readonly record struct MoonEvent(MoonEventKind Kind, DateTimeOffset Utc);

@@ -76,14 +76,15 @@ public static class SkyPositions
     public static MoonlightGeometry Moonlight(SkyTarget target, Observer observer, DateTimeOffset utc)
     {
         var s = Snapshot.At(observer, utc);
-        var moon = s.MoonTopocentric();
+        var moonPosition = s.Moon;
+        var moon = s.MoonTopocentric(moonPosition);
         return new MoonlightGeometry(
-            MoonPhase.From(s.Sun, s.Moon).PhaseAngleDeg,
+            MoonPhase.From(s.Sun, moonPosition).PhaseAngleDeg,
             s.Horizontal(moon, observer.LatitudeDeg).AltitudeDeg,
             Vec3.AngleDeg(s.Stars.Apply(target.Validated().UnitVector), moon));
     }
 
-    /// <summary>Everything that depends only on the instant and the observer.</summary>
+    /// <summary>Everything that depends only on the instant and the observer; the Sun and Moon are computed on demand.</summary>
     internal readonly struct Snapshot
     {
         public required Observer Observer { get; init; }
@@ -92,16 +93,16 @@ public static class SkyPositions
 
         public required double LastDeg { get; init; }
 
-        public required SunPosition Sun { get; init; }
+        public required double JulianDateTT { get; init; }
 
-        public required MoonPosition Moon { get; init; }
+        public SunPosition Sun => SolarPosition.Compute(JulianDateTT);
+
+        public MoonPosition Moon => LunarPosition.Compute(JulianDateTT, Stars.Nutation);
 
         public static Snapshot At(Observer observer, DateTimeOffset utc)
         {
-            double jd = AstroTime.JulianDate(utc);
             double jdTT = AstroTime.JulianDateTT(utc);
-            var stars = ApparentPlace.Transform.At(jdTT);
-            return At(observer, jd, jdTT, stars);
+            return At(observer, AstroTime.JulianDate(utc), jdTT, ApparentPlace.Transform.At(jdTT));
         }
 
         /// <summary>Snapshot with a given (possibly shared) star transform and its nutation.</summary>
@@ -109,19 +110,16 @@ public static class SkyPositions
         {
             double last = Angles.Normalize360(SiderealTime.GreenwichMeanDeg(jdUtc)
                 + stars.Nutation.EquationOfEquinoxesSeconds * 15.0 / 3600.0 + observer.LongitudeDeg);
-            return new Snapshot
-            {
-                Observer = observer,
-                Stars = stars,
-                LastDeg = last,
-                Sun = SolarPosition.Compute(jdTT),
-                Moon = LunarPosition.Compute(jdTT, stars.Nutation),
-            };
+            return new Snapshot { Observer = observer, Stars = stars, LastDeg = last, JulianDateTT = jdTT };
         }
 
-        public Vec3 SunTopocentric() => Topocentric(Sun.Apparent.UnitVector, Sun.DistanceAu * KmPerAu);
+        public Vec3 SunTopocentric() => SunTopocentric(Sun);
 
-        public Vec3 MoonTopocentric() => Topocentric(Moon.Apparent.UnitVector, Moon.DistanceKm);
+        public Vec3 SunTopocentric(SunPosition sun) => Topocentric(sun.Apparent.UnitVector, sun.DistanceAu * KmPerAu);
+
+        public Vec3 MoonTopocentric() => MoonTopocentric(Moon);
+
+        public Vec3 MoonTopocentric(MoonPosition moon) => Topocentric(moon.Apparent.UnitVector, moon.DistanceKm);
 
         public HorizontalPosition Horizontal(Vec3 direction, double latitudeDeg)
         {

@@ -71,6 +71,17 @@ public class ExposureCalculatorTests
     }
 
     [Fact]
+    public void SignalToNoiseFor_DiameterReadingOfObstruction_MatchesVariantRow()
+    {
+        // check-values §4d variants [D]: "15 % of diameter" = 1 − 0.15² = 0.0225 of the area: A = 30 709.07 cm²,
+        // s = 8.82917 e⁻/s, b = 5.65263 e⁻/s, S/N(600 s) = 56.335, t(S/N 10) = 25.989 s. Tolerance 1e-4 relative.
+        var calc = ExposureCalculator.For(WorkedExample() with { CentralObstruction = 0.15 * 0.15 }, WorkedExampleSite());
+        Assert.InRange(calc.EffectiveAreaCm2 / 30709.07 - 1, -1e-5, 1e-5);
+        Assert.InRange(calc.SignalToNoiseFor(19.0, 600, ThreePixels).SignalToNoise / 56.335 - 1, -1e-4, 1e-4);
+        Assert.InRange(calc.TimeFor(19.0, 10, ThreePixels).ExposureSeconds / 25.989 - 1, -1e-4, 1e-4);
+    }
+
+    [Fact]
     public void Rates_DefaultExtraction_PicksThreePixelsForTheWorkedExample()
     {
         // Common practice: extract about ±1 FWHM; 2 × 1.2″ / 0.75″ = 3.2 → 3 px, the example's choice.
@@ -111,6 +122,41 @@ public class ExposureCalculatorTests
         // The single-readout answer would have been shorter: splitting costs time, never less.
         var unsplit = ExposureCalculator.For(WorkedExample(maxExposureSeconds: 1e6), WorkedExampleSite()).TimeFor(21.5, 10, ThreePixels);
         Assert.True(est.ExposureSeconds > unsplit.ExposureSeconds);
+    }
+
+    [Theory]
+    [InlineData(20.0, 10.0, 60.0)]
+    [InlineData(21.5, 10.0, 100.0)]
+    [InlineData(22.0, 5.0, 30.0)]
+    public void TimeFor_SplitExposures_MatchesSegmentBisectionOracle(double mag, double snr, double maxExposure)
+    {
+        // Oracle: walk the segments ((n−1)t_max, n t_max] where the readout count is fixed and S/N rises with t;
+        // the first segment whose end reaches the S/N holds the answer, found by bisection (no quadratic involved).
+        var calc = ExposureCalculator.For(WorkedExample(maxExposureSeconds: maxExposure), WorkedExampleSite());
+        double Snr(double t) => calc.SignalToNoiseFor(mag, t, ThreePixels).SignalToNoise;
+        int n = 1;
+        while (Snr(n * maxExposure) < snr)
+        {
+            n++;
+        }
+
+        double lo = (n - 1) * maxExposure, hi = n * maxExposure;
+        for (int i = 0; i < 60; i++)
+        {
+            double mid = 0.5 * (lo + hi);
+            if (mid > (n - 1) * maxExposure && Snr(mid) >= snr)
+            {
+                hi = mid;
+            }
+            else
+            {
+                lo = mid;
+            }
+        }
+
+        var est = calc.TimeFor(mag, snr, ThreePixels);
+        Assert.Equal(n, est.ExposureCount);
+        Assert.InRange(est.ExposureSeconds - hi, -1e-6, 1e-6);
     }
 
     [Fact]
@@ -177,5 +223,24 @@ public class ExposureCalculatorTests
         var calc = ExposureCalculator.For(WorkedExample(), WorkedExampleSite());
         var ex = Assert.Throws<ArgumentOutOfRangeException>(() => calc.Rates(19, new ObservingConditions { WavelengthAngstrom = 12000 }));
         Assert.Equal(nameof(ObservingConditions.WavelengthAngstrom), ex.ParamName);
+    }
+}
+
+public class ExposureCalculatorValidationTests
+{
+    [Fact]
+    public void For_ZeroThroughput_ThrowsNamingTheField()
+    {
+        var sp = ExposureCalculatorTests.WorkedExample() with { Throughput = 0 };
+        var ex = Assert.Throws<ArgumentOutOfRangeException>(() => ExposureCalculator.For(sp, ExposureCalculatorTests.WorkedExampleSite()));
+        Assert.Equal(nameof(Spectrograph.Throughput), ex.ParamName);
+    }
+
+    [Fact]
+    public void TimeFor_NonPositiveSnr_ThrowsNamingTheParameter()
+    {
+        var calc = ExposureCalculator.For(ExposureCalculatorTests.WorkedExample(), ExposureCalculatorTests.WorkedExampleSite());
+        var ex = Assert.Throws<ArgumentOutOfRangeException>(() => calc.TimeFor(19, 0));
+        Assert.Equal("signalToNoise", ex.ParamName);
     }
 }

@@ -55,3 +55,34 @@ public class HorizonTests
         Assert.Equal(0, Horizon.RefractionFromTrueDeg(20, new Atmosphere { PressureHpa = 0 }));
     }
 }
+
+public class SkyPositionsTests
+{
+    [Fact]
+    public void HourAngleDeg_CaseC1_IsLastMinusApparentRa()
+    {
+        // check-values §2b C1: LAST 5.984688 h and apparent α 75.25954° give H = 89.77032° − 75.25954° = 14.51078°.
+        // Tolerance 0.0005°: LAST within 0.03 s (0.000125°) and apparent α within 1″ (0.0003°).
+        double h = SkyPositions.HourAngleDeg(new SkyTarget(75, -30), ReferenceSite.Observer, DateTimeOffset.Parse("2026-01-16T03:00:00Z"));
+        Assert.InRange(h - 14.51078, -0.0005, 0.0005);
+    }
+
+    [Theory]
+    [InlineData(91, 0, 0, "LatitudeDeg")]
+    [InlineData(0, 400, 0, "LongitudeDeg")]
+    [InlineData(0, 0, 20000, "ElevationM")]
+    public void ObserverValidated_OutOfRange_ThrowsNamingTheField(double lat, double lon, double elev, string field)
+    {
+        var ex = Assert.Throws<ArgumentOutOfRangeException>(() => new Observer(lat, lon, elev).Validated());
+        Assert.Equal(field, ex.ParamName);
+    }
+
+    [Fact]
+    public void TargetHorizontal_WithRefraction_RaisesTheTarget()
+    {
+        // check-values §2b C8 with refraction (752 hPa, 10 °C): 29.8310°. Tolerance 0.0015° (see refraction tests).
+        var hz = SkyPositions.TargetHorizontal(new SkyTarget(37.5, 5), ReferenceSite.Observer, DateTimeOffset.Parse("2027-02-07T01:30:00Z"),
+            new Atmosphere { PressureHpa = 752, TemperatureC = 10 });
+        Assert.InRange(hz.AltitudeDeg - 29.8310, -0.0015, 0.0015);
+    }
+}

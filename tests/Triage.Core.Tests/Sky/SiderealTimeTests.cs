@@ -38,6 +38,15 @@ public class SiderealTimeTests
     }
 
     [Fact]
+    public void GreenwichApparentDeg_1987Apr10_19h21mUT_MatchesMeeusExample13b()
+    {
+        // check-values §1 row 12.b→13.b: apparent GST 8h34m56.853s (Meeus inputs from S1, sum [D]); astropy IAU1994 8h34m56.8531s.
+        // TT = UT + 56 s (from memory). Tolerance 10 ms: truncated nutation series.
+        double gast = SiderealTime.GreenwichApparentDeg(2446896.30625, 2446896.30625 + 56.0 / 86400);
+        Assert.InRange(SecondsDiff(gast, Hours(8, 34, 56.853)), -0.01, 0.01);
+    }
+
+    [Fact]
     public void NutationCompute_1987Apr10_MatchesMeeusExample12a()
     {
         // check-values §1 row 12.a (inputs from S1): Δψ = −3.788″, ε = 23.44357°. Tolerance 0.01″ / 1e-5°: 31 of 63 terms.
