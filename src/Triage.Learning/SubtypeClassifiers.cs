@@ -66,7 +66,7 @@ public static class SubtypeClassifiers
 
     private sealed class Row
     {
-        public uint Label;
+        public string Label = "";
         public float Weight;
         public float[] Features = [];
     }
@@ -81,16 +81,21 @@ public static class SubtypeClassifiers
             var ml = new MLContext(seed);
             var schema = SchemaDefinition.Create(typeof(Row));
             schema["Features"].ColumnType = new VectorDataViewType(NumberDataViewType.Single, dim);
-            schema["Label"].ColumnType = new KeyDataViewType(typeof(uint), classCount);
+            string Name(int label) => label.ToString(System.Globalization.CultureInfo.InvariantCulture);
             var train = ml.Data.LoadFromEnumerable(
-                trainFeatures.Select((x, i) => new Row { Label = (uint)trainLabels[i] + 1, Weight = trainWeights[i], Features = x }), schema);
-            var test = ml.Data.LoadFromEnumerable(testFeatures.Select(x => new Row { Label = 1, Weight = 1, Features = x }), schema);
-            IEstimator<ITransformer> pipeline = ml.Transforms.NormalizeMeanVariance("Features");
+                trainFeatures.Select((x, i) => new Row { Label = Name(trainLabels[i]), Weight = trainWeights[i], Features = x }), schema);
+            var test = ml.Data.LoadFromEnumerable(testFeatures.Select(x => new Row { Label = Name(0), Weight = 1, Features = x }), schema);
+            // Fixed key order 0…K−1 so that every fold shares one label dictionary.
+            var keys = ml.Data.LoadFromEnumerable(Enumerable.Range(0, classCount).Select(c => new { Label = Name(c) }));
+            IEstimator<ITransformer> pipeline = ml.Transforms.Conversion.MapValueToKey("Label", keyData: keys)
+                .Append(ml.Transforms.NormalizeMeanVariance("Features"));
             if (pcaRank > 0 && dim > pcaRank)
                 pipeline = pipeline.Append(ml.Transforms.ProjectToPrincipalComponents("Features", rank: pcaRank, seed: seed));
-            var model = pipeline.Append(trainer(ml, dim)).Fit(train);
-            var predicted = model.Transform(test).GetColumn<uint>("PredictedLabel").ToArray();
-            return predicted.Select(k => k == 0 ? 0 : (int)k - 1).ToArray();
+            var model = pipeline.Append(trainer(ml, dim))
+                .Append(ml.Transforms.Conversion.MapKeyToValue("PredictedName", "PredictedLabel"))
+                .Fit(train);
+            var predicted = model.Transform(test).GetColumn<string>("PredictedName").ToArray();
+            return predicted.Select(p => int.Parse(p, System.Globalization.CultureInfo.InvariantCulture)).ToArray();
         }
     }
 }

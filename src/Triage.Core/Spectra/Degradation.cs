@@ -55,7 +55,8 @@ public static class Degradation
         double lnMin = Math.Log(w[0]), lnMax = Math.Log(w[^1]);
         double nativeStep = (lnMax - lnMin) / (w.Length - 1);
         double outStep = 1.0 / (resolution * options.PixelsPerElement);
-        double step = Math.Min(nativeStep, outStep / 2);
+        // The working grid may be coarser than the input: its boxcar (δ²/12) is subtracted below.
+        double step = outStep / 2;
         if (sigmaK > 0) step = Math.Min(step, sigmaK / 4);
         var work = LogWavelengthGrid.WithCount(w[0], w[^1], Math.Max(2, (int)Math.Ceiling((lnMax - lnMin) / step)));
         double[] g = FluxRebinning.ToGrid(w, spectrum.Flux, work);

@@ -44,7 +44,11 @@ public sealed record SynthOptions
 
 /// <summary>Per-object truth of a synthetic object, for tests and documentation.</summary>
 public sealed record SyntheticObject(string ObjectId, string Subtype, double Redshift, double VelocityKmPerS,
-    double TemperatureScale, double HostFraction, bool StarFormingHost, double NativeSnr, IReadOnlyList<double> LineStrengths);
+    double TemperatureScale, double HostFraction, bool StarFormingHost, double NativeSnr, IReadOnlyList<double> LineStrengths)
+{
+    /// <summary>Host-galaxy reddening E(B−V) in magnitudes (0: none).</summary>
+    public double ReddeningMag { get; init; }
+}
 
 /// <summary>Generates the synthetic demo library.</summary>
 public static class SyntheticLibrary
@@ -94,13 +98,14 @@ public static class SyntheticLibrary
     private static (SyntheticObject, List<LibrarySpectrum>) MakeObject(SubtypeModel m, string id, Random rng, SynthOptions o)
     {
         double z = 0.005 + (o.MaxRedshift - 0.005) * Math.Sqrt(rng.NextDouble()); // more volume at larger z
-        double v0 = m.VelocityKmPerS * Math.Exp(0.15 * SpectrumNoise.StandardNormal(rng));
-        double tScale = Math.Exp(0.08 * SpectrumNoise.StandardNormal(rng));
-        double strengthSpread = 0.35;
+        double v0 = m.VelocityKmPerS * Math.Exp(0.2 * SpectrumNoise.StandardNormal(rng));
+        double tScale = Math.Exp(0.12 * SpectrumNoise.StandardNormal(rng));
+        double strengthSpread = 0.5;
         var strengths = m.Lines.Select(_ => Math.Exp(strengthSpread * SpectrumNoise.StandardNormal(rng))).ToArray();
-        double host = 0.6 * Math.Pow(rng.NextDouble(), 1.5);
+        double host = 0.75 * Math.Pow(rng.NextDouble(), 1.2);
+        double reddening = -0.2 * Math.Log(1 - rng.NextDouble()); // E(B−V), exponential with mean 0.2 mag
         bool starForming = rng.NextDouble() < 0.5;
-        double nativeSnr = 15 * Math.Exp(0.5 * rng.NextDouble() * 2.2); // 15 … 45 per element
+        double nativeSnr = 8 * Math.Exp(1.3 * rng.NextDouble()); // 8 … 29 per element
         double evolution = 0.8 + 0.45 * rng.NextDouble();
 
         int n = Math.Clamp(1 + Poisson(rng, o.MeanSpectraPerObject - 1), 2, 16);
@@ -108,7 +113,7 @@ public static class SyntheticLibrary
         while (phases.Count < n)
             phases.Add(Math.Round(m.PhaseFromDays + (m.PhaseToDays - m.PhaseFromDays) * Math.Pow(rng.NextDouble(), 1.3), 2));
 
-        var truth = new SyntheticObject(id, m.Subtype, z, v0, tScale, host, starForming, nativeSnr, strengths);
+        var truth = new SyntheticObject(id, m.Subtype, z, v0, tScale, host, starForming, nativeSnr, strengths) { ReddeningMag = reddening };
         var fine = LogWavelengthGrid.ForResolution(o.FromAngstrom, o.ToAngstrom, o.NativeResolution, 6);
         var obs = fine.Centres();
         var spectra = new List<LibrarySpectrum>();
@@ -179,10 +184,18 @@ public static class SyntheticLibrary
         for (int i = 0; i < n; i++)
         {
             double sn = cont[i] * Math.Exp(-tau[i]) + emission[i];
-            flux[i] = (1 - obj.HostFraction) * sn + obj.HostFraction * Host(rest[i], obj.StarFormingHost) / hostNorm;
+            flux[i] = ((1 - obj.HostFraction) * sn + obj.HostFraction * Host(rest[i], obj.StarFormingHost) / hostNorm)
+                      * Extinction(rest[i], obj.ReddeningMag) / Extinction(6000, obj.ReddeningMag);
         }
         return flux;
     }
+
+    /// <summary>
+    /// Dust transmission 10^(−0.4 A_λ) with A_λ = 3.1 E(B−V) (5500/λ)^1.2, a power-law approximation of a
+    /// Milky-Way-like extinction curve in the optical (from memory; demo only).
+    /// </summary>
+    public static double Extinction(double lambdaAngstrom, double reddeningMag) =>
+        Math.Pow(10, -0.4 * 3.1 * reddeningMag * Math.Pow(5500 / lambdaAngstrom, 1.2));
 
     /// <summary>Adds amplitude·exp(−½((λ−centre)/σ)²) within ±5σ.</summary>
     private static void AddGaussian(double[] lambda, double[] target, double centre, double sigma, double amplitude)
