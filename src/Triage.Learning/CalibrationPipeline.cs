@@ -29,9 +29,10 @@ public static class CalibrationPipeline
         RunTimed(library, taxonomy, settings, codeVersion, progress, cancellationToken).Document;
 
     /// <summary>As <see cref="Run"/>, also returning where the time went.</summary>
+    /// <param name="classifier">Classifier to use instead of <see cref="CalibrationSettings.Model"/> (tests inject a recording one).</param>
     public static (AccuracyModelDocument Document, CalibrationTimings Timings) RunTimed(SpectralLibrary library, Taxonomy taxonomy,
         CalibrationSettings settings, string codeVersion, IProgress<CalibrationProgress>? progress = null,
-        CancellationToken cancellationToken = default)
+        CancellationToken cancellationToken = default, ISubtypeClassifier? classifier = null)
     {
         var total = Stopwatch.StartNew();
         var spectra = library.Spectra;
@@ -44,8 +45,8 @@ public static class CalibrationPipeline
             throw new ArgumentException($"The grid asks for R = {resolutions.Max()} but the library's lowest source resolution is {maxR}.", nameof(settings));
         var labelIndex = subtypes.Select((s, i) => (s, i)).ToDictionary(p => p.s, p => p.i, StringComparer.Ordinal);
         int[] labels = spectra.Select(s => labelIndex[s.Subtype]).ToArray();
-        int[] fold = GroupedFolds.Assign(spectra.Select(s => (s.ObjectId, s.Subtype)).ToArray(), settings.Folds, settings.Seed);
-        var classifier = SubtypeClassifiers.Create(settings.Model);
+        var splits = Splits(library, settings);
+        classifier ??= SubtypeClassifiers.Create(settings.Model);
         var parallel = new ParallelOptions { CancellationToken = cancellationToken, MaxDegreeOfParallelism = Environment.ProcessorCount };
 
         int units = resolutions.Length * settings.SnrLevels.Count * settings.Folds, done = 0;
@@ -92,8 +93,7 @@ public static class CalibrationPipeline
                 int foldsDone = 0;
                 Parallel.For(0, settings.Folds, parallel, k =>
                 {
-                    var train = Enumerable.Range(0, spectra.Count).Where(i => fold[i] != k).ToArray();
-                    var test = Enumerable.Range(0, spectra.Count).Where(i => fold[i] == k).ToArray();
+                    var (train, test) = splits[k];
                     if (test.Length == 0) return;
                     var weights = ClassWeights(train.Select(i => labels[i]).ToArray(), subtypes.Length, settings.BalancedClassWeights);
                     var p = classifier.TrainAndPredict(train.Select(i => features[i]).ToArray(), train.Select(i => labels[i]).ToArray(),
@@ -132,6 +132,20 @@ public static class CalibrationPipeline
         };
         Report("done");
         return (document, new CalibrationTimings(degradeTime, featureTime, trainTime, total.Elapsed));
+    }
+
+    /// <summary>
+    /// The cross-validation splits the calibration uses: fold k tests the spectra that
+    /// <see cref="GroupedFolds.Assign"/> put in fold k and trains on all others.
+    /// </summary>
+    public static IReadOnlyList<(int[] Train, int[] Test)> Splits(SpectralLibrary library, CalibrationSettings settings)
+    {
+        var spectra = library.Spectra;
+        int[] fold = GroupedFolds.Assign(spectra.Select(s => (s.ObjectId, s.Subtype)).ToArray(), settings.Folds, settings.Seed);
+        return Enumerable.Range(0, settings.Folds)
+            .Select(k => (Enumerable.Range(0, spectra.Count).Where(i => fold[i] != k).ToArray(),
+                          Enumerable.Range(0, spectra.Count).Where(i => fold[i] == k).ToArray()))
+            .ToArray();
     }
 
     /// <summary>Per-class training weights: N/(K·n_c) when balanced (classes absent from the fold get 0), else 1.</summary>

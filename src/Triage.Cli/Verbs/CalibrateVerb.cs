@@ -23,11 +23,12 @@ internal static class CalibrateVerb
         var seed = new Option<int>("--seed") { Description = "Seed of folds and noise (default 1).", DefaultValueFactory = _ => 1 };
         var model = new Option<string>("--model") { Description = $"Classifier: {string.Join(", ", SubtypeClassifiers.Names)} (default linear).", DefaultValueFactory = _ => "linear" };
         var continuum = new Option<ContinuumHandling>("--continuum") { Description = "Continuum handling (default DivideKeepColour).", DefaultValueFactory = _ => ContinuumHandling.DivideKeepColour };
+        var maxBins = new Option<int>("--max-bins") { Description = "Upper bound on flux bins of the feature vector (default 200).", DefaultValueFactory = _ => new PreprocessOptions().MaxBins };
         var unweighted = new Option<bool>("--unweighted") { Description = "Train without balanced class weights." };
         var taxonomy = new Option<FileInfo?>("--taxonomy") { Description = "Taxonomy file (default: the built-in one, as config/taxonomy.txt)." };
         var plots = new Option<DirectoryInfo?>("--plots") { Description = "Folder for SVG plots (recall curves per S/N, confusion heatmaps)." };
         var cmd = new Command("calibrate", "Compute per-subtype classification accuracy versus R, S/N and phase from a labelled library.")
-            { library, output, resolutions, snr, folds, seed, model, continuum, unweighted, taxonomy, plots };
+            { library, output, resolutions, snr, folds, seed, model, continuum, maxBins, unweighted, taxonomy, plots };
         cmd.SetAction((parse, ct) =>
         {
             CalibrationSettings settings;
@@ -42,7 +43,7 @@ internal static class CalibrateVerb
                     Folds = parse.GetValue(folds) is var k and >= 2 ? k : throw new FormatException("--folds: at least 2."),
                     Seed = parse.GetValue(seed),
                     Model = SubtypeClassifiers.Names.Contains(parse.GetValue(model)) ? parse.GetValue(model)! : throw new FormatException($"--model: unknown '{parse.GetValue(model)}'."),
-                    Preprocess = new PreprocessOptions { Continuum = parse.GetValue(continuum) },
+                    Preprocess = new PreprocessOptions { Continuum = parse.GetValue(continuum), MaxBins = parse.GetValue(maxBins) is var mb and >= 8 ? mb : throw new FormatException("--max-bins: at least 8.") },
                     BalancedClassWeights = !parse.GetValue(unweighted),
                 };
                 tax = LibraryFiles.LoadTaxonomy(parse.GetValue(taxonomy)?.FullName);

@@ -38,8 +38,8 @@ public sealed record PreprocessOptions
     /// <summary>Pixels per resolution element of the feature grid. Default 2.</summary>
     public double PixelsPerElement { get; init; } = 2;
 
-    /// <summary>Upper bound on the number of flux bins (cost control; beyond it bins merge). Default 480.</summary>
-    public int MaxBins { get; init; } = 480;
+    /// <summary>Upper bound on the number of flux bins (cost control; beyond it bins merge). Default 200.</summary>
+    public int MaxBins { get; init; } = 200;
 
     /// <summary>Continuum treatment. Default <see cref="ContinuumHandling.DivideKeepColour"/>.</summary>
     public ContinuumHandling Continuum { get; init; } = ContinuumHandling.DivideKeepColour;
