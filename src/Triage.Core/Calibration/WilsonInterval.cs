@@ -30,6 +30,9 @@ public static class WilsonInterval
         double den = 1 + z2 / n;
         double centre = (p + z2 / (2 * n)) / den;
         double half = z / den * Math.Sqrt(p * (1 - p) / n + z2 / (4 * n * n));
-        return new ProportionInterval(p, Math.Max(0, centre - half), Math.Min(1, centre + half));
+        // At k = 0 or k = n the bound is exactly 0 or 1; rounding must not leave p̂ outside its interval.
+        double low = successes == 0 ? 0 : Math.Max(0, centre - half);
+        double high = successes == trials ? 1 : Math.Min(1, centre + half);
+        return new ProportionInterval(p, low, high);
     }
 }
