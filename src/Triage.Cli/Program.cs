@@ -12,6 +12,9 @@ Command[] verbs =
     PlanVerb.Create(),
     SkyVerb.Create(),
     ExptimeVerb.Create(),
+    LibraryVerb.Create(),
+    DegradeVerb.Create(),
+    CalibrateVerb.Create(),
 ];
 foreach (var verb in verbs)
 {
