@@ -1,4 +1,5 @@
 using Triage.Api.Access;
+using Triage.Api.Calibrations;
 using Triage.Api.Candidates;
 using Triage.Api.Errors;
 using Triage.Api.Jobs;
@@ -18,6 +19,7 @@ builder.Services.AddRoster();
 builder.Services.AddCandidates(builder.Configuration);
 builder.Services.AddJobs(builder.Configuration);
 builder.Services.AddPlans();
+builder.Services.AddCalibrations();
 
 var app = builder.Build();
 app.UseTriageProblems();
@@ -36,6 +38,7 @@ app.MapRoster();
 app.MapCandidates();
 app.MapJobs();
 app.MapPlans();
+app.MapCalibrations();
 
 await app.PrepareDatabaseAsync();
 await app.RunAsync();

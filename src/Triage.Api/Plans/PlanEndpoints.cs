@@ -35,6 +35,7 @@ public static class PlanEndpoints
     public static IServiceCollection AddPlans(this IServiceCollection services)
     {
         services.AddSingleton<PlanStore>();
+        services.AddSingleton<IJobHandler, PlanJobHandler>();
         return services;
     }
 

@@ -40,6 +40,12 @@ public sealed record NightBuildSettings
 
     /// <summary>Network cost cap for the night. Default none.</summary>
     public double? NetworkCostCap { get; init; }
+
+    /// <summary>
+    /// Spectrographs still busy with an observation kept from an earlier plan version (replanning):
+    /// nothing new starts on them before the given instant. Default none.
+    /// </summary>
+    public IReadOnlyDictionary<Guid, DateTimeOffset>? BusyUntilUtc { get; init; }
 }
 
 /// <summary>The problem built for one night, with what the safety check and the report need.</summary>
@@ -225,7 +231,12 @@ public static class NightProblemBuilder
                 continue;
             }
 
-            var available = new SecondsWindow(Math.Max(Seconds(d.StartUtc), Seconds(nowUtc)) + margin, Seconds(d.EndUtc) - margin);
+            var earliest = Math.Max(Seconds(d.StartUtc), Seconds(nowUtc));
+            if (settings.BusyUntilUtc is { } busy && busy.TryGetValue(sg.Id, out var until))
+            {
+                earliest = Math.Max(earliest, Seconds(until));
+            }
+            var available = new SecondsWindow(earliest + margin, Seconds(d.EndUtc) - margin);
             if (available.LengthSeconds <= 0)
             {
                 continue;

@@ -1,0 +1,70 @@
+using System.Text.Json;
+using Triage.Api.Jobs;
+using Triage.Core.Calibration;
+using Triage.Core.Spectra;
+using Triage.Core.Spectra.Synthetic;
+using Triage.Learning;
+using Triage.Storage.Calibrations;
+
+namespace Triage.Api.Calibrations;
+
+/// <summary>
+/// Runs a calibration as a durable job: builds or loads the library, runs the shared pipeline
+/// (the same code as <c>triage calibrate</c>) with its progress, and stores the result.
+/// </summary>
+public sealed class CalibrationJobHandler(CalibrationStore store, TimeProvider clock) : IJobHandler
+{
+    public const string JobKind = "calibration";
+
+    public string Kind => JobKind;
+
+    public async Task<string> RunAsync(string inputJson, IProgress<JobProgress> progress, CancellationToken ct)
+    {
+        var input = JsonSerializer.Deserialize<CalibrationJobInput>(inputJson, CalibrationEndpoints.InputJson)
+            ?? throw new JobInputException("The job input is empty.");
+        var taxonomy = Taxonomy.Default;
+        progress.Report(new JobProgress(0, "loading the library"));
+        SpectralLibrary library;
+        if (input.Library == "synthetic")
+        {
+            library = SyntheticLibrary.Generate(new SynthOptions { Objects = input.Objects, Seed = input.Seed }).Library;
+        }
+        else
+        {
+            try
+            {
+                library = LibraryFiles.Load(input.LibraryPath!, taxonomy);
+            }
+            catch (LibraryImportException e)
+            {
+                throw new JobInputException("The library was refused: " + string.Join("; ", e.Errors.Take(20).Select(x => x.ToString())));
+            }
+            catch (Exception e) when (e is IOException or UnauthorizedAccessException)
+            {
+                throw new JobInputException($"The library folder could not be read: {e.Message}");
+            }
+        }
+        var settings = new CalibrationSettings { Resolutions = input.Resolutions, SnrLevels = input.Snr, Folds = input.Folds, Seed = input.Seed };
+        var version = typeof(CalibrationJobHandler).Assembly.GetName().Version?.ToString() ?? "unknown";
+        AccuracyModelDocument document;
+        try
+        {
+            document = await Task.Run(() => CalibrationPipeline.Run(library, taxonomy, settings, version,
+                new InlineProgress(p => progress.Report(new JobProgress(p.Percent / 100, p.Stage))), ct), ct);
+        }
+        catch (ArgumentException e)
+        {
+            throw new JobInputException(e.Message);
+        }
+        var row = await store.AddAsync(new NewCalibration(
+            library.Synthetic ? "synthetic" : "library", library.Synthetic, library.Fingerprint(), version,
+            JsonSerializer.Serialize(settings, CalibrationJson.Options), null, CalibrationJson.Serialize(document)),
+            input.Activate, clock.GetUtcNow(), ct);
+        return JsonSerializer.Serialize(new { calibrationId = row.Id, active = row.Active, url = $"/api/calibrations/{row.Id}" });
+    }
+
+    private sealed class InlineProgress(Action<CalibrationProgress> report) : IProgress<CalibrationProgress>
+    {
+        public void Report(CalibrationProgress value) => report(value);
+    }
+}

@@ -1,0 +1,163 @@
+using System.Net;
+using System.Text.Json;
+using System.Text.Json.Nodes;
+using Microsoft.Extensions.DependencyInjection;
+using Triage.Api.Tests.Infrastructure;
+using Triage.Core.Roster;
+using Triage.Storage.Access;
+using Triage.Storage.Calibrations;
+using Triage.Storage.Roster;
+
+namespace Triage.Api.Tests.Plans;
+
+/// <summary>
+/// The whole loop through the API against PostgreSQL: the demo network and candidates go in,
+/// a plan is computed by the background job, an observation is reported, and the night is
+/// replanned from an instant during it.
+/// </summary>
+public sealed class PlanJobTests(IsolatedDatabaseFactory api) : IClassFixture<IsolatedDatabaseFactory>
+{
+    private static readonly DateOnly Night = new(2026, 12, 3);
+
+    private async Task<(HttpClient Scheduler, Dictionary<string, string> ObservatoryKeys)> ArrangeAsync()
+    {
+        var now = DateTimeOffset.UtcNow;
+        var (sites, spectrographs) = RosterJson.Parse(await File.ReadAllTextAsync(Repository.File("demo", "roster.json")));
+        var roster = api.Services.GetRequiredService<RosterStore>();
+        foreach (var s in sites)
+        {
+            await roster.InsertSiteAsync(s, now);
+        }
+        foreach (var s in spectrographs)
+        {
+            await roster.InsertSpectrographAsync(s, now);
+        }
+        var observatoryKeys = new Dictionary<string, string>();
+        foreach (var s in sites)
+        {
+            observatoryKeys[s.Id.ToString()] = await api.KeyAsync(Scope.Observatory, s.Observatory);
+        }
+        await api.Services.GetRequiredService<CalibrationStore>().AddAsync(new NewCalibration(
+            "synthetic", true, null, "test", null, null, await File.ReadAllTextAsync(Repository.File("demo", "calibration.json"))), true, now);
+
+        // The first 80 demo candidates, as a broker posts them.
+        var batch = JsonNode.Parse(await File.ReadAllTextAsync(Repository.File("demo", "candidates.json")))!.AsObject();
+        var some = new JsonArray(batch["candidates"]!.AsArray().Take(80).Select(c => c!.DeepClone()).ToArray());
+        var broker = api.ClientWith(await api.KeyAsync(Scope.Broker));
+        var posted = await broker.PostAsync("/api/candidates/batches", Bodies.Json(new JsonObject { ["candidates"] = some }));
+        Assert.True(posted.IsSuccessStatusCode, await posted.Content.ReadAsStringAsync());
+        return (api.ClientWith(await api.KeyAsync(Scope.Scheduler)), observatoryKeys);
+    }
+
+    private static async Task<JsonElement> RunJobAsync(HttpClient client, HttpResponseMessage accepted)
+    {
+        Assert.Equal(HttpStatusCode.Accepted, accepted.StatusCode);
+        var jobUrl = JsonDocument.Parse(await accepted.Content.ReadAsStringAsync()).RootElement.GetProperty("jobUrl").GetString();
+        for (var i = 0; i < 600; i++)
+        {
+            var job = JsonDocument.Parse(await client.GetStringAsync(jobUrl)).RootElement;
+            var status = job.GetProperty("status").GetString();
+            if (status == "succeeded")
+            {
+                return job.GetProperty("result");
+            }
+            Assert.True(status != "failed", job.GetProperty("error").GetString());
+            await Task.Delay(200);
+        }
+        throw new TimeoutException("the plan job did not finish");
+    }
+
+    [Fact]
+    public async Task Plan_ThenReportAndReplan_KeepsExecutingWorkAndDropsTheClassified()
+    {
+        var (scheduler, observatoryKeys) = await ArrangeAsync();
+
+        var first = await RunJobAsync(scheduler, await scheduler.PostAsync("/api/plans", Bodies.Raw("""{"night":"2026-12-03","timeLimitSeconds":3}""")));
+        Assert.Equal(1, first.GetProperty("version").GetInt32());
+        var plan1 = JsonDocument.Parse(await scheduler.GetStringAsync("/api/plans/2026-12-03")).RootElement.GetProperty("plan");
+        var entries1 = plan1.GetProperty("spectrographs").EnumerateArray()
+            .SelectMany(q => q.GetProperty("queue").EnumerateArray().Select(e => (Unit: q.GetProperty("spectrographId").GetString()!, Entry: e)))
+            .ToList();
+        Assert.NotEmpty(entries1);
+        Assert.Contains("advisory", plan1.GetProperty("advisory").GetString(), StringComparison.OrdinalIgnoreCase);
+
+        // Planned candidates moved to "planned".
+        var (unit, entry) = entries1.OrderBy(e => e.Entry.GetProperty("startUtc").GetDateTimeOffset()).First();
+        var candidateId = entry.GetProperty("candidateId").GetString()!;
+        var detail = JsonDocument.Parse(await scheduler.GetStringAsync($"/api/candidates/{candidateId}")).RootElement;
+        Assert.Equal("planned", detail.GetProperty("candidate").GetProperty("state").GetString());
+
+        // The observatory of the first entry's spectrograph reports it classified.
+        var site = (await api.Services.GetRequiredService<RosterStore>().GetSpectrographAsync(Guid.Parse(unit)))!.Value.SiteId;
+        var observatory = api.ClientWith(observatoryKeys[site.ToString()]);
+        var report = await observatory.PostAsync($"/api/candidates/{candidateId}/observations", Bodies.Raw(JsonSerializer.Serialize(new
+        {
+            spectrographId = unit, outcome = "done", achievedSnr = 18.0, classifiedLabel = "Ia",
+            observedUtc = DateTimeOffset.UtcNow.AddMinutes(-1),
+        })));
+        Assert.True(report.IsSuccessStatusCode, await report.Content.ReadAsStringAsync());
+
+        // Replan from the middle of another entry: that entry is kept, the classified one is gone.
+        var executing = entries1.First(e => e.Entry.GetProperty("candidateId").GetString() != candidateId);
+        var start = executing.Entry.GetProperty("startUtc").GetDateTimeOffset();
+        var end = executing.Entry.GetProperty("endUtc").GetDateTimeOffset();
+        var fromUtc = start + (end - start) / 2;
+        var second = await RunJobAsync(scheduler, await scheduler.PostAsync("/api/plans", Bodies.Raw(
+            JsonSerializer.Serialize(new { night = "2026-12-03", timeLimitSeconds = 3, fromUtc }))));
+        Assert.Equal(2, second.GetProperty("version").GetInt32());
+        var plan2 = JsonDocument.Parse(await scheduler.GetStringAsync("/api/plans/2026-12-03")).RootElement.GetProperty("plan");
+        var entries2 = plan2.GetProperty("spectrographs").EnumerateArray()
+            .SelectMany(q => q.GetProperty("queue").EnumerateArray().Select(e => (Unit: q.GetProperty("spectrographId").GetString()!, Entry: e)))
+            .ToList();
+        Assert.DoesNotContain(entries2, e => e.Entry.GetProperty("candidateId").GetString() == candidateId);
+        // Every observation executing at the instant (on any unit) is kept as it was.
+        string Id(JsonElement e) => e.GetProperty("candidateId").GetString()!;
+        DateTimeOffset Start(JsonElement e) => e.GetProperty("startUtc").GetDateTimeOffset();
+        DateTimeOffset End(JsonElement e) => e.GetProperty("endUtc").GetDateTimeOffset();
+        var executingAtFrom = entries1.Where(e => Start(e.Entry) <= fromUtc && fromUtc < End(e.Entry) && Id(e.Entry) != candidateId).ToList();
+        Assert.Contains(executingAtFrom, e => Id(e.Entry) == Id(executing.Entry));
+        foreach (var (u, e) in executingAtFrom)
+        {
+            var keptEntry = Assert.Single(entries2, x => Id(x.Entry) == Id(e));
+            Assert.Equal(u, keptEntry.Unit);
+            Assert.Equal(Start(e), Start(keptEntry.Entry));
+        }
+        var keptIds = executingAtFrom.Select(e => Id(e.Entry)).ToHashSet();
+        // Nothing new starts before the replanning instant, nor before the kept work on its unit ends.
+        foreach (var (u, e) in entries2.Where(x => !keptIds.Contains(Id(x.Entry))))
+        {
+            Assert.True(Start(e) >= fromUtc, $"{Id(e)} starts {Start(e):O}, before {fromUtc:O}");
+            foreach (var k in executingAtFrom.Where(k => k.Unit == u))
+            {
+                Assert.True(Start(e) >= End(k.Entry), $"{Id(e)} overlaps kept {Id(k.Entry)}");
+            }
+        }
+
+        var diff = JsonDocument.Parse(await scheduler.GetStringAsync("/api/plans/2026-12-03/diff?from=1&to=2")).RootElement;
+        Assert.Contains(diff.GetProperty("changes").EnumerateArray(),
+            c => c.GetProperty("candidateId").GetString() == candidateId && c.GetProperty("kind").GetString() == "removed");
+    }
+
+    [Fact]
+    public async Task Plan_WithoutActiveCalibration_FailsClearly_AndLeavesNoVersion()
+    {
+        // A second isolated database: no calibration at all.
+        using var bare = new IsolatedDatabaseFactory();
+        var scheduler = bare.ClientWith(await bare.KeyAsync(Scope.Scheduler));
+        var accepted = await scheduler.PostAsync("/api/plans", Bodies.Raw("""{"night":"2026-12-04"}"""));
+        var jobUrl = JsonDocument.Parse(await accepted.Content.ReadAsStringAsync()).RootElement.GetProperty("jobUrl").GetString();
+        JsonElement job = default;
+        for (var i = 0; i < 150; i++)
+        {
+            job = JsonDocument.Parse(await scheduler.GetStringAsync(jobUrl)).RootElement;
+            if (job.GetProperty("status").GetString() is "failed" or "succeeded")
+            {
+                break;
+            }
+            await Task.Delay(200);
+        }
+        Assert.Equal("failed", job.GetProperty("status").GetString());
+        Assert.Contains("No calibration is active", job.GetProperty("error").GetString(), StringComparison.Ordinal);
+        Assert.Equal(HttpStatusCode.NotFound, (await scheduler.GetAsync("/api/plans/2026-12-04")).StatusCode);
+    }
+}
