@@ -1,4 +1,7 @@
 using BenchmarkDotNet.Attributes;
+using BenchmarkDotNet.Configs;
+using BenchmarkDotNet.Jobs;
+using BenchmarkDotNet.Toolchains.InProcess.Emit;
 using Npgsql;
 using Triage.Core.Candidates;
 using Triage.Storage;
@@ -14,8 +17,7 @@ namespace Triage.Bench.Candidates;
 /// point is a real insert. Candidates per second = 5,000 / mean.
 /// Database: <c>TRIAGE_BENCH_CONNECTION</c> (default: the local triage_bench database).
 /// </summary>
-[SimpleJob(launchCount: 1, warmupCount: 2, iterationCount: 10, invocationCount: 1)]
-[MemoryDiagnoser]
+[Config(typeof(IntakeConfig))]
 public class CandidateIntakeBenchmarks
 {
     private const int BatchSize = 5000;
@@ -49,6 +51,14 @@ public class CandidateIntakeBenchmarks
     /// <summary>The same batch again (a broker's retry): nothing changes.</summary>
     [Benchmark]
     public Task<IntakeSummary> RepeatedBatchOf5000() => _store.UpsertBatchAsync("bench-broker", _repeat, DateTimeOffset.UtcNow);
+
+    /// <summary>In-process (the generated-project build times out on a loaded 2-core machine); one batch per iteration.</summary>
+    private sealed class IntakeConfig : ManualConfig
+    {
+        public IntakeConfig() => AddJob(Job.Default
+            .WithToolchain(InProcessEmitToolchain.Instance)
+            .WithWarmupCount(1).WithIterationCount(8).WithInvocationCount(1).WithUnrollFactor(1));
+    }
 
     [GlobalCleanup]
     public void Cleanup() => _data.Dispose();

@@ -26,18 +26,20 @@ internal static class SinglePostLatency
         int seconds = args.Length > 4 ? int.Parse(args[4]) : 30;
         int total = rate * seconds;
 
-        using var http = new HttpClient(new SocketsHttpHandler { MaxConnectionsPerServer = 256, PooledConnectionLifetime = TimeSpan.FromMinutes(5) }) { BaseAddress = baseUrl };
+        using var http = new HttpClient(new SocketsHttpHandler { MaxConnectionsPerServer = 256, PooledConnectionLifetime = TimeSpan.FromMinutes(5) }) { BaseAddress = baseUrl, Timeout = TimeSpan.FromSeconds(30) };
         http.DefaultRequestHeaders.Authorization = new AuthenticationHeaderValue("Bearer", key);
         string run = Guid.NewGuid().ToString("N")[..8];
 
         // Warm-up: 200 requests at the same rate, not measured.
         await DriveAsync(http, run + "w", 200, rate, null);
         var latencies = new double[total];
+        var started = Stopwatch.StartNew();
         var failures = await DriveAsync(http, run, total, rate, latencies);
+        var elapsed = started.Elapsed;
 
         Array.Sort(latencies);
         double P(double q) => latencies[Math.Min(total - 1, (int)Math.Ceiling(q * total) - 1)];
-        Console.WriteLine($"single-candidate posts: {total} at {rate}/s for {seconds} s, failures {failures}");
+        Console.WriteLine($"single-candidate posts: {total} offered at {rate}/s for {seconds} s, failures {failures}, achieved {total / elapsed.TotalSeconds:0} answers/s");
         Console.WriteLine($"latency ms: p50 {P(0.50):0.0}  p90 {P(0.90):0.0}  p99 {P(0.99):0.0}  max {latencies[^1]:0.0}  mean {latencies.Average():0.0}");
         return failures == 0 ? 0 : 1;
     }
@@ -59,13 +61,21 @@ internal static class SinglePostLatency
             tasks.Add(Task.Run(async () =>
             {
                 var sw = Stopwatch.StartNew();
-                using var content = new StringContent(Body($"{run}-{index}"), Encoding.UTF8, "application/json");
-                using var response = await http.PostAsync("/api/candidates/batches", content);
-                sw.Stop();
-                if (!response.IsSuccessStatusCode)
+                try
                 {
+                    using var content = new StringContent(Body($"{run}-{index}"), Encoding.UTF8, "application/json");
+                    using var response = await http.PostAsync("/api/candidates/batches", content);
+                    if (!response.IsSuccessStatusCode)
+                    {
+                        Interlocked.Increment(ref failures);
+                    }
+                }
+                catch (Exception ex) when (ex is HttpRequestException or TaskCanceledException)
+                {
+                    // A refused or timed-out request counts as a failure; its latency is the time until it failed.
                     Interlocked.Increment(ref failures);
                 }
+                sw.Stop();
                 if (latencies is not null)
                 {
                     latencies[index] = sw.Elapsed.TotalMilliseconds;

@@ -76,7 +76,7 @@ public sealed class CandidateStore(NpgsqlDataSource dataSource)
     // Photometry is merged only for candidates whose submission changed (an identical submission
     // was merged whole before), joined to the rows the candidate merge returned.
     private const string MergeSql = """
-        WITH up AS (
+        WITH {0} up AS (
             INSERT INTO candidates (id, broker, broker_candidate_id, ra_deg, dec_deg, ux, uy, uz, discovered_at, redshift,
                 redshift_error, subtype_probabilities, science_weight, notes, broker_state, content_hash, created_at, updated_at)
             SELECT id, @broker, broker_candidate_id, ra_deg, dec_deg, ux, uy, uz, discovered_at, redshift, redshift_error,
@@ -112,6 +112,33 @@ public sealed class CandidateStore(NpgsqlDataSource dataSource)
                (SELECT count(*) FROM points)::int AS Written
         """;
 
+    // Small batches (a broker posting one candidate at a time) skip the temporary tables: the
+    // same merge reads the rows from array parameters, which saves the catalog work per request.
+    private const string StageFromArrays = """
+        stage_candidates AS (
+            SELECT * FROM unnest(@ids::uuid[], @cids::text[], @ras::float8[], @decs::float8[], @uxs::float8[], @uys::float8[], @uzs::float8[],
+                @discovered::timestamptz[], @redshifts::float8[], @redshiftErrors::float8[], @probabilities::text[], @weights::float8[],
+                @notes::text[], @states::text[], @hashes::bytea[])
+                AS t(id, broker_candidate_id, ra_deg, dec_deg, ux, uy, uz, discovered_at, redshift, redshift_error, probabilities_text,
+                     science_weight, notes, broker_state_text, content_hash)
+        ), stage_candidates_typed AS (
+            SELECT id, broker_candidate_id, ra_deg, dec_deg, ux, uy, uz, discovered_at, redshift, redshift_error,
+                probabilities_text::jsonb AS subtype_probabilities, science_weight, notes, broker_state_text::jsonb AS broker_state, content_hash
+            FROM stage_candidates
+        ), stage_photometry AS (
+            SELECT * FROM unnest(@pcids::text[], @bands::text[], @times::timestamptz[], @fluxes::float8[], @fluxErrors::float8[],
+                @upper::boolean[], @mags::float8[], @magErrors::float8[])
+                AS p(broker_candidate_id, band, observed_at, flux_microjy, flux_error_microjy, upper_limit, mag_ab, mag_ab_error)
+        ),
+        """;
+
+    /// <summary>Largest batch merged from array parameters instead of COPY and staging tables.</summary>
+    public const int ArrayPathMaxCandidates = 32;
+
+    private static readonly string MergeFromTablesSql = string.Format(System.Globalization.CultureInfo.InvariantCulture, MergeSql, "");
+    private static readonly string MergeFromArraysSql = string.Format(System.Globalization.CultureInfo.InvariantCulture, MergeSql,
+        StageFromArrays).Replace("FROM stage_candidates ORDER BY", "FROM stage_candidates_typed ORDER BY", StringComparison.Ordinal);
+
     /// <summary>Stores a validated batch for one broker, all or nothing. Retries a deadlock or serialization failure twice.</summary>
     public async Task<IntakeSummary> UpsertBatchAsync(string broker, IReadOnlyList<CandidateIntake> batch, DateTimeOffset now, CancellationToken ct = default)
     {
@@ -130,6 +157,10 @@ public sealed class CandidateStore(NpgsqlDataSource dataSource)
 
     private async Task<IntakeSummary> UpsertOnceAsync(string broker, IReadOnlyList<CandidateIntake> batch, DateTimeOffset now, CancellationToken ct)
     {
+        if (batch.Count <= ArrayPathMaxCandidates)
+        {
+            return await UpsertFromArraysAsync(broker, batch, now, ct);
+        }
         await using var conn = await dataSource.OpenConnectionAsync(ct);
         await using var tx = await conn.BeginTransactionAsync(ct);
         await conn.ExecuteAsync(new CommandDefinition(CreateStagingSql, transaction: tx, cancellationToken: ct));
@@ -191,8 +222,47 @@ public sealed class CandidateStore(NpgsqlDataSource dataSource)
         }
 
         var (created, updated, written) = await conn.QuerySingleAsync<(int Created, int Updated, int Written)>(
-            new CommandDefinition(MergeSql, new { broker, now }, tx, cancellationToken: ct));
+            new CommandDefinition(MergeFromTablesSql, new { broker, now }, tx, cancellationToken: ct));
         await tx.CommitAsync(ct);
+        return new IntakeSummary(batch.Count, created, updated, batch.Count - created - updated, written);
+    }
+
+    private async Task<IntakeSummary> UpsertFromArraysAsync(string broker, IReadOnlyList<CandidateIntake> batch, DateTimeOffset now, CancellationToken ct)
+    {
+        var candidates = batch.Select(b => b.Candidate).ToArray();
+        var vectors = candidates.Select(c => UnitVector(c.RaDeg, c.DecDeg)).ToArray();
+        var points = candidates.SelectMany(c => c.Photometry.Select(p => (c.Id, Point: p))).ToArray();
+        var parameters = new
+        {
+            broker,
+            now,
+            ids = candidates.Select(_ => Guid.CreateVersion7(now)).ToArray(),
+            cids = candidates.Select(c => c.Id).ToArray(),
+            ras = candidates.Select(c => c.RaDeg).ToArray(),
+            decs = candidates.Select(c => c.DecDeg).ToArray(),
+            uxs = vectors.Select(v => v.X).ToArray(),
+            uys = vectors.Select(v => v.Y).ToArray(),
+            uzs = vectors.Select(v => v.Z).ToArray(),
+            discovered = candidates.Select(c => c.DiscoveredUtc.UtcDateTime).ToArray(),
+            redshifts = candidates.Select(c => c.Redshift).ToArray(),
+            redshiftErrors = candidates.Select(c => c.RedshiftError).ToArray(),
+            probabilities = candidates.Select(c => c.SubtypeProbabilities is null ? null : JsonSerializer.Serialize(c.SubtypeProbabilities)).ToArray(),
+            weights = candidates.Select(c => c.ScienceWeight).ToArray(),
+            notes = candidates.Select(c => c.Notes).ToArray(),
+            states = candidates.Select(c => c.BrokerState is null ? null : JsonSerializer.Serialize(c.BrokerState, BrokerBatchJson.Options)).ToArray(),
+            hashes = batch.Select(b => b.ContentHash).ToArray(),
+            pcids = points.Select(p => p.Id).ToArray(),
+            bands = points.Select(p => p.Point.Band.Name).ToArray(),
+            times = points.Select(p => p.Point.TimeUtc.UtcDateTime).ToArray(),
+            fluxes = points.Select(p => p.Point.FluxMicroJy).ToArray(),
+            fluxErrors = points.Select(p => p.Point.FluxErrorMicroJy).ToArray(),
+            upper = points.Select(p => p.Point.IsUpperLimit).ToArray(),
+            mags = points.Select(p => p.Point.MagAb).ToArray(),
+            magErrors = points.Select(p => p.Point.MagAbError).ToArray(),
+        };
+        await using var conn = await dataSource.OpenConnectionAsync(ct);
+        var (created, updated, written) = await conn.QuerySingleAsync<(int Created, int Updated, int Written)>(
+            new CommandDefinition(MergeFromArraysSql, parameters, cancellationToken: ct));
         return new IntakeSummary(batch.Count, created, updated, batch.Count - created - updated, written);
     }
 
