@@ -1,8 +1,14 @@
 using BenchmarkDotNet.Configs;
 using BenchmarkDotNet.Running;
 
+// `latency ...` runs the open-loop HTTP harness; everything else goes to BenchmarkDotNet.
 // Every benchmark class in this assembly is listed; pick with --filter, e.g. `--filter *Visibility* --job short`.
+if (args.Length > 0 && args[0] == "latency")
+{
+    return await Triage.Bench.Harness.SinglePostLatency.RunAsync(args);
+}
 // The build timeout is raised because the shared build machine can be slow to compile the generated project.
 var config = ManualConfig.Create(DefaultConfig.Instance);
 config.BuildTimeout = TimeSpan.FromMinutes(10);
 BenchmarkSwitcher.FromAssembly(typeof(Program).Assembly).Run(args, config);
+return 0;

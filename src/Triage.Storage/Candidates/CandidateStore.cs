@@ -73,8 +73,10 @@ public sealed class CandidateStore(NpgsqlDataSource dataSource)
             upper_limit boolean, mag_ab float8, mag_ab_error float8) ON COMMIT DROP;
         """;
 
-    private const string MergeCandidatesSql = """
-        WITH up AS (
+    // Photometry is merged only for candidates whose submission changed (an identical submission
+    // was merged whole before), joined to the rows the candidate merge returned.
+    private const string MergeSql = """
+        WITH {0} up AS (
             INSERT INTO candidates (id, broker, broker_candidate_id, ra_deg, dec_deg, ux, uy, uz, discovered_at, redshift,
                 redshift_error, subtype_probabilities, science_weight, notes, broker_state, content_hash, created_at, updated_at)
             SELECT id, @broker, broker_candidate_id, ra_deg, dec_deg, ux, uy, uz, discovered_at, redshift, redshift_error,
@@ -88,26 +90,54 @@ public sealed class CandidateStore(NpgsqlDataSource dataSource)
                 data_version = candidates.data_version + 1, version = candidates.version + 1, updated_at = EXCLUDED.updated_at,
                 state = CASE WHEN candidates.state = 'stale' THEN 'new' ELSE candidates.state END
             WHERE candidates.content_hash <> EXCLUDED.content_hash
-            RETURNING id, (xmax = 0) AS inserted
+            RETURNING id, broker_candidate_id, (xmax = 0) AS inserted
         ), events AS (
             INSERT INTO candidate_events (candidate_id, at, kind, actor)
             SELECT id, @now, CASE WHEN inserted THEN 'created' ELSE 'updated' END, @broker FROM up
+        ), points AS (
+            INSERT INTO candidate_photometry (candidate_id, band, observed_at, flux_microjy, flux_error_microjy, upper_limit, mag_ab, mag_ab_error)
+            SELECT up.id, s.band, s.observed_at, s.flux_microjy, s.flux_error_microjy, s.upper_limit, s.mag_ab, s.mag_ab_error
+            FROM stage_photometry s JOIN up ON up.broker_candidate_id = s.broker_candidate_id
+            ORDER BY up.id, s.band, s.observed_at
+            ON CONFLICT (candidate_id, band, observed_at) DO UPDATE SET
+                flux_microjy = EXCLUDED.flux_microjy, flux_error_microjy = EXCLUDED.flux_error_microjy,
+                upper_limit = EXCLUDED.upper_limit, mag_ab = EXCLUDED.mag_ab, mag_ab_error = EXCLUDED.mag_ab_error
+            WHERE (candidate_photometry.flux_microjy, candidate_photometry.flux_error_microjy, candidate_photometry.upper_limit,
+                   candidate_photometry.mag_ab, candidate_photometry.mag_ab_error)
+               IS DISTINCT FROM (EXCLUDED.flux_microjy, EXCLUDED.flux_error_microjy, EXCLUDED.upper_limit, EXCLUDED.mag_ab, EXCLUDED.mag_ab_error)
+            RETURNING 1
         )
-        SELECT count(*) FILTER (WHERE inserted)::int AS Created, count(*) FILTER (WHERE NOT inserted)::int AS Updated FROM up
+        SELECT (SELECT count(*) FROM up WHERE inserted)::int AS Created,
+               (SELECT count(*) FROM up WHERE NOT inserted)::int AS Updated,
+               (SELECT count(*) FROM points)::int AS Written
         """;
 
-    private const string MergePhotometrySql = """
-        INSERT INTO candidate_photometry (candidate_id, band, observed_at, flux_microjy, flux_error_microjy, upper_limit, mag_ab, mag_ab_error)
-        SELECT c.id, s.band, s.observed_at, s.flux_microjy, s.flux_error_microjy, s.upper_limit, s.mag_ab, s.mag_ab_error
-        FROM stage_photometry s JOIN candidates c ON c.broker = @broker AND c.broker_candidate_id = s.broker_candidate_id
-        ORDER BY c.id, s.band, s.observed_at
-        ON CONFLICT (candidate_id, band, observed_at) DO UPDATE SET
-            flux_microjy = EXCLUDED.flux_microjy, flux_error_microjy = EXCLUDED.flux_error_microjy,
-            upper_limit = EXCLUDED.upper_limit, mag_ab = EXCLUDED.mag_ab, mag_ab_error = EXCLUDED.mag_ab_error
-        WHERE (candidate_photometry.flux_microjy, candidate_photometry.flux_error_microjy, candidate_photometry.upper_limit,
-               candidate_photometry.mag_ab, candidate_photometry.mag_ab_error)
-           IS DISTINCT FROM (EXCLUDED.flux_microjy, EXCLUDED.flux_error_microjy, EXCLUDED.upper_limit, EXCLUDED.mag_ab, EXCLUDED.mag_ab_error)
+    // Small batches (a broker posting one candidate at a time) skip the temporary tables: the
+    // same merge reads the rows from array parameters, which saves the catalog work per request.
+    private const string StageFromArrays = """
+        stage_candidates AS (
+            SELECT * FROM unnest(@ids::uuid[], @cids::text[], @ras::float8[], @decs::float8[], @uxs::float8[], @uys::float8[], @uzs::float8[],
+                @discovered::timestamptz[], @redshifts::float8[], @redshiftErrors::float8[], @probabilities::text[], @weights::float8[],
+                @notes::text[], @states::text[], @hashes::bytea[])
+                AS t(id, broker_candidate_id, ra_deg, dec_deg, ux, uy, uz, discovered_at, redshift, redshift_error, probabilities_text,
+                     science_weight, notes, broker_state_text, content_hash)
+        ), stage_candidates_typed AS (
+            SELECT id, broker_candidate_id, ra_deg, dec_deg, ux, uy, uz, discovered_at, redshift, redshift_error,
+                probabilities_text::jsonb AS subtype_probabilities, science_weight, notes, broker_state_text::jsonb AS broker_state, content_hash
+            FROM stage_candidates
+        ), stage_photometry AS (
+            SELECT * FROM unnest(@pcids::text[], @bands::text[], @times::timestamptz[], @fluxes::float8[], @fluxErrors::float8[],
+                @upper::boolean[], @mags::float8[], @magErrors::float8[])
+                AS p(broker_candidate_id, band, observed_at, flux_microjy, flux_error_microjy, upper_limit, mag_ab, mag_ab_error)
+        ),
         """;
+
+    /// <summary>Largest batch merged from array parameters instead of COPY and staging tables.</summary>
+    public const int ArrayPathMaxCandidates = 32;
+
+    private static readonly string MergeFromTablesSql = string.Format(System.Globalization.CultureInfo.InvariantCulture, MergeSql, "");
+    private static readonly string MergeFromArraysSql = string.Format(System.Globalization.CultureInfo.InvariantCulture, MergeSql,
+        StageFromArrays).Replace("FROM stage_candidates ORDER BY", "FROM stage_candidates_typed ORDER BY", StringComparison.Ordinal);
 
     /// <summary>Stores a validated batch for one broker, all or nothing. Retries a deadlock or serialization failure twice.</summary>
     public async Task<IntakeSummary> UpsertBatchAsync(string broker, IReadOnlyList<CandidateIntake> batch, DateTimeOffset now, CancellationToken ct = default)
@@ -127,6 +157,10 @@ public sealed class CandidateStore(NpgsqlDataSource dataSource)
 
     private async Task<IntakeSummary> UpsertOnceAsync(string broker, IReadOnlyList<CandidateIntake> batch, DateTimeOffset now, CancellationToken ct)
     {
+        if (batch.Count <= ArrayPathMaxCandidates)
+        {
+            return await UpsertFromArraysAsync(broker, batch, now, ct);
+        }
         await using var conn = await dataSource.OpenConnectionAsync(ct);
         await using var tx = await conn.BeginTransactionAsync(ct);
         await conn.ExecuteAsync(new CommandDefinition(CreateStagingSql, transaction: tx, cancellationToken: ct));
@@ -138,34 +172,33 @@ public sealed class CandidateStore(NpgsqlDataSource dataSource)
             foreach (var (c, hash) in batch)
             {
                 var (x, y, z) = UnitVector(c.RaDeg, c.DecDeg);
-                await copy.StartRowAsync(ct);
-                await copy.WriteAsync(Guid.CreateVersion7(now), NpgsqlDbType.Uuid, ct);
-                await copy.WriteAsync(c.Id, NpgsqlDbType.Text, ct);
-                await copy.WriteAsync(c.RaDeg, NpgsqlDbType.Double, ct);
-                await copy.WriteAsync(c.DecDeg, NpgsqlDbType.Double, ct);
-                await copy.WriteAsync(x, NpgsqlDbType.Double, ct);
-                await copy.WriteAsync(y, NpgsqlDbType.Double, ct);
-                await copy.WriteAsync(z, NpgsqlDbType.Double, ct);
-                await copy.WriteAsync(c.DiscoveredUtc.UtcDateTime, NpgsqlDbType.TimestampTz, ct);
-                await WriteNullableAsync(copy, c.Redshift, ct);
-                await WriteNullableAsync(copy, c.RedshiftError, ct);
-                await WriteJsonAsync(copy, c.SubtypeProbabilities is null ? null : JsonSerializer.Serialize(c.SubtypeProbabilities), ct);
-                await copy.WriteAsync(c.ScienceWeight, NpgsqlDbType.Double, ct);
+                copy.StartRow();
+                copy.Write(Guid.CreateVersion7(now), NpgsqlDbType.Uuid);
+                copy.Write(c.Id, NpgsqlDbType.Text);
+                copy.Write(c.RaDeg, NpgsqlDbType.Double);
+                copy.Write(c.DecDeg, NpgsqlDbType.Double);
+                copy.Write(x, NpgsqlDbType.Double);
+                copy.Write(y, NpgsqlDbType.Double);
+                copy.Write(z, NpgsqlDbType.Double);
+                copy.Write(c.DiscoveredUtc.UtcDateTime, NpgsqlDbType.TimestampTz);
+                WriteNullable(copy, c.Redshift);
+                WriteNullable(copy, c.RedshiftError);
+                WriteJson(copy, c.SubtypeProbabilities is null ? null : JsonSerializer.Serialize(c.SubtypeProbabilities));
+                copy.Write(c.ScienceWeight, NpgsqlDbType.Double);
                 if (c.Notes is null)
                 {
-                    await copy.WriteNullAsync(ct);
+                    copy.WriteNull();
                 }
                 else
                 {
-                    await copy.WriteAsync(c.Notes, NpgsqlDbType.Text, ct);
+                    copy.Write(c.Notes, NpgsqlDbType.Text);
                 }
-                await WriteJsonAsync(copy, c.BrokerState is null ? null : JsonSerializer.Serialize(c.BrokerState, BrokerBatchJson.Options), ct);
-                await copy.WriteAsync(hash, NpgsqlDbType.Bytea, ct);
+                WriteJson(copy, c.BrokerState is null ? null : JsonSerializer.Serialize(c.BrokerState, BrokerBatchJson.Options));
+                copy.Write(hash, NpgsqlDbType.Bytea);
             }
             await copy.CompleteAsync(ct);
         }
 
-        int points = 0;
         await using (var copy = await conn.BeginBinaryImportAsync(
             "COPY stage_photometry (broker_candidate_id, band, observed_at, flux_microjy, flux_error_microjy, upper_limit, mag_ab, mag_ab_error) " +
             "FROM STDIN (FORMAT BINARY)", ct))
@@ -174,49 +207,86 @@ public sealed class CandidateStore(NpgsqlDataSource dataSource)
             {
                 foreach (var p in c.Photometry)
                 {
-                    await copy.StartRowAsync(ct);
-                    await copy.WriteAsync(c.Id, NpgsqlDbType.Text, ct);
-                    await copy.WriteAsync(p.Band.Name, NpgsqlDbType.Text, ct);
-                    await copy.WriteAsync(p.TimeUtc.UtcDateTime, NpgsqlDbType.TimestampTz, ct);
-                    await copy.WriteAsync(p.FluxMicroJy, NpgsqlDbType.Double, ct);
-                    await copy.WriteAsync(p.FluxErrorMicroJy, NpgsqlDbType.Double, ct);
-                    await copy.WriteAsync(p.IsUpperLimit, NpgsqlDbType.Boolean, ct);
-                    await WriteNullableAsync(copy, p.MagAb, ct);
-                    await WriteNullableAsync(copy, p.MagAbError, ct);
-                    points++;
+                    copy.StartRow();
+                    copy.Write(c.Id, NpgsqlDbType.Text);
+                    copy.Write(p.Band.Name, NpgsqlDbType.Text);
+                    copy.Write(p.TimeUtc.UtcDateTime, NpgsqlDbType.TimestampTz);
+                    copy.Write(p.FluxMicroJy, NpgsqlDbType.Double);
+                    copy.Write(p.FluxErrorMicroJy, NpgsqlDbType.Double);
+                    copy.Write(p.IsUpperLimit, NpgsqlDbType.Boolean);
+                    WriteNullable(copy, p.MagAb);
+                    WriteNullable(copy, p.MagAbError);
                 }
             }
             await copy.CompleteAsync(ct);
         }
 
-        var (created, updated) = await conn.QuerySingleAsync<(int Created, int Updated)>(
-            new CommandDefinition(MergeCandidatesSql, new { broker, now }, tx, cancellationToken: ct));
-        int written = await conn.ExecuteAsync(new CommandDefinition(MergePhotometrySql, new { broker }, tx, cancellationToken: ct));
+        var (created, updated, written) = await conn.QuerySingleAsync<(int Created, int Updated, int Written)>(
+            new CommandDefinition(MergeFromTablesSql, new { broker, now }, tx, cancellationToken: ct));
         await tx.CommitAsync(ct);
         return new IntakeSummary(batch.Count, created, updated, batch.Count - created - updated, written);
     }
 
-    private static async Task WriteNullableAsync(NpgsqlBinaryImporter copy, double? value, CancellationToken ct)
+    private async Task<IntakeSummary> UpsertFromArraysAsync(string broker, IReadOnlyList<CandidateIntake> batch, DateTimeOffset now, CancellationToken ct)
+    {
+        var candidates = batch.Select(b => b.Candidate).ToArray();
+        var vectors = candidates.Select(c => UnitVector(c.RaDeg, c.DecDeg)).ToArray();
+        var points = candidates.SelectMany(c => c.Photometry.Select(p => (c.Id, Point: p))).ToArray();
+        var parameters = new
+        {
+            broker,
+            now,
+            ids = candidates.Select(_ => Guid.CreateVersion7(now)).ToArray(),
+            cids = candidates.Select(c => c.Id).ToArray(),
+            ras = candidates.Select(c => c.RaDeg).ToArray(),
+            decs = candidates.Select(c => c.DecDeg).ToArray(),
+            uxs = vectors.Select(v => v.X).ToArray(),
+            uys = vectors.Select(v => v.Y).ToArray(),
+            uzs = vectors.Select(v => v.Z).ToArray(),
+            discovered = candidates.Select(c => c.DiscoveredUtc.UtcDateTime).ToArray(),
+            redshifts = candidates.Select(c => c.Redshift).ToArray(),
+            redshiftErrors = candidates.Select(c => c.RedshiftError).ToArray(),
+            probabilities = candidates.Select(c => c.SubtypeProbabilities is null ? null : JsonSerializer.Serialize(c.SubtypeProbabilities)).ToArray(),
+            weights = candidates.Select(c => c.ScienceWeight).ToArray(),
+            notes = candidates.Select(c => c.Notes).ToArray(),
+            states = candidates.Select(c => c.BrokerState is null ? null : JsonSerializer.Serialize(c.BrokerState, BrokerBatchJson.Options)).ToArray(),
+            hashes = batch.Select(b => b.ContentHash).ToArray(),
+            pcids = points.Select(p => p.Id).ToArray(),
+            bands = points.Select(p => p.Point.Band.Name).ToArray(),
+            times = points.Select(p => p.Point.TimeUtc.UtcDateTime).ToArray(),
+            fluxes = points.Select(p => p.Point.FluxMicroJy).ToArray(),
+            fluxErrors = points.Select(p => p.Point.FluxErrorMicroJy).ToArray(),
+            upper = points.Select(p => p.Point.IsUpperLimit).ToArray(),
+            mags = points.Select(p => p.Point.MagAb).ToArray(),
+            magErrors = points.Select(p => p.Point.MagAbError).ToArray(),
+        };
+        await using var conn = await dataSource.OpenConnectionAsync(ct);
+        var (created, updated, written) = await conn.QuerySingleAsync<(int Created, int Updated, int Written)>(
+            new CommandDefinition(MergeFromArraysSql, parameters, cancellationToken: ct));
+        return new IntakeSummary(batch.Count, created, updated, batch.Count - created - updated, written);
+    }
+
+    private static void WriteNullable(NpgsqlBinaryImporter copy, double? value)
     {
         if (value is { } v)
         {
-            await copy.WriteAsync(v, NpgsqlDbType.Double, ct);
+            copy.Write(v, NpgsqlDbType.Double);
         }
         else
         {
-            await copy.WriteNullAsync(ct);
+            copy.WriteNull();
         }
     }
 
-    private static async Task WriteJsonAsync(NpgsqlBinaryImporter copy, string? json, CancellationToken ct)
+    private static void WriteJson(NpgsqlBinaryImporter copy, string? json)
     {
         if (json is null)
         {
-            await copy.WriteNullAsync(ct);
+            copy.WriteNull();
         }
         else
         {
-            await copy.WriteAsync(json, NpgsqlDbType.Jsonb, ct);
+            copy.Write(json, NpgsqlDbType.Jsonb);
         }
     }
 
@@ -373,19 +443,23 @@ public sealed class CandidateStore(NpgsqlDataSource dataSource)
             return (from, false);
         }
         await conn.ExecuteAsync(new CommandDefinition(SetStateSql, new { id, to = CandidateLifecycle.Name(to), label = (string?)null, now = now.UtcDateTime }, tx, cancellationToken: ct));
-        await conn.ExecuteAsync(new CommandDefinition(EventSql, new
-        {
-            id,
-            now = now.UtcDateTime,
-            kind = "transition",
-            from = current,
-            to = CandidateLifecycle.Name(to),
-            actor,
-            detail = reason,
-        }, tx, cancellationToken: ct));
+        await InsertEventAsync(conn, tx, id, now, "transition", current, to, actor, reason, ct);
         await tx.CommitAsync(ct);
         return (from, true);
     }
+
+    private static Task InsertEventAsync(NpgsqlConnection conn, NpgsqlTransaction tx, Guid id, DateTimeOffset now, string kind,
+        string from, CandidateState to, string actor, string? detail, CancellationToken ct) =>
+        conn.ExecuteAsync(new CommandDefinition(EventSql, new
+        {
+            id,
+            now = now.UtcDateTime,
+            kind,
+            from,
+            to = CandidateLifecycle.Name(to),
+            actor,
+            detail,
+        }, tx, cancellationToken: ct));
 
     private const string InsertReportSql = """
         INSERT INTO observation_reports (id, candidate_id, spectrograph_id, outcome, achieved_snr, classified_label, observed_at, reported_at, reporter)
@@ -424,16 +498,8 @@ public sealed class CandidateStore(NpgsqlDataSource dataSource)
             actor,
         }, tx, cancellationToken: ct));
         await conn.ExecuteAsync(new CommandDefinition(SetStateSql, new { id, to = CandidateLifecycle.Name(to), label, now = now.UtcDateTime }, tx, cancellationToken: ct));
-        await conn.ExecuteAsync(new CommandDefinition(EventSql, new
-        {
-            id,
-            now = now.UtcDateTime,
-            kind = "observation",
-            from = current,
-            to = CandidateLifecycle.Name(to),
-            actor,
-            detail = label is null ? $"{outcomeName} on {spectrographId}" : $"{outcomeName} on {spectrographId}: {label}",
-        }, tx, cancellationToken: ct));
+        await InsertEventAsync(conn, tx, id, now, "observation", current, to, actor,
+            label is null ? $"{outcomeName} on {spectrographId}" : $"{outcomeName} on {spectrographId}: {label}", ct);
         await tx.CommitAsync(ct);
         return (ReportOutcome.Recorded, to, reportId);
     }
