@@ -5,6 +5,7 @@ using Triage.Api.Jobs;
 using Triage.Api.Operations;
 using Triage.Api.Plans;
 using Triage.Api.Roster;
+using Triage.Api.Sky;
 
 var builder = WebApplication.CreateBuilder(args);
 builder.AddTriageLogging();
@@ -18,6 +19,7 @@ builder.Services.AddRoster();
 builder.Services.AddCandidates(builder.Configuration);
 builder.Services.AddJobs(builder.Configuration);
 builder.Services.AddPlans();
+builder.Services.AddSky();
 
 var app = builder.Build();
 app.UseTriageProblems();
@@ -36,6 +38,7 @@ app.MapRoster();
 app.MapCandidates();
 app.MapJobs();
 app.MapPlans();
+app.MapSky();
 
 await app.PrepareDatabaseAsync();
 await app.RunAsync();
