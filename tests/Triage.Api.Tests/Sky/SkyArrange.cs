@@ -39,10 +39,14 @@ internal static class SkyArrange
 
     /// <summary>The core's site record for a site body sent to the API.</summary>
     public static Site ToSite(JsonObject b) => new(
-        Guid.Empty, (string)b["name"]!, (double)b["latitudeDeg"]!, (double)b["longitudeDeg"]!, (double)b["elevationM"]!,
-        (double)b["minAltitudeDeg"]!, (double)b["sunAvoidanceDeg"]!, (double)b["moonAvoidanceDeg"]!, (double)b["seeingArcsec"]!,
-        (double)b["darkSkyMagArcsec2"]!, (double)b["skyReferenceWavelengthAngstrom"]!, (double)b["extinctionMagPerAirmass"]!,
+        Guid.Empty, (string)b["name"]!, D(b, "latitudeDeg"), D(b, "longitudeDeg"), D(b, "elevationM"),
+        D(b, "minAltitudeDeg"), D(b, "sunAvoidanceDeg"), D(b, "moonAvoidanceDeg"), D(b, "seeingArcsec"),
+        D(b, "darkSkyMagArcsec2"), D(b, "skyReferenceWavelengthAngstrom"), D(b, "extinctionMagPerAirmass"),
         SiteStatus.Open);
+
+    /// <summary>A number from a body node, whether it was written as an integer or not.</summary>
+    private static double D(JsonObject b, string field) =>
+        double.Parse(b[field]!.ToJsonString(), System.Globalization.CultureInfo.InvariantCulture);
 
     public static DateTimeOffset Utc(JsonNode? node) => DateTimeOffset.Parse((string)node!, System.Globalization.CultureInfo.InvariantCulture);
 }

@@ -74,11 +74,12 @@ public sealed class VisibilityEndpointTests(TriageApiFactory api)
             Bodies.Json(Targets(("north", 150, 70))))).ReadObjectAsync();
 
         // Dec +70° from latitude −30.5° culminates at 90 − 30.5 − 70 = −10.5° (common practice): never rises.
+        // Precession since J2000 moves the apparent declination by up to 0.36° in 2026 (check-values.md §2b, TETE vs ICRS), hence ±0.4°.
         var t = answer["targets"]!.AsArray().Single()!;
         Assert.Equal("never-above-limit", (string)t["reason"]!);
         Assert.Empty(t["windows"]!.AsArray());
         Assert.Equal(0, (double)t["observableHours"]!);
-        Assert.InRange((double)t["maxAltitudeInDarkDeg"]!, -90, -10.5 + 0.01);
+        Assert.InRange((double)t["maxAltitudeInDarkDeg"]!, -10.5 - 0.4, -10.5 + 0.4);
     }
 
     [Fact]
