@@ -75,7 +75,7 @@ public static class SkyEndpoints
             Math.Round(phase.IlluminatedFraction, 4), Math.Round(phase.PhaseAngleDeg, 3), SkyText.Nearest(at)!.Value, atName,
             model.MoonRiseSet().Select(e => new MoonEventResponse(SkyText.Of(e.Kind), SkyText.Nearest(e.Utc)!.Value)).ToList());
         return TypedResults.Ok(new NightResponse(
-            id, night.ToString("yyyy-MM-dd", CultureInfo.InvariantCulture), model.StartUtc, model.EndUtc,
+            id, night.ToString("yyyy-MM-dd", CultureInfo.InvariantCulture), SkyText.Nearest(model.StartUtc)!.Value, SkyText.Nearest(model.EndUtc)!.Value,
             SkyText.Of(dark),
             model.Twilights.Select(t => new TwilightResponse(t.DepressionDeg, SkyText.Nearest(t.EveningUtc), SkyText.Nearest(t.MorningUtc))).ToList(),
             moon));

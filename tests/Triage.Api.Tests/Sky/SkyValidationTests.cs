@@ -58,17 +58,22 @@ public sealed class SkyValidationTests(TriageApiFactory api)
         { "unknown spectrograph", $"/api/spectrographs/{NoSuchId}/exposure", "{\"magnitudeAb\":19,\"snr\":10}", 404, "id" },
     };
 
+    /// <summary>Fills {site} with the test's site and {spec} with a new spectrograph at it.</summary>
+    private async Task<string> ResolveAsync(string path, string siteId)
+    {
+        var url = path.Replace("{site}", siteId, StringComparison.Ordinal);
+        return url.Contains("{spec}", StringComparison.Ordinal)
+            ? url.Replace("{spec}", await SkyArrange.SpectrographAsync(api, siteId, Bodies.Spectrograph()), StringComparison.Ordinal)
+            : url;
+    }
+
     [Theory]
     [MemberData(nameof(Cases))]
     public async Task BadRequest_IsProblemNamingTheField(string name, string path, string? body, int status, string field)
     {
         Assert.False(string.IsNullOrEmpty(name));
         var (client, siteId, _) = await SkyArrange.SiteAsync(api, SkyArrange.ReferenceLatitudeDeg, SkyArrange.ReferenceLongitudeDeg, SkyArrange.ReferenceElevationM);
-        var url = path.Replace("{site}", siteId, StringComparison.Ordinal);
-        if (url.Contains("{spec}", StringComparison.Ordinal))
-        {
-            url = url.Replace("{spec}", await SkyArrange.SpectrographAsync(api, siteId, Bodies.Spectrograph()), StringComparison.Ordinal);
-        }
+        var url = await ResolveAsync(path, siteId);
 
         var response = body is null ? await client.GetAsync(url) : await client.PostAsync(url, Bodies.Raw(body));
 
@@ -82,11 +87,7 @@ public sealed class SkyValidationTests(TriageApiFactory api)
     public async Task AnyValidKeyReads_NoKeyIsRefused(string method, string path)
     {
         var (reader, siteId, _) = await SkyArrange.SiteAsync(api, SkyArrange.ReferenceLatitudeDeg, SkyArrange.ReferenceLongitudeDeg, SkyArrange.ReferenceElevationM);
-        var url = path.Replace("{site}", siteId, StringComparison.Ordinal);
-        if (url.Contains("{spec}", StringComparison.Ordinal))
-        {
-            url = url.Replace("{spec}", await SkyArrange.SpectrographAsync(api, siteId, Bodies.Spectrograph()), StringComparison.Ordinal);
-        }
+        var url = await ResolveAsync(path, siteId);
         var body = path == Exposure ? "{\"magnitudeAb\":19,\"snr\":10}" : "{\"targets\":[{\"id\":\"a\",\"raDeg\":75,\"decDeg\":-30}]}";
         Task<HttpResponseMessage> Send(HttpClient c) => method == "GET" ? c.GetAsync(url) : c.PostAsync(url, Bodies.Raw(body));
 
