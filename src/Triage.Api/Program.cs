@@ -6,6 +6,7 @@ using Triage.Api.Jobs;
 using Triage.Api.Operations;
 using Triage.Api.Plans;
 using Triage.Api.Roster;
+using Triage.Api.Sky;
 
 var builder = WebApplication.CreateBuilder(args);
 builder.AddTriageLogging();
@@ -20,6 +21,7 @@ builder.Services.AddCandidates(builder.Configuration);
 builder.Services.AddJobs(builder.Configuration);
 builder.Services.AddPlans();
 builder.Services.AddCalibrations();
+builder.Services.AddSky();
 
 var app = builder.Build();
 app.UseTriageProblems();
@@ -39,6 +41,7 @@ app.MapCandidates();
 app.MapJobs();
 app.MapPlans();
 app.MapCalibrations();
+app.MapSky();
 
 await app.PrepareDatabaseAsync();
 await app.RunAsync();
