@@ -1,5 +1,4 @@
 using BenchmarkDotNet.Attributes;
-using BenchmarkDotNet.Engines;
 using Triage.Core.Planning;
 using Triage.Scheduling;
 
@@ -11,7 +10,7 @@ namespace Triage.Bench;
 /// telescope and science-priority filling the highest-R unit first. The figures are printed at setup;
 /// the benchmarks time each planner.
 /// </summary>
-[SimpleJob(RunStrategy.Monitoring, launchCount: 1, warmupCount: 0, iterationCount: 3)]
+[Config(typeof(InProcessConfig))]
 public class PlanQualityBenchmarks
 {
     private PlanningProblem _problem = null!;

@@ -1,5 +1,4 @@
 using BenchmarkDotNet.Attributes;
-using BenchmarkDotNet.Engines;
 using Triage.Core.Planning;
 using Triage.Core.Roster;
 using Triage.Scheduling;
@@ -11,7 +10,7 @@ namespace Triage.Bench;
 /// building the problem (sky, exposure, value model) and solving it (LP bound, heuristic, CP-SAT,
 /// 4 s limit). The last solve's status, bound and gap are printed at cleanup.
 /// </summary>
-[SimpleJob(RunStrategy.Monitoring, launchCount: 1, warmupCount: 1, iterationCount: 3)]
+[Config(typeof(InProcessConfig))]
 public class PlannerScaleBenchmarks
 {
     private IReadOnlyList<Site> _sites = null!;
