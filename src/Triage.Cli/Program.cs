@@ -7,6 +7,7 @@ Command[] verbs =
     LibraryVerb.Create(),
     DegradeVerb.Create(),
     CalibrateVerb.Create(),
+    PlotVerb.Create(),
 ];
 foreach (var verb in verbs) root.Subcommands.Add(verb);
 return root.Parse(args).Invoke();
