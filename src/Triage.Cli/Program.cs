@@ -2,7 +2,15 @@ using System.CommandLine;
 using Triage.Cli.Verbs;
 
 var root = new RootCommand("Triage: plan tonight's spectroscopic follow-up of transient candidates.");
-root.Subcommands.Add(FitVerb.Create());
-root.Subcommands.Add(InventCandidatesVerb.Create());
-root.Subcommands.Add(PlanVerb.Create());
+Command[] verbs =
+[
+    LibraryVerb.Create(),
+    DegradeVerb.Create(),
+    CalibrateVerb.Create(),
+    PlotVerb.Create(),
+    FitVerb.Create(),
+    InventCandidatesVerb.Create(),
+    PlanVerb.Create(),
+];
+foreach (var verb in verbs) root.Subcommands.Add(verb);
 return root.Parse(args).Invoke();

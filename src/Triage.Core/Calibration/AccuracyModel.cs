@@ -54,4 +54,88 @@ public sealed record AccuracyModelDocument(
     IReadOnlyList<double?> SnrLevels,
     IReadOnlyList<PhaseBin> PhaseBins,
     IReadOnlyList<CalibrationCell> Cells,
-    IReadOnlyList<ConfusionMatrix> Confusions);
+    IReadOnlyList<ConfusionMatrix> Confusions)
+{
+    /// <summary>Broad classes (name and member subtypes) used for broad-class accuracy.</summary>
+    public IReadOnlyList<Triage.Core.Spectra.BroadClass> BroadClasses { get; init; } = [];
+
+    /// <summary>Overall and broad-class accuracy per (R, S/N), all phases pooled.</summary>
+    public IReadOnlyList<AccuracySummary> Summaries { get; init; } = [];
+
+    /// <summary>Chance and majority baselines of the library.</summary>
+    public CalibrationBaselines? Baselines { get; init; }
+
+    /// <summary>Per subtype and S/N: the lowest R keeping recall near its best, and the R below which it is chance.</summary>
+    public IReadOnlyList<MinimumResolutionRow> MinimumResolution { get; init; } = [];
+
+    /// <summary>Where the numbers came from: library fingerprint, settings, code version.</summary>
+    public CalibrationProvenance? Provenance { get; init; }
+
+    /// <summary>True when computed from a synthetic (demo) library.</summary>
+    public bool Synthetic { get; init; }
+}
+
+/// <summary>
+/// Accuracy over all phases at one (R, S/N): the fraction of spectra whose subtype (and
+/// broad class) was predicted correctly, with Wilson 95% intervals, and the mean per-subtype recall.
+/// </summary>
+public sealed record AccuracySummary(
+    double Resolution,
+    double? Snr,
+    double Accuracy,
+    double AccuracyLow,
+    double AccuracyHigh,
+    double BroadAccuracy,
+    double BroadAccuracyLow,
+    double BroadAccuracyHigh,
+    double BalancedAccuracy,
+    int Spectra);
+
+/// <summary>
+/// Baselines: a uniform guess over K subtypes scores 1/K; always answering the commonest subtype
+/// scores its share of the spectra. The same for broad classes.
+/// </summary>
+public sealed record CalibrationBaselines(
+    double UniformGuess,
+    double MajorityClass,
+    string MajoritySubtype,
+    double UniformGuessBroad,
+    double MajorityClassBroad,
+    string MajorityBroadClass);
+
+/// <summary>
+/// The minimum-R data product for one subtype at one S/N (phases pooled).
+/// </summary>
+/// <param name="BestRecall">Highest recall over the R grid, at <paramref name="BestResolution"/>.</param>
+/// <param name="MinimumResolution">Lowest grid R from which recall stays within the tolerance of the best at every higher R.</param>
+/// <param name="MinimumResolutionBracketLow">The next lower grid R (the true threshold lies between; null at the grid's bottom).</param>
+/// <param name="RecallAtMinimum">Recall at <paramref name="MinimumResolution"/>, with its Wilson interval.</param>
+/// <param name="ChanceRecall">Recall of a uniform guess, 1/K.</param>
+/// <param name="DistinguishableFromResolution">Lowest grid R from which the recall's Wilson lower bound exceeds chance at every higher R; null if never.</param>
+/// <param name="ChanceBelowResolution">The grid R just below it, where recall is not distinguishable from chance (null: distinguishable over the whole grid).</param>
+public sealed record MinimumResolutionRow(
+    string Subtype,
+    double? Snr,
+    double Tolerance,
+    double BestRecall,
+    double BestResolution,
+    double MinimumResolution,
+    double? MinimumResolutionBracketLow,
+    double RecallAtMinimum,
+    double RecallAtMinimumLow,
+    double RecallAtMinimumHigh,
+    double ChanceRecall,
+    double? DistinguishableFromResolution,
+    double? ChanceBelowResolution,
+    double? RecallAtChanceBelow,
+    double? RecallAtChanceBelowHigh);
+
+/// <summary>Provenance of a calibration: what library, which settings, which code.</summary>
+public sealed record CalibrationProvenance(
+    string LibraryFingerprint,
+    int LibrarySpectra,
+    int LibraryObjects,
+    bool SyntheticLibrary,
+    string CodeVersion,
+    CalibrationSettings Settings,
+    string Classifier);

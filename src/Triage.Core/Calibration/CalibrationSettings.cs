@@ -1,0 +1,76 @@
+using Triage.Core.Spectra;
+
+namespace Triage.Core.Calibration;
+
+/// <summary>
+/// Settings of a calibration run (recorded in the calibration JSON). Defaults are the choices
+/// measured in docs/calibration.md.
+/// </summary>
+public sealed record CalibrationSettings
+{
+    /// <summary>Resolving powers of the grid; null: <see cref="DefaultResolutions"/> up to the library's resolution.</summary>
+    public IReadOnlyList<double>? Resolutions { get; init; }
+
+    /// <summary>S/N per resolution element levels; null in the list means native (no noise added). Default 5, 10, 20, native.</summary>
+    public IReadOnlyList<double?> SnrLevels { get; init; } = [5, 10, 20, null];
+
+    /// <summary>Phase bins. Default <see cref="DefaultPhaseBins"/>.</summary>
+    public IReadOnlyList<PhaseBin> PhaseBins { get; init; } = DefaultPhaseBins;
+
+    /// <summary>Folds of the grouped cross-validation. Default 5.</summary>
+    public int Folds { get; init; } = 5;
+
+    /// <summary>Seed of folds and noise. Default 1.</summary>
+    public int Seed { get; init; } = 1;
+
+    /// <summary>Pixels per resolution element of degraded spectra. Default 2.</summary>
+    public double PixelsPerElement { get; init; } = 2;
+
+    /// <summary>Feature extraction. Default <see cref="PreprocessOptions"/> defaults.</summary>
+    public PreprocessOptions Preprocess { get; init; } = new();
+
+    /// <summary>Classifier name (see Triage.Learning). Default "linear".</summary>
+    public string Model { get; init; } = "linear";
+
+    /// <summary>Weight each class by N/(K·n_class) in training (favours per-subtype recall). Default true.</summary>
+    public bool BalancedClassWeights { get; init; } = true;
+
+    /// <summary>Recall tolerance of the minimum-R table (fraction). Default 0.05 (5 points).</summary>
+    public double MinimumResolutionTolerance { get; init; } = 0.05;
+
+    /// <summary>
+    /// Default phase bins (rest-frame days from peak): before peak [−100, −3), around peak
+    /// [−3, +5), early decline [+5, +25), late [+25, +1000).
+    /// </summary>
+    public static IReadOnlyList<PhaseBin> DefaultPhaseBins { get; } =
+    [
+        new("before-peak", -100, -3),
+        new("around-peak", -3, 5),
+        new("early-decline", 5, 25),
+        new("late", 25, 1000),
+    ];
+
+    /// <summary>The name of the pooled phase bin.</summary>
+    public const string AllPhases = "all";
+
+    /// <summary>
+    /// Twelve resolving powers log-spaced from 5 to <paramref name="maxResolution"/>, rounded to
+    /// two significant digits below 100 and three above (the last is exactly the maximum).
+    /// </summary>
+    public static IReadOnlyList<double> DefaultResolutions(double maxResolution, int count = 12, double minResolution = 5)
+    {
+        var r = new double[count];
+        for (int i = 0; i < count; i++)
+        {
+            double v = minResolution * Math.Pow(maxResolution / minResolution, i / (double)(count - 1));
+            r[i] = i == count - 1 || i == 0 ? v : RoundSignificant(v, v < 100 ? 2 : 3);
+        }
+        return r;
+    }
+
+    private static double RoundSignificant(double v, int digits)
+    {
+        double scale = Math.Pow(10, Math.Floor(Math.Log10(v)) - digits + 1);
+        return Math.Round(v / scale) * scale;
+    }
+}

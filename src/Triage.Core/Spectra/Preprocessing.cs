@@ -1,0 +1,129 @@
+// Preprocessing of a degraded spectrum into a classifier feature vector.
+//
+// 1. Rest frame: λ_rest = λ_obs / (1 + z), then flux-conserving binning onto a common grid
+//    uniform in ln λ over [λ_a, λ_b] with P pixels per element λ/R (at most MaxBins bins).
+// 2. Normalisation: divide by the mean flux (distance and exposure carry no class information).
+// 3. Continuum: a least-squares polynomial c(t) of low degree in t = scaled ln λ ∈ [−1, 1];
+//    features are f/c − 1 (line strengths), and optionally log(c(t_k)/c̄) at a few t_k (the
+//    colour, a low-frequency component that dividing would otherwise throw away).
+// Bins outside the spectrum's coverage take the nearest covered value.
+// References:
+//  1. Blondin, S. & Tonry, J. L., "Determining the type, redshift, and age of a supernova spectrum",
+//     ApJ 666, 1024 (2007), §2 (log-λ binning, continuum removal by a smooth fit).
+//  2. Tonry, J. & Davis, M., "A survey of galaxy redshifts. I.", AJ 84, 1511 (1979), §III (log-λ grids).
+namespace Triage.Core.Spectra;
+
+/// <summary>How the continuum is treated.</summary>
+public enum ContinuumHandling
+{
+    /// <summary>Keep the normalised flux as is (shape and lines together).</summary>
+    Keep,
+
+    /// <summary>Divide by a smooth polynomial continuum (lines only).</summary>
+    Divide,
+
+    /// <summary>Divide, and append the continuum's colour at a few wavelengths (default).</summary>
+    DivideKeepColour,
+}
+
+/// <summary>Options of <see cref="Preprocessing"/>; defaults are the measured choices in docs/calibration.md.</summary>
+public sealed record PreprocessOptions
+{
+    /// <summary>Blue edge of the common rest-frame grid (Å). Default 3600.</summary>
+    public double RestFromAngstrom { get; init; } = 3600;
+
+    /// <summary>Red edge of the common rest-frame grid (Å). Default 8600 (covered up to z ≈ 0.07 by a 9200 Å red limit).</summary>
+    public double RestToAngstrom { get; init; } = 8600;
+
+    /// <summary>Pixels per resolution element of the feature grid. Default 2.</summary>
+    public double PixelsPerElement { get; init; } = 2;
+
+    /// <summary>Upper bound on the number of flux bins (cost control; beyond it bins merge). Default 200.</summary>
+    public int MaxBins { get; init; } = 200;
+
+    /// <summary>Continuum treatment. Default <see cref="ContinuumHandling.DivideKeepColour"/>.</summary>
+    public ContinuumHandling Continuum { get; init; } = ContinuumHandling.DivideKeepColour;
+
+    /// <summary>Degree of the continuum polynomial in scaled ln λ. Default 3.</summary>
+    public int ContinuumDegree { get; init; } = 3;
+
+    /// <summary>Colour points appended with <see cref="ContinuumHandling.DivideKeepColour"/>. Default 6.</summary>
+    public int ColourPoints { get; init; } = 6;
+}
+
+/// <summary>Turns degraded spectra into fixed-length feature vectors.</summary>
+public static class Preprocessing
+{
+    /// <summary>Number of flux bins of the common rest-frame grid at resolving power R.</summary>
+    public static int BinCount(double resolution, PreprocessOptions o) =>
+        Math.Clamp((int)Math.Round(resolution * o.PixelsPerElement * Math.Log(o.RestToAngstrom / o.RestFromAngstrom)), 4, o.MaxBins);
+
+    /// <summary>Length of the feature vector at resolving power R.</summary>
+    public static int FeatureLength(double resolution, PreprocessOptions o) =>
+        BinCount(resolution, o) + (o.Continuum == ContinuumHandling.DivideKeepColour ? o.ColourPoints : 0);
+
+    /// <summary>
+    /// Feature vector of a spectrum sampled at <paramref name="wavelengthAngstrom"/> (observed frame).
+    /// </summary>
+    /// <exception cref="ArgumentException">The spectrum does not overlap the common rest-frame grid.</exception>
+    public static float[] Features(ReadOnlySpan<double> wavelengthAngstrom, ReadOnlySpan<double> flux, double redshift,
+        double resolution, PreprocessOptions o)
+    {
+        var (w, f) = Finite(wavelengthAngstrom, flux);
+        int bins = BinCount(resolution, o);
+        var grid = LogWavelengthGrid.WithCount(o.RestFromAngstrom, o.RestToAngstrom, bins);
+        var rest = FluxRebinning.ToGrid(w, f, grid, 1.0 / (1.0 + redshift));
+        FillGaps(rest);
+
+        double mean = rest.Average();
+        if (!(Math.Abs(mean) > 0)) mean = 1;
+        for (int i = 0; i < bins; i++) rest[i] /= mean;
+
+        int colours = o.Continuum == ContinuumHandling.DivideKeepColour ? o.ColourPoints : 0;
+        var features = new float[bins + colours];
+        if (o.Continuum == ContinuumHandling.Keep)
+        {
+            for (int i = 0; i < bins; i++) features[i] = (float)rest[i];
+            return features;
+        }
+        var t = new double[bins];
+        for (int i = 0; i < bins; i++) t[i] = bins == 1 ? 0 : -1 + 2.0 * i / (bins - 1);
+        int degree = Math.Min(o.ContinuumDegree, bins - 1);
+        var coeffs = MathNet.Numerics.Fit.Polynomial(t, rest, degree);
+        double floor = 0.05;
+        for (int i = 0; i < bins; i++)
+            features[i] = (float)(rest[i] / Math.Max(floor, Poly(coeffs, t[i])) - 1.0);
+        for (int k = 0; k < colours; k++)
+        {
+            double tk = colours == 1 ? 0 : -1 + 2.0 * k / (colours - 1);
+            features[bins + k] = (float)Math.Log(Math.Max(floor, Poly(coeffs, tk)));
+        }
+        return features;
+    }
+
+    private static double Poly(double[] c, double t)
+    {
+        double v = 0;
+        for (int i = c.Length - 1; i >= 0; i--) v = v * t + c[i];
+        return v;
+    }
+
+    private static (double[] W, double[] F) Finite(ReadOnlySpan<double> w, ReadOnlySpan<double> f)
+    {
+        var ww = new List<double>(w.Length);
+        var ff = new List<double>(w.Length);
+        for (int i = 0; i < w.Length; i++)
+            if (double.IsFinite(w[i]) && double.IsFinite(f[i])) { ww.Add(w[i]); ff.Add(f[i]); }
+        if (ww.Count < 2) throw new ArgumentException("The spectrum has fewer than two finite samples.", nameof(f));
+        return (ww.ToArray(), ff.ToArray());
+    }
+
+    private static void FillGaps(double[] v)
+    {
+        int first = Array.FindIndex(v, x => !double.IsNaN(x));
+        if (first < 0) throw new ArgumentException("The spectrum does not overlap the common rest-frame grid.");
+        for (int i = 0; i < first; i++) v[i] = v[first];
+        for (int i = first + 1; i < v.Length; i++)
+            if (double.IsNaN(v[i])) v[i] = v[i - 1];
+    }
+}

@@ -1,0 +1,162 @@
+using System.Diagnostics;
+using Triage.Core.Calibration;
+using Triage.Core.Spectra;
+
+namespace Triage.Learning;
+
+/// <summary>Progress of a calibration run.</summary>
+/// <param name="Percent">Work done, 0–100.</param>
+/// <param name="Stage">What is running, e.g. "R=150 S/N=10 fold 3/5".</param>
+/// <param name="Remaining">Estimated time left (linear in work done); null before the first unit finishes.</param>
+public sealed record CalibrationProgress(double Percent, string Stage, TimeSpan Elapsed, TimeSpan? Remaining);
+
+/// <summary>Wall-clock split of a run, for the benchmark and the docs.</summary>
+public sealed record CalibrationTimings(TimeSpan Degrade, TimeSpan Features, TimeSpan Train, TimeSpan Total);
+
+/// <summary>
+/// The calibration: for every R of the grid, degrade each library spectrum; for every S/N,
+/// add seeded noise and extract features; cross-validate the classifier with folds grouped by
+/// object; score the out-of-fold predictions into cells, confusion matrices and summaries; and
+/// build the minimum-R table. The CLI and the service job both call <see cref="Run"/>.
+/// </summary>
+public static class CalibrationPipeline
+{
+    /// <summary>Runs the calibration and returns the accuracy-model document.</summary>
+    /// <param name="codeVersion">Version string of the calling build, recorded in the provenance.</param>
+    /// <exception cref="ArgumentException">A grid R exceeds a spectrum's source resolution, or fewer than two subtypes.</exception>
+    public static AccuracyModelDocument Run(SpectralLibrary library, Taxonomy taxonomy, CalibrationSettings settings, string codeVersion,
+        IProgress<CalibrationProgress>? progress = null, CancellationToken cancellationToken = default) =>
+        RunTimed(library, taxonomy, settings, codeVersion, progress, cancellationToken).Document;
+
+    /// <summary>As <see cref="Run"/>, also returning where the time went.</summary>
+    /// <param name="classifier">Classifier to use instead of <see cref="CalibrationSettings.Model"/> (tests inject a recording one).</param>
+    public static (AccuracyModelDocument Document, CalibrationTimings Timings) RunTimed(SpectralLibrary library, Taxonomy taxonomy,
+        CalibrationSettings settings, string codeVersion, IProgress<CalibrationProgress>? progress = null,
+        CancellationToken cancellationToken = default, ISubtypeClassifier? classifier = null)
+    {
+        var total = Stopwatch.StartNew();
+        var spectra = library.Spectra;
+        var subtypes = taxonomy.Subtypes.Where(s => spectra.Any(x => x.Subtype == s)).ToArray();
+        if (subtypes.Length < 2) throw new ArgumentException("The library needs at least two subtypes to calibrate.", nameof(library));
+        double maxR = library.MinSourceResolution ?? throw new ArgumentException(
+            "No spectrum declares source_resolution; give --resolutions explicitly.", nameof(library));
+        var resolutions = (settings.Resolutions ?? CalibrationSettings.DefaultResolutions(maxR)).OrderBy(r => r).ToArray();
+        if (resolutions.Any(r => r > maxR * (1 + 1e-9)))
+            throw new ArgumentException($"The grid asks for R = {resolutions.Max()} but the library's lowest source resolution is {maxR}.", nameof(settings));
+        var labelIndex = subtypes.Select((s, i) => (s, i)).ToDictionary(p => p.s, p => p.i, StringComparer.Ordinal);
+        int[] labels = spectra.Select(s => labelIndex[s.Subtype]).ToArray();
+        var splits = Splits(library, settings);
+        classifier ??= SubtypeClassifiers.Create(settings.Model);
+        var parallel = new ParallelOptions { CancellationToken = cancellationToken, MaxDegreeOfParallelism = Environment.ProcessorCount };
+
+        int units = resolutions.Length * settings.SnrLevels.Count * settings.Folds, done = 0;
+        var degradeTime = TimeSpan.Zero; var featureTime = TimeSpan.Zero; var trainTime = TimeSpan.Zero;
+        void Report(string stage)
+        {
+            double f = done / (double)units;
+            progress?.Report(new CalibrationProgress(100 * f, stage, total.Elapsed,
+                done == 0 ? null : TimeSpan.FromTicks((long)(total.Elapsed.Ticks * (1 - f) / f))));
+        }
+        Report("starting");
+
+        var cells = new List<CalibrationCell>();
+        var confusions = new List<ConfusionMatrix>();
+        var summaries = new List<AccuracySummary>();
+        for (int ri = 0; ri < resolutions.Length; ri++)
+        {
+            double r = resolutions[ri];
+            var sw = Stopwatch.StartNew();
+            var degraded = new (LogWavelengthGrid Grid, double[] W, double[] F)[spectra.Count];
+            Parallel.For(0, spectra.Count, parallel, i =>
+            {
+                var s = spectra[i];
+                var (grid, flux) = Degradation.Degrade(s.Spectrum, r, s.SourceResolution,
+                    new DegradeOptions { PixelsPerElement = settings.PixelsPerElement });
+                degraded[i] = (grid, grid.Centres(), flux);
+            });
+            degradeTime += sw.Elapsed;
+            for (int si = 0; si < settings.SnrLevels.Count; si++)
+            {
+                double? snr = settings.SnrLevels[si];
+                sw.Restart();
+                var features = new float[spectra.Count][];
+                Parallel.For(0, spectra.Count, parallel, i =>
+                {
+                    var (grid, w, f) = degraded[i];
+                    if (snr is double target)
+                        f = SpectrumNoise.AddNoise(grid, f, target, settings.PixelsPerElement, new Random(HashCode.Combine(settings.Seed, i, ri, si)));
+                    features[i] = Preprocessing.Features(w, f, spectra[i].Redshift, r, settings.Preprocess);
+                });
+                featureTime += sw.Elapsed;
+                sw.Restart();
+                var predicted = new int[spectra.Count];
+                int foldsDone = 0;
+                Parallel.For(0, settings.Folds, parallel, k =>
+                {
+                    var (train, test) = splits[k];
+                    if (test.Length == 0) return;
+                    var weights = ClassWeights(train.Select(i => labels[i]).ToArray(), subtypes.Length, settings.BalancedClassWeights);
+                    var p = classifier.TrainAndPredict(train.Select(i => features[i]).ToArray(), train.Select(i => labels[i]).ToArray(),
+                        train.Select(i => weights[labels[i]]).ToArray(), test.Select(i => features[i]).ToArray(), subtypes.Length,
+                        HashCode.Combine(settings.Seed, k, ri, si));
+                    for (int j = 0; j < test.Length; j++) predicted[test[j]] = p[j];
+                    int n = Interlocked.Increment(ref foldsDone);
+                    lock (cells)
+                    {
+                        done++;
+                        Report(string.Create(System.Globalization.CultureInfo.InvariantCulture,
+                            $"R={r:0.#} S/N={(snr is double v ? v.ToString(System.Globalization.CultureInfo.InvariantCulture) : "native")} fold {n}/{settings.Folds}"));
+                    }
+                });
+                trainTime += sw.Elapsed;
+                var predictions = spectra.Select((s, i) => new Prediction(s.ObjectId, s.Subtype, subtypes[predicted[i]], s.PhaseDays)).ToArray();
+                var score = CalibrationScoring.Score(predictions, subtypes, taxonomy, settings.PhaseBins, r, snr);
+                cells.AddRange(score.Cells);
+                confusions.AddRange(score.Confusions);
+                summaries.Add(score.Summary);
+            }
+        }
+
+        var provenance = new CalibrationProvenance(library.Fingerprint(), spectra.Count, library.ObjectCount, library.Synthetic, codeVersion,
+            settings with { Resolutions = resolutions }, classifier.Name);
+        var document = new AccuracyModelDocument(SpectrumNoise.Convention, SpectrumNoise.ReferenceWavelengthAngstrom, subtypes, resolutions,
+            settings.SnrLevels, settings.PhaseBins, cells, confusions)
+        {
+            BroadClasses = taxonomy.Classes.Select(c => new BroadClass(c.Name, c.Subtypes.Where(subtypes.Contains).ToArray()))
+                .Where(c => c.Subtypes.Count > 0).ToArray(),
+            Summaries = summaries,
+            Baselines = CalibrationScoring.Baselines(spectra.Select(s => s.Subtype).ToArray(), subtypes, taxonomy),
+            MinimumResolution = MinimumResolutionTable.Build(cells, subtypes.Length, settings.MinimumResolutionTolerance),
+            Provenance = provenance,
+            Synthetic = library.Synthetic,
+        };
+        Report("done");
+        return (document, new CalibrationTimings(degradeTime, featureTime, trainTime, total.Elapsed));
+    }
+
+    /// <summary>
+    /// The cross-validation splits the calibration uses: fold k tests the spectra that
+    /// <see cref="GroupedFolds.Assign"/> put in fold k and trains on all others.
+    /// </summary>
+    public static IReadOnlyList<(int[] Train, int[] Test)> Splits(SpectralLibrary library, CalibrationSettings settings)
+    {
+        var spectra = library.Spectra;
+        int[] fold = GroupedFolds.Assign(spectra.Select(s => (s.ObjectId, s.Subtype)).ToArray(), settings.Folds, settings.Seed);
+        return Enumerable.Range(0, settings.Folds)
+            .Select(k => (Enumerable.Range(0, spectra.Count).Where(i => fold[i] != k).ToArray(),
+                          Enumerable.Range(0, spectra.Count).Where(i => fold[i] == k).ToArray()))
+            .ToArray();
+    }
+
+    /// <summary>Per-class training weights: N/(K·n_c) when balanced (classes absent from the fold get 0), else 1.</summary>
+    public static float[] ClassWeights(int[] labels, int classCount, bool balanced)
+    {
+        var w = new float[classCount];
+        if (!balanced) { Array.Fill(w, 1f); return w; }
+        var n = new int[classCount];
+        foreach (int l in labels) n[l]++;
+        int present = n.Count(c => c > 0);
+        for (int c = 0; c < classCount; c++) w[c] = n[c] == 0 ? 0 : (float)(labels.Length / (double)(present * n[c]));
+        return w;
+    }
+}

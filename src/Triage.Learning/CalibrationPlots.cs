@@ -1,0 +1,106 @@
+using System.Globalization;
+using ScottPlot;
+using Triage.Core.Calibration;
+
+namespace Triage.Learning;
+
+/// <summary>SVG plots of a calibration: recall-versus-R curves and a confusion heatmap (ScottPlot, DejaVu Sans).</summary>
+public static class CalibrationPlots
+{
+    private const string FontName = "DejaVu Sans";
+
+    /// <summary>
+    /// Recall against log R for each subtype (phases pooled) at one S/N level (null: native), with
+    /// Wilson 95 % intervals as error bars, and dashed lines for the uniform-guess chance level and
+    /// the overall accuracy.
+    /// </summary>
+    /// <param name="subtypes">Subtypes to draw; null for all.</param>
+    public static string RecallCurvesSvg(AccuracyModelDocument doc, double? snr, IReadOnlyList<string>? subtypes = null, int width = 900, int height = 600)
+    {
+        var plt = new Plot();
+        plt.Font.Set(FontName);
+        var palette = new ScottPlot.Palettes.Category20();
+        int colour = 0;
+        foreach (var s in subtypes ?? doc.Subtypes)
+        {
+            var curve = doc.Cells.Where(c => c.Subtype == s && c.Snr == snr && c.PhaseBin == CalibrationSettings.AllPhases)
+                .OrderBy(c => c.Resolution).ToArray();
+            if (curve.Length == 0) continue;
+            double[] x = curve.Select(c => Math.Log10(c.Resolution)).ToArray();
+            double[] y = curve.Select(c => c.Recall).ToArray();
+            var color = palette.GetColor(colour++);
+            var line = plt.Add.Scatter(x, y, color);
+            line.LegendText = s;
+            for (int i = 0; i < curve.Length; i++)
+            {
+                var bar = plt.Add.Line(x[i], curve[i].RecallLow, x[i], curve[i].RecallHigh);
+                bar.Color = color.WithAlpha(0.45);
+                bar.LineWidth = 1.5f;
+            }
+        }
+        var summary = doc.Summaries.Where(v => v.Snr == snr).OrderBy(v => v.Resolution).ToArray();
+        if (summary.Length > 0)
+        {
+            var acc = plt.Add.Scatter(summary.Select(v => Math.Log10(v.Resolution)).ToArray(), summary.Select(v => v.Accuracy).ToArray(), Colors.Black);
+            acc.LineWidth = 3;
+            acc.LegendText = "all spectra";
+        }
+        if (doc.Baselines is { } b)
+        {
+            var chance = plt.Add.HorizontalLine(b.UniformGuess, 1.5f, Colors.Gray, LinePattern.Dashed);
+            chance.LegendText = "chance (uniform guess)";
+        }
+        string snrText = snr is double v2 ? v2.ToString(CultureInfo.InvariantCulture) : "native";
+        plt.Title($"Recall vs resolving power, S/N {snrText} per element{(doc.Synthetic ? " (SYNTHETIC library)" : "")}");
+        plt.XLabel("R (log scale)");
+        plt.YLabel("recall (Wilson 95% interval)");
+        var ticks = doc.Resolutions.Select(r => new Tick(Math.Log10(r), r.ToString("0.#", CultureInfo.InvariantCulture))).ToArray();
+        plt.Axes.Bottom.TickGenerator = new ScottPlot.TickGenerators.NumericManual(ticks);
+        plt.Axes.SetLimitsY(0, 1.05);
+        plt.ShowLegend(Alignment.LowerRight);
+        return plt.GetSvgXml(width, height);
+    }
+
+    /// <summary>Row-normalised confusion heatmap (true subtype down, predicted across) at one (R, S/N), phases pooled.</summary>
+    /// <exception cref="ArgumentException">No confusion matrix at that grid point.</exception>
+    public static string ConfusionSvg(AccuracyModelDocument doc, double resolution, double? snr, int width = 900, int height = 800)
+    {
+        var m = doc.Confusions.FirstOrDefault(c => Math.Abs(c.Resolution - resolution) < 1e-9 && c.Snr == snr && c.PhaseBin == CalibrationSettings.AllPhases)
+                ?? throw new ArgumentException($"No confusion matrix at R = {resolution}, S/N = {snr?.ToString(CultureInfo.InvariantCulture) ?? "native"}.");
+        int k = m.Labels.Count;
+        var z = new double[k, k];
+        for (int i = 0; i < k; i++)
+        {
+            double row = m.Counts[i].Sum();
+            // ScottPlot draws row 0 at the top, so true labels read downwards as in a table.
+            for (int j = 0; j < k; j++) z[i, j] = row == 0 ? double.NaN : m.Counts[i][j] / row;
+        }
+        var plt = new Plot();
+        plt.Font.Set(FontName);
+        var hm = plt.Add.Heatmap(z);
+        hm.Colormap = new ScottPlot.Colormaps.Viridis();
+        hm.ManualRange = new ScottPlot.Range(0, 1);
+        plt.Add.ColorBar(hm);
+        for (int i = 0; i < k; i++)
+            for (int j = 0; j < k; j++)
+                if (m.Counts[i][j] > 0)
+                {
+                    var t = plt.Add.Text(m.Counts[i][j].ToString(CultureInfo.InvariantCulture), j, k - 1 - i);
+                    t.LabelFontSize = 10;
+                    t.LabelFontName = FontName;
+                    t.LabelFontColor = z[i, j] > 0.5 ? Colors.Black : Colors.White;
+                    t.LabelAlignment = Alignment.MiddleCenter;
+                }
+        plt.Axes.Bottom.TickGenerator = new ScottPlot.TickGenerators.NumericManual(
+            Enumerable.Range(0, k).Select(j => new Tick(j, m.Labels[j])).ToArray());
+        plt.Axes.Left.TickGenerator = new ScottPlot.TickGenerators.NumericManual(
+            Enumerable.Range(0, k).Select(i => new Tick(k - 1 - i, m.Labels[i])).ToArray());
+        plt.Axes.Bottom.TickLabelStyle.Rotation = 45;
+        plt.Axes.Bottom.TickLabelStyle.Alignment = Alignment.MiddleLeft;
+        string snrText = snr is double v ? v.ToString(CultureInfo.InvariantCulture) : "native";
+        plt.Title(string.Create(CultureInfo.InvariantCulture, $"Confusion at R = {resolution:0.#}, S/N {snrText} (counts; colour = row fraction)"));
+        plt.XLabel("predicted subtype");
+        plt.YLabel("true subtype");
+        return plt.GetSvgXml(width, height);
+    }
+}

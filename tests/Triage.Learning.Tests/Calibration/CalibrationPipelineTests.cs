@@ -1,0 +1,147 @@
+using Triage.Core.Calibration;
+using Triage.Learning;
+
+namespace Triage.Learning.Tests.Calibration;
+
+/// <summary>
+/// Shape of the accuracy-versus-R curve on the synthetic library. Expectations are facts practitioners
+/// report (issue 3; common practice): flat at high R, softening near R≈25, falling steeply at R ≤ 10,
+/// above chance even at R = 5; broad classes easier than subtypes; at fixed S/N per element fewer
+/// elements carry less information.
+/// </summary>
+[Collection(SyntheticCalibrationCollection.Name)]
+public class CalibrationPipelineTests(SyntheticCalibrationFixture f)
+{
+    private AccuracySummary At(double r) => f.Native.Summaries.Single(s => s.Resolution == r && s.Snr is null);
+
+    private AccuracySummary Nearest(double r) =>
+        f.Native.Summaries.Where(s => s.Snr is null).OrderBy(s => Math.Abs(Math.Log(s.Resolution / r))).First();
+
+    [Fact]
+    public void Run_DefaultGrid_TwelveLogSpacedResolutionsFrom5ToLibraryR()
+    {
+        Assert.Equal(12, f.Native.Resolutions.Count);
+        Assert.Equal(5, f.Native.Resolutions[0], 9);
+        Assert.Equal(1500, f.Native.Resolutions[^1], 9);
+    }
+
+    [Fact]
+    public void Run_HighestR_SubtypeAccuracyAtLeast075()
+    {
+        // Threshold from issue 3: ≥ 0.75 at the highest R (and well below 1: the library is meant to be hard).
+        double top = At(f.Native.Resolutions[^1]).Accuracy;
+        Assert.InRange(top, 0.75, 0.97);
+    }
+
+    [Fact]
+    public void Run_DownToR100_StaysWithinFivePointsOfHighestR()
+    {
+        double top = At(f.Native.Resolutions[^1]).Accuracy;
+        foreach (var s in f.Native.Summaries.Where(s => s.Snr is null && s.Resolution >= Nearest(100).Resolution))
+            Assert.True(s.Accuracy >= top - 0.05, $"R={s.Resolution}: {s.Accuracy:0.000} vs {top:0.000} at the highest R");
+    }
+
+    [Fact]
+    public void Run_R10AndBelow_ClearlyLower()
+    {
+        // "Clearly": more than 10 points below the highest-R accuracy, beyond the ±0.03 sampling noise of each.
+        double top = At(f.Native.Resolutions[^1]).Accuracy;
+        foreach (var s in f.Native.Summaries.Where(s => s.Snr is null && s.Resolution <= 10.5))
+            Assert.True(s.Accuracy < top - 0.10, $"R={s.Resolution}: {s.Accuracy:0.000} vs {top:0.000}");
+    }
+
+    [Fact]
+    public void Run_R5_AboveUniformGuess()
+    {
+        var r5 = At(5);
+        Assert.True(r5.AccuracyLow > f.Native.Baselines!.UniformGuess, $"{r5.AccuracyLow:0.000} vs chance {f.Native.Baselines.UniformGuess:0.000}");
+    }
+
+    [Fact]
+    public void Run_EveryR_BroadAccuracyAboveSubtypeAccuracy()
+    {
+        Assert.All(f.Native.Summaries, s => Assert.True(s.BroadAccuracy > s.Accuracy, $"R={s.Resolution}"));
+    }
+
+    [Fact]
+    public void Run_FixedSnr10_R50BelowR500()
+    {
+        double r50 = f.FixedSnr10.Summaries.Single(s => s.Resolution == 50).Accuracy;
+        double r500 = f.FixedSnr10.Summaries.Single(s => s.Resolution == 500).Accuracy;
+        Assert.True(r50 < r500, $"R=50: {r50:0.000}, R=500: {r500:0.000}");
+    }
+
+    [Fact]
+    public void Splits_RealLibrary_NoObjectOnBothSidesAndEverySpectrumTestedOnce()
+    {
+        var splits = CalibrationPipeline.Splits(f.Library, f.NativeSettings);
+        var spectra = f.Library.Spectra;
+        var tested = new int[spectra.Count];
+        foreach (var (train, test) in splits)
+        {
+            var trainObjects = train.Select(i => spectra[i].ObjectId).ToHashSet();
+            Assert.DoesNotContain(test, i => trainObjects.Contains(spectra[i].ObjectId));
+            Assert.Equal(spectra.Count, train.Length + test.Length);
+            foreach (int i in test) tested[i]++;
+        }
+        Assert.All(tested, n => Assert.Equal(1, n));
+        // Every subtype (≥ 8 objects) is tested in every fold.
+        foreach (var (_, test) in splits)
+            Assert.Equal(f.Native.Subtypes.Count, test.Select(i => spectra[i].Subtype).Distinct().Count());
+        // The classifier was handed exactly these splits: one call per (R, fold) with the same sizes.
+        var sizes = splits.Select(s => (s.Train.Length, s.Test.Length)).OrderBy(x => x).ToArray();
+        var calls = f.Recorder.Calls;
+        Assert.Equal(12 * splits.Count, calls.Count);
+        Assert.All(calls.GroupBy(c => c).Select(g => g.Key), c => Assert.Contains((c.Train, c.Test), sizes));
+    }
+
+    [Fact]
+    public void Run_Document_CarriesConventionProvenanceAndConsistentCells()
+    {
+        var d = f.Native;
+        Assert.Equal(6000, d.SnrReferenceWavelengthAngstrom);
+        Assert.Contains("per resolution element", d.SnrConvention);
+        Assert.True(d.Synthetic);
+        Assert.Equal(f.Library.Fingerprint(), d.Provenance!.LibraryFingerprint);
+        Assert.Equal("linear", d.Provenance.Classifier);
+        // Pooled cells: support sums to the library, recall inside its Wilson interval.
+        foreach (double r in d.Resolutions)
+        {
+            var pooled = d.Cells.Where(c => c.Resolution == r && c.PhaseBin == CalibrationSettings.AllPhases).ToArray();
+            Assert.Equal(f.Library.Spectra.Count, pooled.Sum(c => c.Spectra));
+            Assert.All(pooled, c => Assert.InRange(c.Recall, c.RecallLow, c.RecallHigh));
+            var m = d.Confusions.Single(c => c.Resolution == r && c.PhaseBin == CalibrationSettings.AllPhases);
+            Assert.Equal(f.Library.Spectra.Count, m.Counts.Sum(row => row.Sum()));
+            int correct = Enumerable.Range(0, m.Labels.Count).Sum(i => m.Counts[i][i]);
+            Assert.Equal(d.Summaries.Single(s => s.Resolution == r).Accuracy, correct / (double)f.Library.Spectra.Count, 12);
+        }
+        Assert.Equal(d.Subtypes.Count, d.MinimumResolution.Count);
+    }
+
+    [Fact]
+    public void Serialize_RoundTrip_KeepsCellsAndCamelCaseNames()
+    {
+        string json = CalibrationJson.Serialize(f.Native);
+        foreach (var name in new[] { "\"subtype\"", "\"resolution\"", "\"snr\"", "\"phaseBin\"", "\"recall\"", "\"recallLow\"", "\"recallHigh\"",
+                     "\"precision\"", "\"spectra\"", "\"objects\"", "\"summaries\"", "\"baselines\"", "\"minimumResolution\"", "\"confusions\"", "\"synthetic\"" })
+            Assert.Contains(name, json);
+        var back = CalibrationJson.Deserialize(json);
+        Assert.Equal(f.Native.Cells, back.Cells);
+        Assert.Equal(f.Native.Summaries, back.Summaries);
+        Assert.Equal(f.Native.Provenance!.LibraryFingerprint, back.Provenance!.LibraryFingerprint);
+    }
+
+    [Fact]
+    public void Plots_RecallCurvesAndConfusion_AreSvgWithDejaVuFont()
+    {
+        string curves = CalibrationPlots.RecallCurvesSvg(f.Native, null);
+        string heat = CalibrationPlots.ConfusionSvg(f.Native, f.Native.Resolutions[^1], null);
+        Assert.Contains("<svg", curves);
+        Assert.EndsWith("</svg>", curves.TrimEnd());
+        Assert.Contains("DejaVu Sans", curves);
+        Assert.Contains("Ic-BL", curves);
+        Assert.Contains("chance", curves);
+        Assert.Contains("<svg", heat);
+        Assert.Throws<ArgumentException>(() => CalibrationPlots.ConfusionSvg(f.Native, 12345, null));
+    }
+}
