@@ -52,6 +52,7 @@ public static class NightPlanner
     private const double CostScale = 1e4;
     private const double ModelSecondsPerChoice = 4e-5;
     private const double MinimumSearchSeconds = 0.3;
+    private const int LargeModelChoices = 5000;
 
     /// <summary>Solves <paramref name="problem"/> and returns the raw outcome (see <see cref="PlanReport"/> to explain it).</summary>
     /// <exception cref="ArgumentException">The problem or settings are invalid.</exception>
@@ -203,10 +204,12 @@ public static class NightPlanner
 
         // Probing and symmetry detection in presolve took the whole budget on a few thousand optional
         // intervals (measured on the demo night), leaving no time to search; they are switched off.
-        const string Presolve = "cp_model_probing_level:0 symmetry_level:0";
+        // Above a few thousand choices even the lighter presolve overran the time limit on the
+        // shared 2-core machine; the hint is already feasible, so presolve is skipped there.
+        var presolve = model.Choices.Count > LargeModelChoices ? "cp_model_presolve:false" : "cp_model_probing_level:0 symmetry_level:0";
         var parameters = settings.Deterministic
-            ? string.Create(CultureInfo.InvariantCulture, $"num_workers:1 random_seed:{settings.Seed} max_deterministic_time:{settings.DeterministicTimeLimit} {Presolve}")
-            : string.Create(CultureInfo.InvariantCulture, $"num_workers:{settings.Workers} random_seed:{settings.Seed} max_time_in_seconds:{Math.Max(0.05, remainingSeconds):F3} {Presolve}");
+            ? string.Create(CultureInfo.InvariantCulture, $"num_workers:1 random_seed:{settings.Seed} max_deterministic_time:{settings.DeterministicTimeLimit} {presolve}")
+            : string.Create(CultureInfo.InvariantCulture, $"num_workers:{settings.Workers} random_seed:{settings.Seed} max_time_in_seconds:{Math.Max(0.05, remainingSeconds):F3} {presolve}");
         var solver = new CpSolver { StringParameters = parameters };
         using var registration = cancellationToken.Register(solver.StopSearch);
         var status = solver.Solve(cp);
