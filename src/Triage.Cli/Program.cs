@@ -15,6 +15,7 @@ Command[] verbs =
     LibraryVerb.Create(),
     DegradeVerb.Create(),
     CalibrateVerb.Create(),
+    PlotVerb.Create(),
 ];
 foreach (var verb in verbs)
 {

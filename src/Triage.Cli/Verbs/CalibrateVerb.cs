@@ -98,7 +98,7 @@ internal static class CalibrateVerb
         return cmd;
     }
 
-    private static void WritePlots(AccuracyModelDocument doc, string dir)
+    internal static void WritePlots(AccuracyModelDocument doc, string dir)
     {
         Directory.CreateDirectory(dir);
         foreach (var snr in doc.SnrLevels)

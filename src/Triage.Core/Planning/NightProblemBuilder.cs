@@ -254,19 +254,20 @@ public static class NightProblemBuilder
         }
 
         var calculators = unitRoster.Select(u => ExposureCalculator.For(u.Item2, u.Item1)).ToArray();
-        var candidates = new List<PlanningCandidate>();
-        var options = new List<PlanOption>();
-        var clampedCandidates = 0;
         var snrLevels = surface.SnrAxis;
-        for (var c = 0; c < targets.Count; c++)
+
+        // Candidates are independent: built in parallel, gathered in input order.
+        (PlanningCandidate Candidate, List<PlanOption> Options, bool Clamped) BuildCandidate(int c)
         {
             var target = targets[c];
+            var options = new List<PlanOption>();
             var prior = surface.AlignPrior(target.SubtypePrior);
             var anyVisible = false;
             var anyLevel = false;
             var clamped = false;
             var visibilityCache = new Dictionary<(Guid, double), TargetVisibility>();
             var moonCache = new Dictionary<(Guid, DateTimeOffset), MoonlightGeometry>();
+            var airmassCache = new Dictionary<(Guid, double, double), double>();
             for (var u = 0; u < units.Count; u++)
             {
                 var (site, sg) = unitRoster[u];
@@ -294,9 +295,16 @@ public static class NightProblemBuilder
                         var from = epoch.AddSeconds(chunk.FromSeconds);
                         var mid = epoch.AddSeconds((chunk.FromSeconds + chunk.ToSeconds) / 2);
                         var to = epoch.AddSeconds(chunk.ToSeconds);
-                        var worstAirmass = Math.Max(
-                            nightModel.Airmass(target.Position, from) ?? double.PositiveInfinity,
-                            Math.Max(nightModel.Airmass(target.Position, mid) ?? double.PositiveInfinity, nightModel.Airmass(target.Position, to) ?? double.PositiveInfinity));
+                        if (!airmassCache.TryGetValue((site.Id, chunk.FromSeconds, chunk.ToSeconds), out var worstAirmass))
+                        {
+                            // Airmass has one minimum (transit) per night, so the worst of a chunk is at an end;
+                            // the middle is included for chunks that straddle a lower culmination.
+                            worstAirmass = Math.Max(
+                                nightModel.Airmass(target.Position, from) ?? double.PositiveInfinity,
+                                Math.Max(nightModel.Airmass(target.Position, mid) ?? double.PositiveInfinity, nightModel.Airmass(target.Position, to) ?? double.PositiveInfinity));
+                            airmassCache[(site.Id, chunk.FromSeconds, chunk.ToSeconds)] = worstAirmass;
+                        }
+
                         if (!double.IsFinite(worstAirmass))
                         {
                             continue;
@@ -353,14 +361,14 @@ public static class NightProblemBuilder
                 }
             }
 
-            if (clamped)
-            {
-                clampedCandidates++;
-            }
-
-            candidates.Add(new PlanningCandidate(target.Id, target.ScienceWeight,
-                anyLevel ? CandidateStanding.Plannable : anyVisible ? CandidateStanding.TooFaint : CandidateStanding.NeverVisible));
+            var standing = anyLevel ? CandidateStanding.Plannable : anyVisible ? CandidateStanding.TooFaint : CandidateStanding.NeverVisible;
+            return (new PlanningCandidate(target.Id, target.ScienceWeight, standing), options, clamped);
         }
+
+        var built = Enumerable.Range(0, targets.Count).AsParallel().AsOrdered().Select(BuildCandidate).ToArray();
+        var candidates = built.Select(b => b.Candidate).ToList();
+        var options = built.SelectMany(b => b.Options).ToList();
+        var clampedCandidates = built.Count(b => b.Clamped);
 
         if (clampedCandidates > 0)
         {

@@ -98,14 +98,14 @@ public static class SyntheticLibrary
     private static (SyntheticObject, List<LibrarySpectrum>) MakeObject(SubtypeModel m, string id, Random rng, SynthOptions o)
     {
         double z = 0.005 + (o.MaxRedshift - 0.005) * Math.Sqrt(rng.NextDouble()); // more volume at larger z
-        double v0 = m.VelocityKmPerS * Math.Exp(0.2 * SpectrumNoise.StandardNormal(rng));
+        double v0 = m.VelocityKmPerS * Math.Exp(0.22 * SpectrumNoise.StandardNormal(rng));
         double tScale = Math.Exp(0.12 * SpectrumNoise.StandardNormal(rng));
-        double strengthSpread = 0.5;
+        double strengthSpread = 0.6;
         var strengths = m.Lines.Select(_ => Math.Exp(strengthSpread * SpectrumNoise.StandardNormal(rng))).ToArray();
-        double host = 0.75 * Math.Pow(rng.NextDouble(), 1.2);
+        double host = 0.85 * rng.NextDouble();
         double reddening = -0.2 * Math.Log(1 - rng.NextDouble()); // E(B−V), exponential with mean 0.2 mag
         bool starForming = rng.NextDouble() < 0.5;
-        double nativeSnr = 8 * Math.Exp(1.3 * rng.NextDouble()); // 8 … 29 per element
+        double nativeSnr = 6 * Math.Exp(1.3 * rng.NextDouble()); // 6 … 22 per element
         double evolution = 0.8 + 0.45 * rng.NextDouble();
 
         int n = Math.Clamp(1 + Poisson(rng, o.MeanSpectraPerObject - 1), 2, 16);

@@ -1,0 +1,48 @@
+using System.Globalization;
+using Triage.Core.Planning;
+
+namespace Triage.Bench;
+
+/// <summary>Figures compared between plans.</summary>
+public sealed record PlanFigures(string Name, int Assigned, double ExpectedCorrect, double Objective, double HighRShareOnHard)
+{
+    public override string ToString() => string.Create(CultureInfo.InvariantCulture,
+        $"{Name,-44} assigned {Assigned,4}  expected correct {ExpectedCorrect,7:F1}  objective {Objective,7:F1}  high-R time on low-R-hard candidates {HighRShareOnHard,6:P1}");
+}
+
+/// <summary>Computes <see cref="PlanFigures"/>.</summary>
+public static class PlanMetrics
+{
+    /// <summary>Units with R below this count as low-R.</summary>
+    public const double LowResolutionBelow = 1000;
+
+    /// <summary>Figures of a plan; "hard" candidates have best low-R expected accuracy below 0.5 (or no low-R option).</summary>
+    public static PlanFigures Of(string name, PlanningProblem problem, IReadOnlyList<PlannedObservation> plan)
+    {
+        var highR = Enumerable.Range(0, problem.Units.Count).MaxBy(u => problem.Units[u].ResolvingPower);
+        var bestLowR = new double[problem.Candidates.Count];
+        foreach (var option in problem.Options.Where(o => problem.Units[o.Unit].ResolvingPower < LowResolutionBelow))
+        {
+            foreach (var level in option.Levels)
+            {
+                bestLowR[option.Candidate] = Math.Max(bestLowR[option.Candidate], level.ExpectedAccuracy);
+            }
+        }
+
+        double highTime = 0, highHard = 0;
+        foreach (var o in plan.Where(o => problem.Options[o.Option].Unit == highR))
+        {
+            var option = problem.Options[o.Option];
+            var seconds = option.Levels[o.Level].DurationSeconds;
+            highTime += seconds;
+            if (bestLowR[option.Candidate] < 0.5)
+            {
+                highHard += seconds;
+            }
+        }
+
+        var correct = plan.Sum(o => problem.Options[o.Option].Levels[o.Level].ExpectedAccuracy);
+        var objective = plan.Sum(o => problem.NetValue(problem.Options[o.Option], problem.Options[o.Option].Levels[o.Level]));
+        return new PlanFigures(name, plan.Count, correct, objective, highTime > 0 ? highHard / highTime : 0);
+    }
+}

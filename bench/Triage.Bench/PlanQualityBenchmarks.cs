@@ -1,0 +1,54 @@
+using BenchmarkDotNet.Attributes;
+using Triage.Core.Planning;
+using Triage.Scheduling;
+
+namespace Triage.Bench;
+
+/// <summary>
+/// The demo night (demo/roster.json: 6 spectrographs on 3 sites; demo/candidates.json: 500 candidates;
+/// demo/calibration.json or the stand-in): Triage's plan against brightest-first onto the largest
+/// telescope and science-priority filling the highest-R unit first. The figures are printed at setup;
+/// the benchmarks time each planner.
+/// </summary>
+[Config(typeof(InProcessConfig))]
+public class PlanQualityBenchmarks
+{
+    private PlanningProblem _problem = null!;
+    private Dictionary<string, double> _apertures = null!;
+
+    [GlobalSetup]
+    public void Setup()
+    {
+        var (sites, spectrographs) = DemoNight.Roster();
+        var (calibration, source) = DemoNight.Calibration();
+        var night = NightProblemBuilder.Build(sites, spectrographs, DemoNight.Targets(calibration),
+            AccuracySurface.FromDocument(calibration), DemoNight.Night, DateTimeOffset.MinValue);
+        _problem = night.Problem;
+        _apertures = spectrographs.ToDictionary(s => s.Id.ToString(), s => s.ApertureM);
+
+        var triage = NightPlanner.Solve(_problem, new SolverSettings { TimeLimitSeconds = 5 });
+        var figures = new[]
+        {
+            PlanMetrics.Of("Triage", _problem, triage.Observations),
+            PlanMetrics.Of("Brightest first, largest telescope", _problem, BrightestFirst()),
+            PlanMetrics.Of("Science priority, highest R first", _problem, PriorityHighestR()),
+        };
+        Console.WriteLine($"// Demo night {DemoNight.Night:yyyy-MM-dd}, {_problem.Candidates.Count} candidates, {_problem.Units.Count} spectrographs, calibration: {source}");
+        Console.WriteLine($"// Triage status {triage.Status}, objective {triage.Objective:F2}, bound {triage.Bound:F2}; {string.Join(" ", triage.Notes)}");
+        foreach (var f in figures)
+        {
+            Console.WriteLine("// " + f);
+        }
+
+        Console.WriteLine($"// Triage vs brightest-first: {figures[0].ExpectedCorrect / figures[1].ExpectedCorrect - 1:P1}; vs priority/highest-R: {figures[0].ExpectedCorrect / figures[2].ExpectedCorrect - 1:P1}");
+    }
+
+    [Benchmark(Baseline = true)]
+    public PlanOutcome Triage() => NightPlanner.Solve(_problem, new SolverSettings { TimeLimitSeconds = 5 });
+
+    [Benchmark]
+    public IReadOnlyList<PlannedObservation> BrightestFirst() => BaselineSchedulers.BrightestFirstLargestTelescope(_problem, _apertures);
+
+    [Benchmark]
+    public IReadOnlyList<PlannedObservation> PriorityHighestR() => BaselineSchedulers.PriorityHighestResolutionFirst(_problem);
+}
