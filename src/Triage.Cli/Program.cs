@@ -1,13 +1,19 @@
 using System.CommandLine;
 using Triage.Cli.Verbs;
 
-var root = new RootCommand("triage: spectroscopic follow-up planning for transient candidates");
+var root = new RootCommand("triage: plan tonight's spectroscopic follow-up of transient candidates.");
 Command[] verbs =
 [
+    DatabaseVerb.Create(),
+    KeyVerb.Create(),
+    DemoVerb.Create(),
     LibraryVerb.Create(),
     DegradeVerb.Create(),
     CalibrateVerb.Create(),
     PlotVerb.Create(),
 ];
-foreach (var verb in verbs) root.Subcommands.Add(verb);
-return root.Parse(args).Invoke();
+foreach (var verb in verbs)
+{
+    root.Subcommands.Add(verb);
+}
+return await root.Parse(args).InvokeAsync();

@@ -23,7 +23,7 @@ public enum SiteStatus
 /// <param name="SkyReferenceWavelengthAngstrom">Wavelength at which the sky brightness is quoted, Å.</param>
 /// <param name="ExtinctionMagPerAirmass">Atmospheric extinction at the reference wavelength, mag per airmass.</param>
 /// <param name="Status">Open or closed tonight.</param>
-/// <param name="OwnerKeyId">Observatory key that manages the site (null: admin-owned).</param>
+/// <param name="Observatory">Observatory that manages the site (its keys may change it); null: managed by admins only.</param>
 public sealed record Site(
     Guid Id,
     string Name,
@@ -38,4 +38,4 @@ public sealed record Site(
     double SkyReferenceWavelengthAngstrom,
     double ExtinctionMagPerAirmass,
     SiteStatus Status,
-    Guid? OwnerKeyId = null);
+    string? Observatory = null);

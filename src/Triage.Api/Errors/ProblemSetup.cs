@@ -1,0 +1,160 @@
+using System.Text.Json;
+using Microsoft.AspNetCore.Diagnostics;
+using Microsoft.AspNetCore.Http.Features;
+using Microsoft.AspNetCore.Http.Metadata;
+using Microsoft.AspNetCore.Mvc;
+
+namespace Triage.Api.Errors;
+
+/// <summary>
+/// Every error leaves as RFC 9457 <c>application/problem+json</c>. Body-binding failures
+/// (malformed JSON, wrong types, NaN, unknown enum values or properties, oversize bodies)
+/// become 4xx problems that name the offending field; nothing else ever leaks a stack trace.
+/// </summary>
+public static class ProblemSetup
+{
+    public static IServiceCollection AddTriageProblems(this IServiceCollection services)
+    {
+        services.AddProblemDetails(o => o.CustomizeProblemDetails = ctx =>
+        {
+            ctx.ProblemDetails.Extensions["requestId"] = ctx.HttpContext.TraceIdentifier;
+            if (ctx.ProblemDetails.Status == StatusCodes.Status415UnsupportedMediaType && !ctx.ProblemDetails.Extensions.ContainsKey("field"))
+            {
+                ctx.ProblemDetails.Detail ??= "Send the body as application/json.";
+                ctx.ProblemDetails.Extensions["field"] = "Content-Type";
+            }
+        });
+        services.AddExceptionHandler<BadRequestProblemHandler>();
+        services.Configure<RouteHandlerOptions>(o => o.ThrowOnBadRequest = true);
+        return services;
+    }
+
+    public static WebApplication UseTriageProblems(this WebApplication app)
+    {
+        app.UseExceptionHandler();
+        app.UseStatusCodePages();
+        return app;
+    }
+}
+
+/// <summary>Turns request-binding exceptions into field-naming 4xx problems.</summary>
+internal sealed class BadRequestProblemHandler(IProblemDetailsService problems, ILogger<BadRequestProblemHandler> log) : IExceptionHandler
+{
+    public async ValueTask<bool> TryHandleAsync(HttpContext http, Exception exception, CancellationToken ct)
+    {
+        if (exception is not BadHttpRequestException bad)
+        {
+            log.LogError(exception, "Unhandled error on {Route}", http.Request.Path.Value);
+            http.Response.StatusCode = StatusCodes.Status500InternalServerError;
+            return await problems.TryWriteAsync(new ProblemDetailsContext
+            {
+                HttpContext = http,
+                ProblemDetails = new ProblemDetails
+                {
+                    Status = 500,
+                    Title = "Internal error",
+                    Detail = "The request could not be completed; nothing was changed by the failing step. The request id identifies it in the logs.",
+                },
+            });
+        }
+
+        var (field, message) = Describe(bad);
+        var status = bad.StatusCode;
+        var title = status switch
+        {
+            StatusCodes.Status413PayloadTooLarge => "Request body too large",
+            StatusCodes.Status415UnsupportedMediaType => "Unsupported media type",
+            _ => "Invalid request body",
+        };
+        var details = new ValidationProblemDetails(new Dictionary<string, string[]> { [field] = [message] })
+        {
+            Status = status,
+            Title = title,
+            Detail = $"{field}: {message}",
+        };
+        http.Response.StatusCode = status;
+        return await problems.TryWriteAsync(new ProblemDetailsContext { HttpContext = http, ProblemDetails = details });
+    }
+
+    private static (string Field, string Message) Describe(BadHttpRequestException bad)
+    {
+        for (Exception? e = bad; e is not null; e = e.InnerException)
+        {
+            if (e is JsonException json)
+            {
+                var field = JsonPath.ToField(json.Path);
+                var message = json.Message.Contains("could not be mapped", StringComparison.Ordinal)
+                    ? "is not a known property"
+                    : json.Message.Contains("NaN", StringComparison.Ordinal) || json.Message.Contains("Infinity", StringComparison.Ordinal)
+                        ? "must be a finite number (NaN and Infinity are not JSON numbers)"
+                        : SimplifyJsonMessage(json);
+                return (field, message);
+            }
+        }
+        return bad.StatusCode switch
+        {
+            StatusCodes.Status413PayloadTooLarge => ("body", "is larger than this endpoint accepts"),
+            StatusCodes.Status415UnsupportedMediaType => ("Content-Type", "must be application/json"),
+            _ when bad.Message.Contains("was not provided", StringComparison.Ordinal) => ("body", "is required"),
+            _ => ("body", bad.Message),
+        };
+    }
+
+    private static string SimplifyJsonMessage(JsonException json)
+    {
+        var m = json.Message;
+        var cut = m.IndexOf(" Path:", StringComparison.Ordinal);
+        m = cut > 0 ? m[..cut] : m;
+        if (m.StartsWith("The JSON value could not be converted", StringComparison.Ordinal))
+        {
+            return "has the wrong type or an unknown value";
+        }
+        return m;
+    }
+}
+
+/// <summary>Converts System.Text.Json paths (<c>$.sites[0].name</c>) to field names (<c>sites[0].name</c>).</summary>
+internal static class JsonPath
+{
+    public static string ToField(string? path)
+    {
+        if (string.IsNullOrEmpty(path) || path == "$")
+        {
+            return "body";
+        }
+        var p = path.StartsWith("$.", StringComparison.Ordinal) ? path[2..] : path.TrimStart('$');
+        return p.Replace("['", ".", StringComparison.Ordinal).Replace("']", "", StringComparison.Ordinal).TrimStart('.');
+    }
+}
+
+/// <summary>
+/// Enforces the endpoint's <see cref="IRequestSizeLimitMetadata"/> from Content-Length before
+/// the body is read, so that the answer is a 413 problem on every server, test host included.
+/// </summary>
+public sealed class BodySizeLimitMiddleware(RequestDelegate next)
+{
+    public async Task InvokeAsync(HttpContext http)
+    {
+        var limit = http.GetEndpoint()?.Metadata.GetMetadata<IRequestSizeLimitMetadata>()?.MaxRequestBodySize;
+        if (limit is { } max)
+        {
+            if (http.Request.ContentLength > max)
+            {
+                throw new BadHttpRequestException($"The body is larger than {max} bytes.", StatusCodes.Status413PayloadTooLarge);
+            }
+            var feature = http.Features.Get<IHttpMaxRequestBodySizeFeature>();
+            if (feature is { IsReadOnly: false })
+            {
+                feature.MaxRequestBodySize = max;
+            }
+        }
+        await next(http);
+    }
+}
+
+/// <summary>Per-endpoint body limits, enforced by <see cref="BodySizeLimitMiddleware"/> and Kestrel.</summary>
+public static class BodyLimitExtensions
+{
+    public static RouteHandlerBuilder WithBodyLimit(this RouteHandlerBuilder builder, long bytes) =>
+        builder.WithMetadata(new RequestSizeLimitAttribute(bytes));
+}

@@ -1,0 +1,30 @@
+namespace Triage.Api.Jobs;
+
+/// <summary>Progress of a job: fraction done (0…1) and a short note of the current step.</summary>
+public readonly record struct JobProgress(double Fraction, string? Note = null);
+
+/// <summary>Runs one kind of durable job. Input and result are JSON documents.</summary>
+public interface IJobHandler
+{
+    /// <summary>The job kind this handler runs (e.g. <c>calibration</c>).</summary>
+    string Kind { get; }
+
+    /// <summary>Does the work; throws <see cref="JobInputException"/> for input it cannot use.</summary>
+    Task<string> RunAsync(string inputJson, IProgress<JobProgress> progress, CancellationToken ct);
+}
+
+/// <summary>A job whose input turned out unusable: it fails with this message, not with a stack trace.</summary>
+public sealed class JobInputException(string message) : Exception(message);
+
+/// <summary>Worker settings (section <c>Triage:Jobs</c>).</summary>
+public sealed record JobOptions
+{
+    /// <summary>How often an idle worker looks for queued jobs (default 1 s).</summary>
+    public TimeSpan PollInterval { get; init; } = TimeSpan.FromSeconds(1);
+
+    /// <summary>How often a running job beats its heartbeat at least (default 5 s).</summary>
+    public TimeSpan HeartbeatInterval { get; init; } = TimeSpan.FromSeconds(5);
+
+    /// <summary>A running job silent for this long lost its worker (default 60 s).</summary>
+    public TimeSpan StaleAfter { get; init; } = TimeSpan.FromSeconds(60);
+}

@@ -1,0 +1,63 @@
+using System.Text.Json;
+using System.Text.Json.Serialization;
+using Microsoft.AspNetCore.Diagnostics.HealthChecks;
+using Serilog;
+using Serilog.Formatting.Compact;
+using Triage.Api.Access;
+
+namespace Triage.Api.Operations;
+
+public static class OperationsSetup
+{
+    /// <summary>Structured JSON logs on standard output; never the request body or headers.</summary>
+    public static WebApplicationBuilder AddTriageLogging(this WebApplicationBuilder builder)
+    {
+        builder.Services.AddSerilog((services, lc) => lc
+            .ReadFrom.Configuration(builder.Configuration)
+            .Enrich.FromLogContext()
+            .WriteTo.Console(new CompactJsonFormatter()));
+        return builder;
+    }
+
+    /// <summary>Strict JSON: unknown properties, numbers as strings and NaN are refused; enums are lower-case strings.</summary>
+    public static IServiceCollection AddTriageJson(this IServiceCollection services)
+    {
+        services.ConfigureHttpJsonOptions(o => Configure(o.SerializerOptions));
+        return services;
+    }
+
+    public static void Configure(JsonSerializerOptions o)
+    {
+        o.PropertyNamingPolicy = JsonNamingPolicy.CamelCase;
+        o.UnmappedMemberHandling = JsonUnmappedMemberHandling.Disallow;
+        o.NumberHandling = JsonNumberHandling.Strict;
+        o.Converters.Add(new JsonStringEnumConverter(JsonNamingPolicy.KebabCaseLower, allowIntegerValues: false));
+    }
+
+    public static WebApplication UseTriageRequestLogging(this WebApplication app)
+    {
+        app.UseSerilogRequestLogging(o =>
+        {
+            o.MessageTemplate = "HTTP {RequestMethod} {Route} answered {StatusCode} in {Elapsed:0.0} ms";
+            o.EnrichDiagnosticContext = (diag, http) =>
+            {
+                diag.Set("RequestId", http.TraceIdentifier);
+                diag.Set("Route", (http.GetEndpoint() as RouteEndpoint)?.RoutePattern.RawText ?? http.Request.Path.Value ?? "");
+                var key = http.User.FindFirst(TriageClaims.PublicId)?.Value;
+                if (key is not null)
+                {
+                    diag.Set("KeyId", key); // the public part only, never the secret
+                }
+            };
+        });
+        return app;
+    }
+
+    public static WebApplication MapOperations(this WebApplication app)
+    {
+        app.MapHealthChecks("/health/live", new HealthCheckOptions { Predicate = _ => false }).WithTags("Operations");
+        app.MapHealthChecks("/health/ready", new HealthCheckOptions { Predicate = c => c.Tags.Contains("ready") }).WithTags("Operations");
+        app.MapOpenApi("/openapi/{documentName}.json");
+        return app;
+    }
+}

@@ -1,0 +1,177 @@
+using Dapper;
+using Npgsql;
+using NpgsqlTypes;
+
+namespace Triage.Storage.Jobs;
+
+/// <summary>Where a job is in its life.</summary>
+public enum JobStatus
+{
+    Queued,
+    Running,
+    Succeeded,
+    Failed,
+}
+
+/// <summary>A stored job. <see cref="Progress"/> is 0…1; <see cref="EtaSeconds"/> estimates the time left.</summary>
+public sealed record JobRow(
+    Guid Id,
+    string Kind,
+    JobStatus Status,
+    string Input,
+    string? Result,
+    string? Error,
+    double Progress,
+    string? ProgressNote,
+    double? EtaSeconds,
+    Guid? RequestedBy,
+    int Attempts,
+    DateTimeOffset CreatedAt,
+    DateTimeOffset? StartedAt,
+    DateTimeOffset? FinishedAt,
+    DateTimeOffset? HeartbeatAt);
+
+/// <summary>
+/// Durable jobs in PostgreSQL. Workers claim queued jobs with <c>FOR UPDATE SKIP LOCKED</c>, so
+/// several workers never run the same job; running jobs beat a heartbeat, and jobs whose worker
+/// died (a restart) are requeued once and then marked failed: never left "running".
+/// </summary>
+public sealed class JobStore(NpgsqlDataSource dataSource)
+{
+    private const string Columns = """
+        id AS Id, kind AS Kind, status AS Status, input::text AS Input, result::text AS Result, error AS Error,
+        progress AS Progress, progress_note AS ProgressNote, eta_seconds AS EtaSeconds, requested_by AS RequestedBy,
+        attempts AS Attempts, created_at AS CreatedAt, started_at AS StartedAt, finished_at AS FinishedAt,
+        heartbeat_at AS HeartbeatAt
+        """;
+
+    /// <summary>How many times a job interrupted by a restart is started again before it is failed.</summary>
+    public const int MaxAttempts = 2;
+
+    private const string EnqueueSql = """
+        INSERT INTO jobs (id, kind, status, input, requested_by, created_at)
+        VALUES (@id, @kind, 'queued', @input, @requestedBy, @now)
+        """;
+
+    public async Task<Guid> EnqueueAsync(string kind, string inputJson, Guid? requestedBy, DateTimeOffset now, CancellationToken ct = default)
+    {
+        var id = Guid.NewGuid();
+        await using var conn = await dataSource.OpenConnectionAsync(ct);
+        await using var cmd = new NpgsqlCommand(EnqueueSql, conn);
+        cmd.Parameters.AddWithValue("id", id);
+        cmd.Parameters.AddWithValue("kind", kind);
+        cmd.Parameters.Add(new NpgsqlParameter("input", NpgsqlDbType.Jsonb) { Value = inputJson });
+        cmd.Parameters.AddWithValue("requestedBy", requestedBy.HasValue ? requestedBy.Value : DBNull.Value);
+        cmd.Parameters.AddWithValue("now", now);
+        await cmd.ExecuteNonQueryAsync(ct);
+        return id;
+    }
+
+    public async Task<JobRow?> GetAsync(Guid id, CancellationToken ct = default)
+    {
+        await using var conn = await dataSource.OpenConnectionAsync(ct);
+        var row = await conn.QuerySingleOrDefaultAsync<Record>(new CommandDefinition($"SELECT {Columns} FROM jobs WHERE id = @id", new { id }, cancellationToken: ct));
+        return row?.ToRow();
+    }
+
+    public async Task<IReadOnlyList<JobRow>> ListAsync(string? kind, int limit, CancellationToken ct = default)
+    {
+        await using var conn = await dataSource.OpenConnectionAsync(ct);
+        var rows = await conn.QueryAsync<Record>(new CommandDefinition(
+            $"SELECT {Columns} FROM jobs WHERE (@kind::text IS NULL OR kind = @kind) ORDER BY created_at DESC LIMIT @limit",
+            new { kind, limit }, cancellationToken: ct));
+        return rows.Select(r => r.ToRow()).ToList();
+    }
+
+    private const string ClaimSql = $"""
+        UPDATE jobs SET status = 'running', started_at = @now, heartbeat_at = @now, attempts = attempts + 1,
+            progress = 0, progress_note = NULL, eta_seconds = NULL
+        WHERE id = (SELECT id FROM jobs WHERE status = 'queued' AND kind = ANY(@kinds)
+                    ORDER BY created_at FOR UPDATE SKIP LOCKED LIMIT 1)
+        RETURNING {Columns}
+        """;
+
+    /// <summary>Takes the oldest queued job of the given kinds, or null when there is none.</summary>
+    public async Task<JobRow?> ClaimNextAsync(IReadOnlyCollection<string> kinds, DateTimeOffset now, CancellationToken ct = default)
+    {
+        await using var conn = await dataSource.OpenConnectionAsync(ct);
+        var row = await conn.QuerySingleOrDefaultAsync<Record>(new CommandDefinition(ClaimSql, new { kinds = kinds.ToArray(), now }, cancellationToken: ct));
+        return row?.ToRow();
+    }
+
+    /// <summary>Records progress (and beats the heartbeat) of a running job.</summary>
+    public async Task ReportAsync(Guid id, double fraction, string? note, double? etaSeconds, DateTimeOffset now, CancellationToken ct = default)
+    {
+        await using var conn = await dataSource.OpenConnectionAsync(ct);
+        await conn.ExecuteAsync(new CommandDefinition("""
+            UPDATE jobs SET progress = @fraction, progress_note = @note, eta_seconds = @etaSeconds, heartbeat_at = @now
+            WHERE id = @id AND status = 'running'
+            """, new { id, fraction = Math.Clamp(fraction, 0, 1), note, etaSeconds, now }, cancellationToken: ct));
+    }
+
+    public async Task CompleteAsync(Guid id, string resultJson, DateTimeOffset now, CancellationToken ct = default)
+    {
+        await using var conn = await dataSource.OpenConnectionAsync(ct);
+        await using var cmd = new NpgsqlCommand("""
+            UPDATE jobs SET status = 'succeeded', result = @result, progress = 1, eta_seconds = 0, finished_at = @now, heartbeat_at = @now
+            WHERE id = @id AND status = 'running'
+            """, conn);
+        cmd.Parameters.AddWithValue("id", id);
+        cmd.Parameters.Add(new NpgsqlParameter("result", NpgsqlDbType.Jsonb) { Value = resultJson });
+        cmd.Parameters.AddWithValue("now", now);
+        await cmd.ExecuteNonQueryAsync(ct);
+    }
+
+    public async Task FailAsync(Guid id, string error, DateTimeOffset now, CancellationToken ct = default)
+    {
+        await using var conn = await dataSource.OpenConnectionAsync(ct);
+        await conn.ExecuteAsync(new CommandDefinition("""
+            UPDATE jobs SET status = 'failed', error = @error, finished_at = @now, eta_seconds = NULL
+            WHERE id = @id AND status IN ('queued', 'running')
+            """, new { id, error, now }, cancellationToken: ct));
+    }
+
+    /// <summary>
+    /// Running jobs whose heartbeat is older than <paramref name="staleAfter"/> lost their worker:
+    /// requeued while they have attempts left, failed otherwise. Returns how many were touched.
+    /// </summary>
+    public async Task<int> RecoverInterruptedAsync(TimeSpan staleAfter, DateTimeOffset now, CancellationToken ct = default)
+    {
+        await using var conn = await dataSource.OpenConnectionAsync(ct);
+        var limit = now - staleAfter;
+        var requeued = await conn.ExecuteAsync(new CommandDefinition("""
+            UPDATE jobs SET status = 'queued', progress_note = 'interrupted by a restart; queued again'
+            WHERE status = 'running' AND heartbeat_at < @limit AND attempts < @max
+            """, new { limit, max = MaxAttempts }, cancellationToken: ct));
+        var failed = await conn.ExecuteAsync(new CommandDefinition("""
+            UPDATE jobs SET status = 'failed', finished_at = @now,
+                error = 'interrupted by a restart ' || attempts || ' times; not retried again'
+            WHERE status = 'running' AND heartbeat_at < @limit AND attempts >= @max
+            """, new { limit, now, max = MaxAttempts }, cancellationToken: ct));
+        return requeued + failed;
+    }
+
+    internal static string StatusText(JobStatus s) => s.ToString().ToLowerInvariant();
+
+    private sealed class Record
+    {
+        public Guid Id { get; init; }
+        public string Kind { get; init; } = "";
+        public string Status { get; init; } = "";
+        public string Input { get; init; } = "";
+        public string? Result { get; init; }
+        public string? Error { get; init; }
+        public double Progress { get; init; }
+        public string? ProgressNote { get; init; }
+        public double? EtaSeconds { get; init; }
+        public Guid? RequestedBy { get; init; }
+        public int Attempts { get; init; }
+        public DateTime CreatedAt { get; init; }
+        public DateTime? StartedAt { get; init; }
+        public DateTime? FinishedAt { get; init; }
+        public DateTime? HeartbeatAt { get; init; }
+
+        public JobRow ToRow() => new(Id, Kind, Enum.Parse<JobStatus>(Status, ignoreCase: true), Input, Result, Error, Progress,
+            ProgressNote, EtaSeconds, RequestedBy, Attempts, Utc.From(CreatedAt), Utc.From(StartedAt), Utc.From(FinishedAt), Utc.From(HeartbeatAt));
+    }
+}

@@ -1,0 +1,119 @@
+using System.Reflection;
+using System.Security.Cryptography;
+using System.Text;
+using Dapper;
+using Npgsql;
+
+namespace Triage.Storage.Migrations;
+
+/// <summary>A numbered plain-SQL migration embedded from <c>db/migrations</c>.</summary>
+public sealed record Migration(int Version, string Name, string Sql)
+{
+    /// <summary>SHA-256 of the SQL text, so an edited, already-applied migration is noticed.</summary>
+    public string Checksum { get; } = Convert.ToHexString(SHA256.HashData(Encoding.UTF8.GetBytes(Sql)));
+}
+
+/// <summary>What a migration run did.</summary>
+public sealed record MigrationReport(IReadOnlyList<int> Applied, int CurrentVersion);
+
+/// <summary>
+/// Applies the embedded migrations in order, each in its own transaction, under a
+/// PostgreSQL advisory lock so that concurrent runners (several test hosts, a run
+/// script and a CLI) never apply the same migration twice.
+/// </summary>
+public static class MigrationRunner
+{
+    private const long LockKey = 0x7472696167650001; // arbitrary, stable
+
+    /// <summary>The migrations shipped with this build, ordered by version.</summary>
+    public static IReadOnlyList<Migration> Embedded { get; } = LoadEmbedded();
+
+    /// <summary>Highest version shipped with this build.</summary>
+    public static int LatestVersion => Embedded.Count == 0 ? 0 : Embedded[^1].Version;
+
+    public static async Task<MigrationReport> ApplyAsync(NpgsqlDataSource dataSource, TimeProvider clock, CancellationToken ct = default)
+    {
+        await using var conn = await dataSource.OpenConnectionAsync(ct);
+        await conn.ExecuteAsync(new CommandDefinition("SELECT pg_advisory_lock(@k)", new { k = LockKey }, cancellationToken: ct));
+        try
+        {
+            await conn.ExecuteAsync(new CommandDefinition(CreateHistorySql, cancellationToken: ct));
+            var applied = (await conn.QueryAsync<(int Version, string Checksum)>(
+                new CommandDefinition("SELECT version, checksum FROM schema_migrations", cancellationToken: ct)))
+                .ToDictionary(r => r.Version, r => r.Checksum);
+            var done = new List<int>();
+            foreach (var m in Embedded)
+            {
+                if (applied.TryGetValue(m.Version, out var checksum))
+                {
+                    if (checksum != m.Checksum)
+                    {
+                        throw new InvalidOperationException(
+                            $"Migration {m.Version} ({m.Name}) was changed after it was applied; add a new migration instead.");
+                    }
+                    continue;
+                }
+                await using var tx = await conn.BeginTransactionAsync(ct);
+                await conn.ExecuteAsync(new CommandDefinition(m.Sql, transaction: tx, cancellationToken: ct));
+                await conn.ExecuteAsync(new CommandDefinition(
+                    "INSERT INTO schema_migrations (version, name, checksum, applied_at) VALUES (@Version, @Name, @Checksum, @At)",
+                    new { m.Version, m.Name, m.Checksum, At = clock.GetUtcNow() }, tx, cancellationToken: ct));
+                await tx.CommitAsync(ct);
+                done.Add(m.Version);
+            }
+            return new MigrationReport(done, LatestVersion);
+        }
+        finally
+        {
+            await conn.ExecuteAsync(new CommandDefinition("SELECT pg_advisory_unlock(@k)", new { k = LockKey }, cancellationToken: CancellationToken.None));
+        }
+    }
+
+    /// <summary>The version the database is at, or 0 when no migration was ever applied.</summary>
+    public static async Task<int> CurrentVersionAsync(NpgsqlDataSource dataSource, CancellationToken ct = default)
+    {
+        await using var conn = await dataSource.OpenConnectionAsync(ct);
+        var exists = await conn.ExecuteScalarAsync<bool>(new CommandDefinition(
+            "SELECT to_regclass('schema_migrations') IS NOT NULL", cancellationToken: ct));
+        if (!exists)
+        {
+            return 0;
+        }
+        return await conn.ExecuteScalarAsync<int?>(new CommandDefinition(
+            "SELECT max(version) FROM schema_migrations", cancellationToken: ct)) ?? 0;
+    }
+
+    private const string CreateHistorySql = """
+        CREATE TABLE IF NOT EXISTS schema_migrations (
+            version    integer PRIMARY KEY,
+            name       text NOT NULL,
+            checksum   text NOT NULL,
+            applied_at timestamptz NOT NULL
+        )
+        """;
+
+    private static IReadOnlyList<Migration> LoadEmbedded()
+    {
+        var asm = typeof(MigrationRunner).Assembly;
+        var list = new List<Migration>();
+        foreach (var resource in asm.GetManifestResourceNames().Where(n => n.EndsWith(".sql", StringComparison.Ordinal)))
+        {
+            // Resource names look like "Triage.Storage.Migrations.0001_roster_and_keys.sql".
+            var file = resource["Triage.Storage.Migrations.".Length..];
+            var digits = new string(file.TakeWhile(char.IsDigit).ToArray());
+            if (digits.Length == 0)
+            {
+                continue;
+            }
+            using var stream = asm.GetManifestResourceStream(resource)!;
+            using var reader = new StreamReader(stream, Encoding.UTF8);
+            list.Add(new Migration(int.Parse(digits, System.Globalization.CultureInfo.InvariantCulture), Path.GetFileNameWithoutExtension(file), reader.ReadToEnd()));
+        }
+        var dup = list.GroupBy(m => m.Version).FirstOrDefault(g => g.Count() > 1);
+        if (dup is not null)
+        {
+            throw new InvalidOperationException($"Two migrations share version {dup.Key}: {string.Join(", ", dup.Select(m => m.Name))}.");
+        }
+        return list.OrderBy(m => m.Version).ToList();
+    }
+}
