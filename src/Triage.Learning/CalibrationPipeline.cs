@@ -38,11 +38,11 @@ public static class CalibrationPipeline
         var spectra = library.Spectra;
         var subtypes = taxonomy.Subtypes.Where(s => spectra.Any(x => x.Subtype == s)).ToArray();
         if (subtypes.Length < 2) throw new ArgumentException("The library needs at least two subtypes to calibrate.", nameof(library));
-        double maxR = library.MinSourceResolution ?? throw new ArgumentException(
-            "No spectrum declares source_resolution; give --resolutions explicitly.", nameof(library));
-        var resolutions = (settings.Resolutions ?? CalibrationSettings.DefaultResolutions(maxR)).OrderBy(r => r).ToArray();
-        if (resolutions.Any(r => r > maxR * (1 + 1e-9)))
-            throw new ArgumentException($"The grid asks for R = {resolutions.Max()} but the library's lowest source resolution is {maxR}.", nameof(settings));
+        double? maxR = library.MinSourceResolution;
+        var resolutions = (settings.Resolutions ?? CalibrationSettings.DefaultResolutions(maxR ?? throw new ArgumentException(
+            "No spectrum declares source_resolution; give the resolutions explicitly.", nameof(library)))).OrderBy(r => r).ToArray();
+        if (maxR is double top && resolutions.Any(r => r > top * (1 + 1e-9)))
+            throw new ArgumentException($"The grid asks for R = {resolutions.Max()} but the library's lowest source resolution is {top}.", nameof(settings));
         var labelIndex = subtypes.Select((s, i) => (s, i)).ToDictionary(p => p.s, p => p.i, StringComparer.Ordinal);
         int[] labels = spectra.Select(s => labelIndex[s.Subtype]).ToArray();
         var splits = Splits(library, settings);
