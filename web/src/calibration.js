@@ -11,8 +11,11 @@ export async function renderCalibration(root) {
   root.replaceChildren(el('h2', {}, 'Calibration'), el('p', { class: 'meta' }, 'Loading…'));
   const active = await getJson('/api/calibrations/active', { allowMissing: true });
   if (!active) {
-    root.replaceChildren(el('h2', {}, 'Calibration'),
-      el('p', { class: 'empty' }, 'No calibration is active. Plans use none until one is computed or loaded.'));
+    const stored = await getJson('/api/calibrations', { allowMissing: true });
+    const message = stored === null
+      ? 'This service does not offer calibrations yet (GET /api/calibrations answered 404).'
+      : `No calibration is active (${stored.length} stored). Plans use none until one is computed or loaded and activated.`;
+    root.replaceChildren(el('h2', {}, 'Calibration'), el('p', { class: 'empty', id: 'cal-none' }, message));
     return;
   }
   const { calibration: cal, document: doc } = active;
@@ -59,7 +62,7 @@ export async function renderCalibration(root) {
 function drawCurves(target, doc, snr, phase, chance) {
   target.replaceChildren();
   const xs = [...doc.resolutions].sort((a, b) => a - b);
-  const axisStyle = { stroke: '#c9c2b3', size: 34, grid: { stroke: 'rgba(201,194,179,0.12)' }, ticks: { stroke: 'rgba(201,194,179,0.3)' } };
+  const axisStyle = { stroke: '#c9c2b3', size: 46, grid: { stroke: 'rgba(201,194,179,0.12)' }, ticks: { stroke: 'rgba(201,194,179,0.3)' } };
   for (const subtype of doc.subtypes) {
     const cells = new Map(doc.cells.filter((c) => c.subtype === subtype && c.phaseBin === phase && sameSnr(c.snr, snr)).map((c) => [c.resolution, c]));
     const pick = (f) => xs.map((r) => (cells.has(r) ? f(cells.get(r)) : null));

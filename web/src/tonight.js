@@ -120,7 +120,8 @@ export function createTonight(root, night, { pollSeconds = 20 } = {}) {
   function axis(range) {
     const track = el('div', { class: 'track axis-track', 'aria-hidden': 'true' });
     for (let t = range.lo; t <= range.hi; t += HOUR) {
-      track.append(el('span', { class: 'tick', style: `left:${pos(t, range)}%` }, utc(new Date(t))));
+      const edge = t === range.lo ? ' first' : t === range.hi ? ' last' : '';
+      track.append(el('span', { class: `tick${edge}`, style: `left:${pos(t, range)}%` }, utc(new Date(t))));
     }
     return el('div', { class: 'lane axis' }, el('div', { class: 'lane-label' }, 'Time (UTC)'), track);
   }
