@@ -98,6 +98,8 @@ export function createTonight(root, night, { pollSeconds = 20 } = {}) {
     const board = el('div', { class: 'board', role: 'group', 'aria-label': 'Planned observations per spectrograph, UTC time axis' });
     board.append(axis(range));
     lanes.forEach((lane, laneIndex) => board.append(laneRow(lane, laneIndex, range, details, panel)));
+    const sites = [...new Map(lanes.filter((l) => l.site).map((l) => [l.site.id, l.site])).values()];
+    sites.forEach((site) => board.append(axis(range, site)));
     root.append(board, panel);
     if (!anySky) {
       root.append(el('p', { class: 'note' }, 'Sky times (dark window, twilights) are not available from the service; the lanes show only the span the plan uses.'));
@@ -117,13 +119,15 @@ export function createTonight(root, night, { pollSeconds = 20 } = {}) {
       anySky ? el('li', {}, el('span', { class: 'swatch sky-dark' }), 'dark window') : el('li', {}, el('span', { class: 'swatch sky-span' }), 'span used by the plan'));
   }
 
-  function axis(range) {
+  /** The UTC axis, or the same instants as local mean solar time of a site. */
+  function axis(range, site = null) {
     const track = el('div', { class: 'track axis-track', 'aria-hidden': 'true' });
     for (let t = range.lo; t <= range.hi; t += HOUR) {
       const edge = t === range.lo ? ' first' : t === range.hi ? ' last' : '';
-      track.append(el('span', { class: `tick${edge}`, style: `left:${pos(t, range)}%` }, utc(new Date(t))));
+      const text = site ? local(new Date(t), site.longitudeDeg) : utc(new Date(t));
+      track.append(el('span', { class: `tick${edge}`, style: `left:${pos(t, range)}%` }, text));
     }
-    return el('div', { class: 'lane axis' }, el('div', { class: 'lane-label' }, 'Time (UTC)'), track);
+    return el('div', { class: 'lane axis' }, el('div', { class: 'lane-label' }, site ? `Time (local, ${site.name})` : 'Time (UTC)'), track);
   }
 
   function laneRow(lane, laneIndex, range, details, panel) {
