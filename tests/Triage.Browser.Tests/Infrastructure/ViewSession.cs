@@ -62,6 +62,15 @@ public sealed partial class ViewSession : IAsyncDisposable
         await Page.ClickAsync("#signin button[type=submit]");
     }
 
+    /// <summary>A new page signed in with the scenario's key on <paramref name="route"/>, drawn and ready.</summary>
+    public static async Task<ViewSession> SignedInAsync(NightViewHost host, NightScenario scenario, string route = "tonight")
+    {
+        var view = await OpenAsync(host);
+        await view.SignInAsync(host, scenario.AdminKey, scenario.NightText, route);
+        await view.WaitReadyAsync(route.Split('/')[0]);
+        return view;
+    }
+
     public async Task WaitReadyAsync(string page) =>
         await Page.WaitForSelectorAsync($"main[data-ready=\"{page}\"]", new PageWaitForSelectorOptions { Timeout = 20000 });
 

@@ -26,9 +26,7 @@ public sealed class NightViewTests(NightViewHost host)
     public async Task Tonight_Lanes_ShowExactlyThePlannedEntries_AndFollowANewVersionWithoutReload()
     {
         var s = await NightScenario.CreateAsync(host);
-        await using var view = await ViewSession.OpenAsync(host);
-        await view.SignInAsync(host, s.AdminKey, s.NightText);
-        await view.WaitReadyAsync("tonight");
+        await using var view = await ViewSession.SignedInAsync(host, s);
 
         Assert.Equal(await LanesFromApiAsync(host, s), await LanesOnPageAsync(view.Page));
         Assert.Equal("done", await view.Page.GetAttributeAsync($".block[data-candidate=\"{s.CandidateIds[0]}\"]", "data-state"));
@@ -55,9 +53,7 @@ public sealed class NightViewTests(NightViewHost host)
     public async Task Tonight_SelectingABlockWithTheKeyboard_ShowsItsReasonAndFigures()
     {
         var s = await NightScenario.CreateAsync(host);
-        await using var view = await ViewSession.OpenAsync(host);
-        await view.SignInAsync(host, s.AdminKey, s.NightText);
-        await view.WaitReadyAsync("tonight");
+        await using var view = await ViewSession.SignedInAsync(host, s);
 
         await view.Page.FocusAsync($".block[data-candidate=\"{s.CandidateIds[0]}\"]");
         await view.Page.Keyboard.PressAsync("ArrowRight");
@@ -83,10 +79,7 @@ public sealed class NightViewTests(NightViewHost host)
     public async Task Page_Loads_WithoutConsoleErrors(string page)
     {
         var s = await NightScenario.CreateAsync(host);
-        await using var view = await ViewSession.OpenAsync(host);
-        string route = page == "candidate" ? $"candidates/{s.CandidateIds[0]}" : page;
-        await view.SignInAsync(host, s.AdminKey, s.NightText, route);
-        await view.WaitReadyAsync(page == "candidate" ? "candidates" : page);
+        await using var view = await ViewSession.SignedInAsync(host, s, page == "candidate" ? $"candidates/{s.CandidateIds[0]}" : page);
         var text = await view.Page.InnerTextAsync("main");
         switch (page)
         {
