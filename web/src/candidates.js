@@ -5,6 +5,7 @@ import { loadPlan, loadDetails, planIndex, inBatches } from './data.js';
 import { el, num, percent, utcDateTime } from './format.js';
 
 const MAX_PAGES = 10;
+const MAX_PRIORS = 300;
 
 async function loadAll() {
   const items = [];
@@ -29,7 +30,7 @@ function topPrior(detail) {
 const COLUMNS = [
   { key: 'name', title: 'Candidate', value: (r) => r.name },
   { key: 'state', title: 'State', value: (r) => r.state },
-  { key: 'top', title: 'Top subtype (prior)', value: (r) => r.topValue ?? -1, show: (r) => (r.top ? `${r.top.label} ${percent(r.top.value)}` : '…') },
+  { key: 'top', title: 'Top subtype (prior)', value: (r) => r.topValue ?? -1, show: (r) => (r.top ? `${r.top.label} ${percent(r.top.value)}` : r.loading ? '…' : 'see its page') },
   { key: 'unit', title: 'Best spectrograph (plan)', value: (r) => r.unit ?? '', show: (r) => r.unit ?? 'not planned' },
   { key: 'accuracy', title: 'Expected accuracy', value: (r) => r.accuracy ?? -1, show: (r) => percent(r.accuracy, 1) },
   { key: 'mag', title: 'Predicted mag (AB)', value: (r) => r.mag ?? 99, show: (r) => num(r.mag, 2) },
@@ -81,12 +82,16 @@ export async function renderCandidates(root, night) {
   root.replaceChildren(el('h2', {}, 'Candidates'),
     el('div', { class: 'controls' }, el('label', { for: 'cand-filter' }, 'Filter '), filterText, el('label', { for: 'cand-state' }, ' State '), stateSelect),
     count, table);
+  const withPriors = rows.slice(0, MAX_PRIORS);
+  withPriors.forEach((row) => { row.loading = true; });
   draw();
-  // Priors come with each candidate's detail: fill them in as they arrive.
-  await inBatches(rows, 6, async (row) => {
+  // Priors come with each candidate's detail: fill them in as they arrive, for the first rows only
+  // so that a large night does not send thousands of requests.
+  await inBatches(withPriors, 6, async (row) => {
     const [detail] = (await loadDetails([row.id])).values();
     row.top = topPrior(detail);
     row.topValue = row.top?.value ?? null;
+    row.loading = false;
   });
   draw();
 }
