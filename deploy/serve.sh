@@ -20,6 +20,7 @@ triage demo load --roster demo/roster.json --keys-file var/demo-keys.json
 cat <<INFO
 
 Triage is starting on $url
+  Night view         : $url/  (sign in with a key from the demo keys file)
   API reference page : $url/reference.html
   OpenAPI document   : $url/openapi/v1.json
   Health             : $url/health/ready
