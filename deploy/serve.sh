@@ -15,12 +15,15 @@ dotnet build src/Triage.Cli/Triage.Cli.csproj -c Release -v quiet -nologo >/dev/
 triage() { dotnet src/Triage.Cli/bin/Release/net10.0/linux-x64/triage.dll "$@"; }
 
 triage db migrate
-triage demo load --roster demo/roster.json --keys-file var/demo-keys.json
+demo_night="${TRIAGE_DEMO_NIGHT:-2026-12-02}"
+triage demo load --roster demo/roster.json --keys-file var/demo-keys.json \
+  --calibration demo/calibration.json --candidates demo/candidates.json --plan-night "$demo_night"
 
 cat <<INFO
 
 Triage is starting on $url
-  Night view         : $url/  (sign in with a key from the demo keys file)
+  Night view         : $url/?night=$demo_night  (sign in with a key from the demo keys file;
+                       the demo plan is computed in the first minute after start)
   API reference page : $url/reference.html
   OpenAPI document   : $url/openapi/v1.json
   Health             : $url/health/ready

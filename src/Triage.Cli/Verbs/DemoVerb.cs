@@ -1,5 +1,12 @@
 using System.CommandLine;
+using System.Security.Cryptography;
 using System.Text.Json;
+using Triage.Core.Candidates;
+using Triage.Learning;
+using Triage.Storage.Calibrations;
+using Triage.Storage.Candidates;
+using Triage.Storage.Jobs;
+using Triage.Storage.Plans;
 using Triage.Core.Roster;
 using Triage.Storage;
 using Triage.Storage.Access;
@@ -18,7 +25,10 @@ internal static class DemoVerb
         var connection = ConnectionOption.Create();
         var roster = new Option<FileInfo>("--roster") { Description = "Roster file to load.", DefaultValueFactory = _ => new FileInfo("demo/roster.json") };
         var keysFile = new Option<FileInfo>("--keys-file") { Description = "Where the demo keys are written (and read back on the next run).", DefaultValueFactory = _ => new FileInfo("var/demo-keys.json") };
-        var load = new Command("load", "Load the demo scenario into the database (idempotent).") { connection, roster, keysFile };
+        var candidates = new Option<FileInfo?>("--candidates") { Description = "Broker batch of demo candidates to post as the demo broker (optional)." };
+        var calibration = new Option<FileInfo?>("--calibration") { Description = "Calibration JSON to store and activate when none is active (optional)." };
+        var planNight = new Option<string?>("--plan-night") { Description = "Queue a plan job for this night (YYYY-MM-DD) unless it has a plan already; the service computes it." };
+        var load = new Command("load", "Load the demo scenario into the database (idempotent).") { connection, roster, keysFile, candidates, calibration, planNight };
         load.SetAction(async (parse, ct) =>
         {
             var rosterFile = parse.GetValue(roster)!;
@@ -41,11 +51,62 @@ internal static class DemoVerb
             var (sites, added) = await LoadRosterAsync(new RosterStore(data), network.Sites, network.Spectrographs, ct);
             Console.WriteLine($"Demo roster: {sites} sites, {added} rows added (existing rows kept).");
 
-            var keys = await EnsureKeysAsync(new KeyStore(data), network.Sites, parse.GetValue(keysFile)!, ct);
-            Console.WriteLine($"Demo keys: {keys.FullName}");
+            var keysPath = await EnsureKeysAsync(new KeyStore(data), network.Sites, parse.GetValue(keysFile)!, ct);
+            Console.WriteLine($"Demo keys: {keysPath.FullName}");
+
+            if (parse.GetValue(calibration) is { } calibrationFile)
+            {
+                var store = new CalibrationStore(data);
+                if (await store.GetAsync(null, ct) is null)
+                {
+                    var json = await File.ReadAllTextAsync(calibrationFile.FullName, ct);
+                    var document = CalibrationJson.Deserialize(json);
+                    await store.AddAsync(new NewCalibration(document.Synthetic ? "synthetic" : "library", document.Synthetic,
+                        document.Provenance?.LibraryFingerprint, document.Provenance?.CodeVersion ?? "demo file", null, null, json), true, DateTimeOffset.UtcNow, ct);
+                    Console.WriteLine($"Demo calibration: {calibrationFile.Name} stored and active{(document.Synthetic ? " (computed from a SYNTHETIC library)" : "")}.");
+                }
+            }
+            if (parse.GetValue(candidates) is { } candidatesFile)
+            {
+                var secrets = JsonSerializer.Deserialize<Dictionary<string, string>>(await File.ReadAllTextAsync(keysPath.FullName, ct))!;
+                var broker = await new KeyStore(data).AuthenticateAsync(secrets["broker"], ct);
+                var summary = await PostCandidatesAsync(new CandidateStore(data), broker!.PublicId, await File.ReadAllTextAsync(candidatesFile.FullName, ct), ct);
+                Console.WriteLine(summary);
+            }
+            if (parse.GetValue(planNight) is { } nightText)
+            {
+                if (!DateOnly.TryParseExact(nightText, "yyyy-MM-dd", System.Globalization.CultureInfo.InvariantCulture, System.Globalization.DateTimeStyles.None, out var night))
+                {
+                    Console.Error.WriteLine($"--plan-night: '{nightText}' is not a date YYYY-MM-DD.");
+                    return 2;
+                }
+                if (await new PlanStore(data).GetAsync(night, null, ct) is null)
+                {
+                    // The same input the plans endpoint queues; the service's worker runs it.
+                    var input = $$"""{"night":"{{night:yyyy-MM-dd}}","objective":"accuracy","timeLimitSeconds":5,"fromUtc":null}""";
+                    var job = await new JobStore(data).EnqueueAsync("plan", input, null, DateTimeOffset.UtcNow, ct);
+                    Console.WriteLine($"Demo plan for the night of {night:yyyy-MM-dd}: queued as job {job}; the service computes it when it starts.");
+                }
+            }
             return 0;
         });
         return new Command("demo", "The invented demo scenario.") { load };
+    }
+
+    /// <summary>The broker intake path without HTTP: the same validation, hashing and merge as the API.</summary>
+    private static async Task<string> PostCandidatesAsync(CandidateStore store, string broker, string json, CancellationToken ct)
+    {
+        var batch = JsonSerializer.Deserialize<BrokerBatch>(json, BrokerBatchJson.Options);
+        var result = BrokerBatchValidator.Validate(batch, DefaultSubtypeLabels.Set, new BatchLimits { MaxCandidates = 5000 });
+        if (!result.IsValid)
+        {
+            return $"Demo candidates refused: {result.Errors.Count} problem(s), first: {result.Errors[0].Field}: {result.Errors[0].Message}";
+        }
+        var intake = result.Candidates
+            .Select((c, i) => new CandidateIntake(c, SHA256.HashData(JsonSerializer.SerializeToUtf8Bytes(batch!.Candidates![i]!, BrokerBatchJson.Options))))
+            .ToList();
+        var s = await store.UpsertBatchAsync(broker, intake, DateTimeOffset.UtcNow, ct);
+        return $"Demo candidates: {s.Received} received, {s.Created} new, {s.Unchanged} unchanged.";
     }
 
     private static async Task<(int Sites, int Added)> LoadRosterAsync(RosterStore store, IReadOnlyList<Site> sites, IReadOnlyList<Spectrograph> instruments, CancellationToken ct)
