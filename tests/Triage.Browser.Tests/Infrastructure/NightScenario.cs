@@ -61,7 +61,7 @@ public sealed class NightScenario
             ["spectrographId"] = spectrographs[1], ["outcome"] = "weather", ["observedUtc"] = observedUtc,
         });
 
-        var night = new DateOnly(2091, 1, 1).AddDays(Interlocked.Increment(ref _nights) + Random.Shared.Next(0, 20000) * 10);
+        var night = new DateOnly(2040, 1, 1).AddDays(Interlocked.Increment(ref _nights) + Random.Shared.Next(0, 20000)); // within the sky model's years
         var scenario = new NightScenario
         {
             AdminKey = admin, Night = night, SiteId = siteId, SpectrographIds = spectrographs, SpectrographNames = names,
