@@ -19,14 +19,7 @@ namespace Triage.Api.Calibrations;
 /// </summary>
 public static class CalibrationEndpoints
 {
-    internal static readonly JsonSerializerOptions InputJson = CreateInputOptions();
-
-    private static JsonSerializerOptions CreateInputOptions()
-    {
-        var o = new JsonSerializerOptions();
-        OperationsSetup.Configure(o);
-        return o;
-    }
+    internal static JsonSerializerOptions InputJson => OperationsSetup.JobJson;
 
     public static IServiceCollection AddCalibrations(this IServiceCollection services)
     {

@@ -50,7 +50,7 @@ public sealed class CalibrationJobHandler(CalibrationStore store, TimeProvider c
         try
         {
             document = await Task.Run(() => CalibrationPipeline.Run(library, taxonomy, settings, version,
-                new InlineProgress(p => progress.Report(new JobProgress(p.Percent / 100, p.Stage))), ct), ct);
+                new InlineProgress<CalibrationProgress>(p => progress.Report(new JobProgress(p.Percent / 100, p.Stage))), ct), ct);
         }
         catch (ArgumentException e)
         {
@@ -61,10 +61,5 @@ public sealed class CalibrationJobHandler(CalibrationStore store, TimeProvider c
             JsonSerializer.Serialize(settings, CalibrationJson.Options), null, CalibrationJson.Serialize(document)),
             input.Activate, clock.GetUtcNow(), ct);
         return JsonSerializer.Serialize(new { calibrationId = row.Id, active = row.Active, url = $"/api/calibrations/{row.Id}" });
-    }
-
-    private sealed class InlineProgress(Action<CalibrationProgress> report) : IProgress<CalibrationProgress>
-    {
-        public void Report(CalibrationProgress value) => report(value);
     }
 }

@@ -62,7 +62,7 @@ public sealed class JobRunner(
         var gate = new object();
         var latest = new JobProgress(0, "started");
         // Progress<T> would post to the thread pool out of order; a plain reporter keeps the last value.
-        var progress = new LatestProgress(p => { lock (gate) { latest = p; } });
+        var progress = new InlineProgress<JobProgress>(p => { lock (gate) { latest = p; } });
         var heartbeat = Task.Run(async () =>
         {
             try
@@ -110,7 +110,8 @@ public sealed class JobRunner(
     }
 }
 
-internal sealed class LatestProgress(Action<JobProgress> report) : IProgress<JobProgress>
+/// <summary>Reports synchronously on the caller's thread (unlike <see cref="Progress{T}"/>, which posts out of order).</summary>
+internal sealed class InlineProgress<T>(Action<T> report) : IProgress<T>
 {
-    public void Report(JobProgress value) => report(value);
+    public void Report(T value) => report(value);
 }

@@ -26,6 +26,16 @@ public static class OperationsSetup
         return services;
     }
 
+    /// <summary>The API's JSON conventions as a standalone options object (job inputs, stored bodies).</summary>
+    public static JsonSerializerOptions JobJson { get; } = CreateJobJson();
+
+    private static JsonSerializerOptions CreateJobJson()
+    {
+        var o = new JsonSerializerOptions();
+        Configure(o);
+        return o;
+    }
+
     public static void Configure(JsonSerializerOptions o)
     {
         o.PropertyNamingPolicy = JsonNamingPolicy.CamelCase;

@@ -20,17 +20,10 @@ namespace Triage.Api.Plans;
 public static class PlanEndpoints
 {
     /// <summary>JSON of job inputs: the API's own conventions.</summary>
-    public static readonly JsonSerializerOptions BodyJson = CreateBodyOptions();
+    public static JsonSerializerOptions BodyJson => OperationsSetup.JobJson;
 
     /// <summary>The job kind that computes a plan version.</summary>
     public const string PlanJobKind = "plan";
-
-    private static JsonSerializerOptions CreateBodyOptions()
-    {
-        var o = new JsonSerializerOptions();
-        OperationsSetup.Configure(o);
-        return o;
-    }
 
     public static IServiceCollection AddPlans(this IServiceCollection services)
     {
