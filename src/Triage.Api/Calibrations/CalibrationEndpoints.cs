@@ -19,8 +19,6 @@ namespace Triage.Api.Calibrations;
 /// </summary>
 public static class CalibrationEndpoints
 {
-    internal static JsonSerializerOptions InputJson => OperationsSetup.JobJson;
-
     public static IServiceCollection AddCalibrations(this IServiceCollection services)
     {
         services.AddSingleton<CalibrationStore>();
@@ -101,7 +99,7 @@ public static class CalibrationEndpoints
             return TypedResults.ValidationProblem(c.ToDictionary());
         }
         var input = new CalibrationJobInput(library, request.LibraryPath, objects, request.Seed ?? 1, request.Resolutions, snr, folds, request.Activate ?? false);
-        var id = await jobs.EnqueueAsync(CalibrationJobHandler.JobKind, JsonSerializer.Serialize(input, InputJson), Caller.From(user).KeyId, clock.GetUtcNow(), ct);
+        var id = await jobs.EnqueueAsync(CalibrationJobHandler.JobKind, JsonSerializer.Serialize(input, OperationsSetup.JobJson), Caller.From(user).KeyId, clock.GetUtcNow(), ct);
         return TypedResults.Accepted($"/api/jobs/{id}", new CalibrationJobResponse(id, $"/api/jobs/{id}"));
     }
 

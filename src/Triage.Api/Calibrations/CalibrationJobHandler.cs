@@ -20,7 +20,7 @@ public sealed class CalibrationJobHandler(CalibrationStore store, TimeProvider c
 
     public async Task<string> RunAsync(string inputJson, IProgress<JobProgress> progress, CancellationToken ct)
     {
-        var input = JsonSerializer.Deserialize<CalibrationJobInput>(inputJson, CalibrationEndpoints.InputJson)
+        var input = JsonSerializer.Deserialize<CalibrationJobInput>(inputJson, Triage.Api.Operations.OperationsSetup.JobJson)
             ?? throw new JobInputException("The job input is empty.");
         var taxonomy = Taxonomy.Default;
         progress.Report(new JobProgress(0, "loading the library"));

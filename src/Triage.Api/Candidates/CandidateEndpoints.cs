@@ -79,7 +79,7 @@ public static class CandidateEndpoints
         {
             // Candidates are valid here, so they map one to one onto the submissions in order.
             var submission = batch!.Candidates![i++]!;
-            intake.Add(new CandidateIntake(c, SHA256.HashData(JsonSerializer.SerializeToUtf8Bytes(submission, BrokerBatchJson.Options))));
+            intake.Add(CandidateIntake.From(c, submission));
         }
         var summary = await store.UpsertBatchAsync(Caller.From(user).PublicId, intake, now, ct);
         return TypedResults.Ok(new IntakeResponse(summary.Received, summary.Created, summary.Updated, summary.Unchanged, summary.PhotometryWritten, result.Notices));

@@ -19,9 +19,6 @@ namespace Triage.Api.Plans;
 /// </summary>
 public static class PlanEndpoints
 {
-    /// <summary>JSON of job inputs: the API's own conventions.</summary>
-    public static JsonSerializerOptions BodyJson => OperationsSetup.JobJson;
-
     /// <summary>The job kind that computes a plan version.</summary>
     public const string PlanJobKind = "plan";
 
@@ -59,7 +56,7 @@ public static class PlanEndpoints
             return TypedResults.ValidationProblem(checks.ToDictionary());
         }
         var input = new PlanJobInput(night, objective, limit, request.FromUtc?.ToUniversalTime());
-        var id = await jobs.EnqueueAsync(PlanJobKind, JsonSerializer.Serialize(input, BodyJson), Caller.From(user).KeyId, clock.GetUtcNow(), ct);
+        var id = await jobs.EnqueueAsync(PlanJobKind, JsonSerializer.Serialize(input, OperationsSetup.JobJson), Caller.From(user).KeyId, clock.GetUtcNow(), ct);
         var body = new PlanJobResponse(id, $"/api/jobs/{id}", $"/api/plans/{night:yyyy-MM-dd}");
         return TypedResults.Accepted($"/api/jobs/{id}", body);
     }

@@ -29,7 +29,7 @@ public sealed class PlanJobHandler(
 
     public async Task<string> RunAsync(string inputJson, IProgress<JobProgress> progress, CancellationToken ct)
     {
-        var input = JsonSerializer.Deserialize<PlanJobInput>(inputJson, PlanEndpoints.BodyJson)
+        var input = JsonSerializer.Deserialize<PlanJobInput>(inputJson, Triage.Api.Operations.OperationsSetup.JobJson)
             ?? throw new JobInputException("The job input is empty.");
         progress.Report(new JobProgress(0.02, "reading the active calibration"));
         var active = await calibrations.GetAsync(null, ct)

@@ -1,5 +1,4 @@
 using System.CommandLine;
-using System.Security.Cryptography;
 using System.Text.Json;
 using Triage.Core.Candidates;
 using Triage.Learning;
@@ -103,7 +102,7 @@ internal static class DemoVerb
             return $"Demo candidates refused: {result.Errors.Count} problem(s), first: {result.Errors[0].Field}: {result.Errors[0].Message}";
         }
         var intake = result.Candidates
-            .Select((c, i) => new CandidateIntake(c, SHA256.HashData(JsonSerializer.SerializeToUtf8Bytes(batch!.Candidates![i]!, BrokerBatchJson.Options))))
+            .Select((c, i) => CandidateIntake.From(c, batch!.Candidates![i]!))
             .ToList();
         var s = await store.UpsertBatchAsync(broker, intake, DateTimeOffset.UtcNow, ct);
         return $"Demo candidates: {s.Received} received, {s.Created} new, {s.Unchanged} unchanged.";

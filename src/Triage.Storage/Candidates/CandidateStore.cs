@@ -7,7 +7,12 @@ using Triage.Core.Candidates;
 namespace Triage.Storage.Candidates;
 
 /// <summary>A validated candidate with the hash of the submission it came from.</summary>
-public sealed record CandidateIntake(Candidate Candidate, byte[] ContentHash);
+public sealed record CandidateIntake(Candidate Candidate, byte[] ContentHash)
+{
+    /// <summary>The intake of a validated candidate, hashed over the broker's own submission so a retry is recognised as unchanged.</summary>
+    public static CandidateIntake From(Candidate candidate, CandidateSubmission submission) =>
+        new(candidate, System.Security.Cryptography.SHA256.HashData(JsonSerializer.SerializeToUtf8Bytes(submission, BrokerBatchJson.Options)));
+}
 
 /// <summary>What a batch upsert did.</summary>
 public sealed record IntakeSummary(int Received, int Created, int Updated, int Unchanged, int PhotometryWritten);
