@@ -47,6 +47,12 @@ public static class CalibrationPipeline
         int[] labels = spectra.Select(s => labelIndex[s.Subtype]).ToArray();
         var splits = Splits(library, settings);
         classifier ??= SubtypeClassifiers.Create(settings.Model);
+        var trainLabels = splits.Select(sp => sp.Train.Select(i => labels[i]).ToArray()).ToArray();
+        var trainWeights = trainLabels.Select(l =>
+        {
+            var w = ClassWeights(l, subtypes.Length, settings.BalancedClassWeights);
+            return l.Select(c => w[c]).ToArray();
+        }).ToArray();
         var parallel = new ParallelOptions { CancellationToken = cancellationToken, MaxDegreeOfParallelism = Environment.ProcessorCount };
 
         int units = resolutions.Length * settings.SnrLevels.Count * settings.Folds, done = 0;
@@ -75,42 +81,47 @@ public static class CalibrationPipeline
                 degraded[i] = (grid, grid.Centres(), flux);
             });
             degradeTime += sw.Elapsed;
-            for (int si = 0; si < settings.SnrLevels.Count; si++)
+            // Noise and features for every S/N level of this R, then every (S/N, fold) training in one
+            // parallel loop: 5 folds on 2 cores would leave one core idle for a fifth of each S/N level.
+            int levels = settings.SnrLevels.Count;
+            sw.Restart();
+            var features = new float[levels][][];
+            for (int si = 0; si < levels; si++) features[si] = new float[spectra.Count][];
+            Parallel.For(0, levels * spectra.Count, parallel, j =>
             {
-                double? snr = settings.SnrLevels[si];
-                sw.Restart();
-                var features = new float[spectra.Count][];
-                Parallel.For(0, spectra.Count, parallel, i =>
+                int si = j / spectra.Count, i = j % spectra.Count;
+                var (grid, w, f) = degraded[i];
+                if (settings.SnrLevels[si] is double target)
+                    f = SpectrumNoise.AddNoise(grid, f, target, settings.PixelsPerElement, new Random(HashCode.Combine(settings.Seed, i, ri, si)));
+                features[si][i] = Preprocessing.Features(w, f, spectra[i].Redshift, r, settings.Preprocess);
+            });
+            featureTime += sw.Elapsed;
+            sw.Restart();
+            var predicted = new int[levels][];
+            for (int si = 0; si < levels; si++) predicted[si] = new int[spectra.Count];
+            Parallel.For(0, levels * settings.Folds, parallel, j =>
+            {
+                int si = j / settings.Folds, k = j % settings.Folds;
+                var (train, test) = splits[k];
+                if (test.Length == 0) return;
+                var x = features[si];
+                var p = classifier.TrainAndPredict(train.Select(i => x[i]).ToArray(), trainLabels[k], trainWeights[k],
+                    test.Select(i => x[i]).ToArray(), subtypes.Length, HashCode.Combine(settings.Seed, k, ri, si));
+                for (int t = 0; t < test.Length; t++) predicted[si][test[t]] = p[t];
+                lock (cells)
                 {
-                    var (grid, w, f) = degraded[i];
-                    if (snr is double target)
-                        f = SpectrumNoise.AddNoise(grid, f, target, settings.PixelsPerElement, new Random(HashCode.Combine(settings.Seed, i, ri, si)));
-                    features[i] = Preprocessing.Features(w, f, spectra[i].Redshift, r, settings.Preprocess);
-                });
-                featureTime += sw.Elapsed;
-                sw.Restart();
-                var predicted = new int[spectra.Count];
-                int foldsDone = 0;
-                Parallel.For(0, settings.Folds, parallel, k =>
-                {
-                    var (train, test) = splits[k];
-                    if (test.Length == 0) return;
-                    var weights = ClassWeights(train.Select(i => labels[i]).ToArray(), subtypes.Length, settings.BalancedClassWeights);
-                    var p = classifier.TrainAndPredict(train.Select(i => features[i]).ToArray(), train.Select(i => labels[i]).ToArray(),
-                        train.Select(i => weights[labels[i]]).ToArray(), test.Select(i => features[i]).ToArray(), subtypes.Length,
-                        HashCode.Combine(settings.Seed, k, ri, si));
-                    for (int j = 0; j < test.Length; j++) predicted[test[j]] = p[j];
-                    int n = Interlocked.Increment(ref foldsDone);
-                    lock (cells)
-                    {
-                        done++;
-                        Report(string.Create(System.Globalization.CultureInfo.InvariantCulture,
-                            $"R={r:0.#} S/N={(snr is double v ? v.ToString(System.Globalization.CultureInfo.InvariantCulture) : "native")} fold {n}/{settings.Folds}"));
-                    }
-                });
-                trainTime += sw.Elapsed;
-                var predictions = spectra.Select((s, i) => new Prediction(s.ObjectId, s.Subtype, subtypes[predicted[i]], s.PhaseDays)).ToArray();
-                var score = CalibrationScoring.Score(predictions, subtypes, taxonomy, settings.PhaseBins, r, snr);
+                    done++;
+                    double? snr = settings.SnrLevels[si];
+                    Report(string.Create(System.Globalization.CultureInfo.InvariantCulture,
+                        $"R={r:0.#} S/N={(snr is double v ? v.ToString(System.Globalization.CultureInfo.InvariantCulture) : "native")} fold {k + 1}/{settings.Folds}"));
+                }
+            });
+            trainTime += sw.Elapsed;
+            for (int si = 0; si < levels; si++)
+            {
+                var pr = predicted[si];
+                var predictions = spectra.Select((s, i) => new Prediction(s.ObjectId, s.Subtype, subtypes[pr[i]], s.PhaseDays)).ToArray();
+                var score = CalibrationScoring.Score(predictions, subtypes, taxonomy, settings.PhaseBins, r, settings.SnrLevels[si]);
                 cells.AddRange(score.Cells);
                 confusions.AddRange(score.Confusions);
                 summaries.Add(score.Summary);

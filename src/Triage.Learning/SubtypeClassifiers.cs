@@ -66,7 +66,7 @@ public static class SubtypeClassifiers
 
     private sealed class Row
     {
-        public string Label = "";
+        public uint Label;
         public float Weight;
         public float[] Features = [];
     }
@@ -79,23 +79,22 @@ public static class SubtypeClassifiers
         {
             int dim = trainFeatures[0].Length;
             var ml = new MLContext(seed);
+            // The label is a key column of K values, so every fold shares one label set without a string
+            // dictionary. Loading from a class takes the 0-based index; the key read back is 1-based (0 = missing).
             var schema = SchemaDefinition.Create(typeof(Row));
             schema["Features"].ColumnType = new VectorDataViewType(NumberDataViewType.Single, dim);
-            string Name(int label) => label.ToString(System.Globalization.CultureInfo.InvariantCulture);
+            schema["Label"].ColumnType = new KeyDataViewType(typeof(uint), classCount);
             var train = ml.Data.LoadFromEnumerable(
-                trainFeatures.Select((x, i) => new Row { Label = Name(trainLabels[i]), Weight = trainWeights[i], Features = x }), schema);
-            var test = ml.Data.LoadFromEnumerable(testFeatures.Select(x => new Row { Label = Name(0), Weight = 1, Features = x }), schema);
-            // Fixed key order 0…K−1 so that every fold shares one label dictionary.
-            var keys = ml.Data.LoadFromEnumerable(Enumerable.Range(0, classCount).Select(c => new { Label = Name(c) }));
-            IEstimator<ITransformer> pipeline = ml.Transforms.Conversion.MapValueToKey("Label", keyData: keys)
-                .Append(ml.Transforms.NormalizeMeanVariance("Features"));
+                trainFeatures.Select((x, i) => new Row { Label = (uint)trainLabels[i], Weight = trainWeights[i], Features = x }), schema);
+            var test = ml.Data.LoadFromEnumerable(testFeatures.Select(x => new Row { Label = 0, Weight = 1, Features = x }), schema);
+            IEstimator<ITransformer> pipeline = ml.Transforms.NormalizeMeanVariance("Features");
             if (pcaRank > 0 && dim > pcaRank)
                 pipeline = pipeline.Append(ml.Transforms.ProjectToPrincipalComponents("Features", rank: pcaRank, seed: seed));
-            var model = pipeline.Append(trainer(ml, dim))
-                .Append(ml.Transforms.Conversion.MapKeyToValue("PredictedName", "PredictedLabel"))
-                .Fit(train);
-            var predicted = model.Transform(test).GetColumn<string>("PredictedName").ToArray();
-            return predicted.Select(p => int.Parse(p, System.Globalization.CultureInfo.InvariantCulture)).ToArray();
+            // The trainers pass over the data many times: cache the normalised rows once instead of
+            // re-running the enumerable and the transforms on every pass.
+            var model = pipeline.AppendCacheCheckpoint(ml).Append(trainer(ml, dim)).Fit(train);
+            var predicted = model.Transform(test).GetColumn<uint>("PredictedLabel").ToArray();
+            return predicted.Select(p => p > 0 ? (int)p - 1 : throw new InvalidOperationException("The classifier returned no label.")).ToArray();
         }
     }
 }
