@@ -6,15 +6,18 @@
 // "tree": standardise, project on the first 40 principal components (randomised PCA fitted on
 //   the training fold), then one-versus-all gradient-boosted trees (FastTree), calibrated scores.
 // "lbfgs": as "linear", fitted by L-BFGS instead of SDCA.
+// "boosted": standardise, then one multiclass (softmax) gradient-boosted tree model (LightGBM) on all features.
 // Example weights implement class balancing (N / (K n_class)).
 // References:
 //  1. Shalev-Shwartz, S. & Zhang, T., "Stochastic dual coordinate ascent methods for regularized loss minimization", JMLR 14, 567 (2013).
 //  2. Friedman, J. H., "Greedy function approximation: a gradient boosting machine", Ann. Stat. 29, 1189 (2001).
-//  3. Halko, N., Martinsson, P. G. & Tropp, J. A., "Finding structure with randomness", SIAM Rev. 53, 217 (2011) (randomised PCA).
+//  3. Ke, G. et al., "LightGBM: a highly efficient gradient boosting decision tree", NeurIPS 30 (2017).
+//  4. Halko, N., Martinsson, P. G. & Tropp, J. A., "Finding structure with randomness", SIAM Rev. 53, 217 (2011) (randomised PCA).
 using Microsoft.ML;
 using Microsoft.ML.Data;
 using Microsoft.ML.Trainers;
 using Microsoft.ML.Trainers.FastTree;
+using Microsoft.ML.Trainers.LightGbm;
 
 namespace Triage.Learning;
 
@@ -35,7 +38,7 @@ public interface ISubtypeClassifier
 public static class SubtypeClassifiers
 {
     /// <summary>Names accepted by <see cref="Create"/>.</summary>
-    public static IReadOnlyList<string> Names { get; } = ["linear", "lbfgs", "tree"];
+    public static IReadOnlyList<string> Names { get; } = ["linear", "lbfgs", "tree", "boosted"];
 
     /// <summary>Creates a classifier by name.</summary>
     /// <exception cref="ArgumentException">Unknown name.</exception>
@@ -61,6 +64,13 @@ public static class SubtypeClassifiers
                     NumberOfThreads = 1, NumberOfTrees = 60, NumberOfLeaves = 12, MinimumExampleCountPerLeaf = 5, LearningRate = 0.15,
                 }), labelColumnName: "Label"),
             pcaRank: 40),
+        "boosted" => new MlNetClassifier("boosted", (ml, _) =>
+            ml.MulticlassClassification.Trainers.LightGbm(new LightGbmMulticlassTrainer.Options
+            {
+                LabelColumnName = "Label", FeatureColumnName = "Features", ExampleWeightColumnName = "Weight",
+                NumberOfThreads = 1, NumberOfIterations = 100, NumberOfLeaves = 15, MinimumExampleCountPerLeaf = 10,
+                LearningRate = 0.1, UseSoftmax = true, Seed = 1,
+            })),
         _ => throw new ArgumentException($"Unknown classifier '{name}'; known: {string.Join(", ", Names)}.", nameof(name)),
     };
 
