@@ -92,7 +92,7 @@ public static class CalibrationPipeline
                 int si = j / spectra.Count, i = j % spectra.Count;
                 var (grid, w, f) = degraded[i];
                 if (settings.SnrLevels[si] is double target)
-                    f = SpectrumNoise.AddNoise(grid, f, target, settings.PixelsPerElement, new Random(HashCode.Combine(settings.Seed, i, ri, si)));
+                    f = SpectrumNoise.AddNoise(grid, f, target, settings.PixelsPerElement, new Random(DerivedSeed(settings.Seed, i, ri, si)));
                 features[si][i] = Preprocessing.Features(w, f, spectra[i].Redshift, r, settings.Preprocess);
             });
             featureTime += sw.Elapsed;
@@ -106,7 +106,7 @@ public static class CalibrationPipeline
                 if (test.Length == 0) return;
                 var x = features[si];
                 var p = classifier.TrainAndPredict(train.Select(i => x[i]).ToArray(), trainLabels[k], trainWeights[k],
-                    test.Select(i => x[i]).ToArray(), subtypes.Length, HashCode.Combine(settings.Seed, k, ri, si));
+                    test.Select(i => x[i]).ToArray(), subtypes.Length, DerivedSeed(settings.Seed, k, ri, si));
                 for (int t = 0; t < test.Length; t++) predicted[si][test[t]] = p[t];
                 lock (cells)
                 {
@@ -157,6 +157,20 @@ public static class CalibrationPipeline
             .Select(k => (Enumerable.Range(0, spectra.Count).Where(i => fold[i] != k).ToArray(),
                           Enumerable.Range(0, spectra.Count).Where(i => fold[i] == k).ToArray()))
             .ToArray();
+    }
+
+    /// <summary>
+    /// A seed derived from the run's seed and the indices of a draw (FNV-1a over the four values, then
+    /// the SplitMix64 finaliser). Unlike <see cref="HashCode.Combine{T1, T2, T3, T4}"/>, whose seed is
+    /// random per process, it is the same in every run, so a calibration is reproducible.
+    /// </summary>
+    public static int DerivedSeed(int seed, int a, int b, int c)
+    {
+        ulong h = 14695981039346656037UL;
+        foreach (int v in (ReadOnlySpan<int>)[seed, a, b, c]) h = unchecked((h ^ (uint)v) * 1099511628211UL);
+        h = unchecked((h ^ (h >> 30)) * 0xBF58476D1CE4E5B9UL);
+        h = unchecked((h ^ (h >> 27)) * 0x94D049BB133111EBUL);
+        return (int)((h ^ (h >> 31)) & int.MaxValue);
     }
 
     /// <summary>Per-class training weights: N/(K·n_c) when balanced (classes absent from the fold get 0), else 1.</summary>
