@@ -69,7 +69,7 @@ public static class SubtypeClassifiers
             {
                 LabelColumnName = "Label", FeatureColumnName = "Features", ExampleWeightColumnName = "Weight",
                 NumberOfThreads = 1, NumberOfIterations = 100, NumberOfLeaves = 15, MinimumExampleCountPerLeaf = 10,
-                LearningRate = 0.1, UseSoftmax = true, Seed = 1,
+                LearningRate = 0.1, UseSoftmax = true,
             })),
         _ => throw new ArgumentException($"Unknown classifier '{name}'; known: {string.Join(", ", Names)}.", nameof(name)),
     };
