@@ -107,7 +107,7 @@ public sealed record CalibrationBaselines(
 /// The minimum-R data product for one subtype at one S/N (phases pooled).
 /// </summary>
 /// <param name="BestRecall">Highest recall over the R grid, at <paramref name="BestResolution"/>.</param>
-/// <param name="MinimumResolution">Lowest grid R from which recall stays within the tolerance of the best at every higher R.</param>
+/// <param name="MinimumResolution">Lowest grid R whose recall is within the tolerance of the best, with no higher grid R significantly (Wilson 95 %) below that.</param>
 /// <param name="MinimumResolutionBracketLow">The next lower grid R (the true threshold lies between; null at the grid's bottom).</param>
 /// <param name="RecallAtMinimum">Recall at <paramref name="MinimumResolution"/>, with its Wilson interval.</param>
 /// <param name="ChanceRecall">Recall of a uniform guess, 1/K.</param>

@@ -1,7 +1,11 @@
 // The minimum-R table.
 //
 // For subtype s at a fixed S/N, with recall r(R) on an ascending grid R₁ < … < R_m (phases pooled):
-//   best = max r(R);  R_min = the smallest R_i such that r(R_j) ≥ best − tolerance for all j ≥ i;
+//   best = max r(R);  R_min = the smallest R_i such that r(R_i) ≥ best − tolerance and, for every j > i,
+//   r(R_j) is not significantly below best − tolerance (the Wilson upper bound of r(R_j) reaches it).
+//   A single grid point that dips below the tolerance only by sampling noise (rare classes have few
+//   objects, so their curves are jagged) therefore does not push R_min to the top of the grid, while a
+//   real drop still does.
 //   R_chance: the smallest R_i such that the Wilson lower bound of r(R_j) exceeds the uniform-guess
 //   recall 1/K for all j ≥ i; below it (R_{i−1}) the recall is not distinguishable from chance.
 // Both thresholds are bracketed by neighbouring grid values, and carry the recall's interval.
@@ -22,8 +26,12 @@ public static class MinimumResolutionTable
         {
             var curve = group.OrderBy(c => c.Resolution).ToArray();
             var best = curve.OrderByDescending(c => c.Recall).ThenBy(c => c.Resolution).First();
+            double floor = best.Recall - tolerance;
+            // Scan down from the top: the run of points consistent with the tolerance ends at the first
+            // point whose whole interval lies below it; the minimum is the lowest point estimate within it.
             int iMin = curve.Length - 1;
-            while (iMin > 0 && curve[iMin - 1].Recall >= best.Recall - tolerance && curve.Skip(iMin - 1).All(c => c.Recall >= best.Recall - tolerance)) iMin--;
+            for (int i = curve.Length - 1; i >= 0 && curve[i].RecallHigh >= floor; i--)
+                if (curve[i].Recall >= floor) iMin = i;
             int iChance = curve.Length;
             while (iChance > 0 && curve[iChance - 1].RecallLow > chance) iChance--;
             var min = curve[iMin];

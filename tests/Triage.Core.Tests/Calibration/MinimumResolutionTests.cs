@@ -37,6 +37,27 @@ public class MinimumResolutionTests
     }
 
     [Fact]
+    public void Build_DipWithinSamplingNoise_DoesNotBlockLowerR()
+    {
+        // 84/100 is 6 points below the best (0.90), but its Wilson score 95 % upper bound (0.899; Wilson,
+        // JASA 22, 209, 1927) reaches 0.85: not significantly outside the 5-point tolerance.
+        var cells = new[] { Cell(20, 70, 100), Cell(50, 90, 100), Cell(100, 84, 100), Cell(1000, 88, 100) };
+        var row = Assert.Single(MinimumResolutionTable.Build(cells, 10, 0.05));
+        Assert.Equal(50, row.MinimumResolution);
+        Assert.Equal(20, row.MinimumResolutionBracketLow);
+    }
+
+    [Fact]
+    public void Build_TopPointBelowToleranceByNoise_MinimumIsTheLowestPointWithin()
+    {
+        // The best point (R = 20) sits lowest on the grid; the top point dips 7 points, within noise at n = 60.
+        var cells = new[] { Cell(10, 30, 100), Cell(20, 54, 60), Cell(1000, 50, 60) };
+        var row = Assert.Single(MinimumResolutionTable.Build(cells, 10, 0.05));
+        Assert.Equal(20, row.BestResolution);
+        Assert.Equal(20, row.MinimumResolution);
+    }
+
+    [Fact]
     public void ToCsv_HasHeaderAndOneLinePerRow()
     {
         var cells = new[] { Cell(5, 12, 100), Cell(100, 90, 100) };
