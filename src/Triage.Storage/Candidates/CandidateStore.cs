@@ -52,6 +52,9 @@ public sealed record CandidateDetail(
 /// <summary>A fit computed for a stored candidate.</summary>
 public sealed record StoredFit(Guid Id, int DataVersion, string FitJson, string PriorJson, double? PredictedMag, double? PredictedMagRate, DateTimeOffset FittedAt);
 
+/// <summary>A candidate whose stored fit is older than its data.</summary>
+public sealed record PendingFit(Guid Id, int DataVersion, Candidate Candidate);
+
 /// <summary>How an observation report ended.</summary>
 public enum ReportOutcome
 {
@@ -379,21 +382,38 @@ public sealed class CandidateStore(NpgsqlDataSource dataSource)
         var reports = (await grid.ReadAsync<ReportRowData>()).Select(r => new ObservationReportRow(
             r.Id, r.SpectrographId, r.Outcome, r.AchievedSnr, r.ClassifiedLabel, Utc.From(r.ObservedAt), Utc.From(r.ReportedAt), r.Reporter)).ToList();
         var summary = row.ToRow();
-        var candidate = new Candidate(summary.BrokerCandidateId, summary.RaDeg, summary.DecDeg, summary.DiscoveredAt, summary.Redshift,
-            row.RedshiftError, photometry,
-            row.SubtypeProbabilities is null ? null : JsonSerializer.Deserialize<Dictionary<string, double>>(row.SubtypeProbabilities),
-            summary.ScienceWeight, row.Notes,
-            row.BrokerState is null ? null : JsonSerializer.Deserialize<BrokerState>(row.BrokerState, BrokerBatchJson.Options));
-        return new CandidateDetail(summary, candidate, row.DataVersion, row.FitVersion, row.Fit, row.Prior, events, reports);
+        return new CandidateDetail(summary, row.ToCandidate(photometry), row.DataVersion, row.FitVersion, row.Fit, row.Prior, events, reports);
     }
 
-    private const string PendingSql = "SELECT id FROM candidates WHERE fit_version < data_version ORDER BY id LIMIT @limit";
+    private const string PendingSql = $"""
+        SELECT {ListColumns}, redshift_error AS RedshiftError, subtype_probabilities::text AS SubtypeProbabilities,
+            notes AS Notes, broker_state::text AS BrokerState, data_version AS DataVersion, fit_version AS FitVersion
+        FROM candidates WHERE fit_version < data_version ORDER BY id LIMIT @limit
+        """;
 
-    /// <summary>Ids of candidates whose stored fit is older than their data.</summary>
-    public async Task<IReadOnlyList<Guid>> PendingFitsAsync(int limit, CancellationToken ct = default)
+    private const string PendingPhotometrySql = """
+        SELECT candidate_id AS CandidateId, band AS Band, observed_at AS ObservedAt, flux_microjy AS FluxMicroJy, flux_error_microjy AS FluxErrorMicroJy,
+            upper_limit AS UpperLimit, mag_ab AS MagAb, mag_ab_error AS MagAbError
+        FROM candidate_photometry WHERE candidate_id = ANY(@ids) ORDER BY candidate_id, observed_at, band
+        """;
+
+    /// <summary>
+    /// Up to <paramref name="limit"/> candidates whose stored fit is older than their data, with
+    /// their photometry, in two queries (the background fitter's read). The photometry is read
+    /// after the rows, so it is at least as new as the data version it is paired with.
+    /// </summary>
+    public async Task<IReadOnlyList<PendingFit>> PendingFitsAsync(int limit, CancellationToken ct = default)
     {
         await using var conn = await dataSource.OpenConnectionAsync(ct);
-        return (await conn.QueryAsync<Guid>(new CommandDefinition(PendingSql, new { limit }, cancellationToken: ct))).ToList();
+        var rows = (await conn.QueryAsync<DetailRowData>(new CommandDefinition(PendingSql, new { limit }, cancellationToken: ct))).ToList();
+        if (rows.Count == 0)
+        {
+            return [];
+        }
+        var points = (await conn.QueryAsync<PendingPhotometryRowData>(new CommandDefinition(PendingPhotometrySql,
+                new { ids = rows.Select(r => r.Id).ToArray() }, cancellationToken: ct)))
+            .ToLookup(p => p.CandidateId, p => p.Point.ToPoint());
+        return rows.Select(r => new PendingFit(r.Id, r.DataVersion, r.ToCandidate(points[r.Id].ToList()))).ToList();
     }
 
     private const string SaveFitSql = """
@@ -401,6 +421,34 @@ public sealed class CandidateStore(NpgsqlDataSource dataSource)
             predicted_mag_rate = @PredictedMagRate, fitted_at = @FittedAt, fit_version = @DataVersion
         WHERE id = @Id AND fit_version < @DataVersion AND data_version >= @DataVersion
         """;
+
+    private const string SaveFitsSql = """
+        UPDATE candidates c SET fit = f.fit::jsonb, prior = f.prior::jsonb, predicted_mag = f.mag, predicted_mag_rate = f.rate,
+            fitted_at = f.fitted_at, fit_version = f.data_version
+        FROM unnest(@ids::uuid[], @versions::int[], @fits::text[], @priors::text[], @mags::float8[], @rates::float8[], @fittedAt::timestamptz[])
+            AS f(id, data_version, fit, prior, mag, rate, fitted_at)
+        WHERE c.id = f.id AND c.fit_version < f.data_version AND c.data_version >= f.data_version
+        """;
+
+    /// <summary>Stores several fits in one statement, each unless a fit of the same or newer data is already there. Returns how many were stored.</summary>
+    public async Task<int> SaveFitsAsync(IReadOnlyList<StoredFit> fits, CancellationToken ct = default)
+    {
+        if (fits.Count == 0)
+        {
+            return 0;
+        }
+        await using var conn = await dataSource.OpenConnectionAsync(ct);
+        return await conn.ExecuteAsync(new CommandDefinition(SaveFitsSql, new
+        {
+            ids = fits.Select(f => f.Id).ToArray(),
+            versions = fits.Select(f => f.DataVersion).ToArray(),
+            fits = fits.Select(f => f.FitJson).ToArray(),
+            priors = fits.Select(f => f.PriorJson).ToArray(),
+            mags = fits.Select(f => f.PredictedMag).ToArray(),
+            rates = fits.Select(f => f.PredictedMagRate).ToArray(),
+            fittedAt = fits.Select(f => f.FittedAt.UtcDateTime).ToArray(),
+        }, cancellationToken: ct));
+    }
 
     /// <summary>Stores a fit unless a fit of the same or newer data is already there.</summary>
     public async Task<bool> SaveFitAsync(StoredFit fit, CancellationToken ct = default)
@@ -543,6 +591,26 @@ public sealed class CandidateStore(NpgsqlDataSource dataSource)
         public int FitVersion { get; init; }
         public string? Fit { get; init; }
         public string? Prior { get; init; }
+
+        public Candidate ToCandidate(IReadOnlyList<PhotometryPoint> photometry) =>
+            new(BrokerCandidateId, RaDeg, DecDeg, Utc.From(DiscoveredAt), Redshift, RedshiftError, photometry,
+                SubtypeProbabilities is null ? null : JsonSerializer.Deserialize<Dictionary<string, double>>(SubtypeProbabilities),
+                ScienceWeight, Notes,
+                BrokerState is null ? null : JsonSerializer.Deserialize<BrokerState>(BrokerState, BrokerBatchJson.Options));
+    }
+
+    private sealed class PendingPhotometryRowData
+    {
+        public Guid CandidateId { get; init; }
+        public string Band { get; init; } = "";
+        public DateTime ObservedAt { get; init; }
+        public double FluxMicroJy { get; init; }
+        public double FluxErrorMicroJy { get; init; }
+        public bool UpperLimit { get; init; }
+        public double? MagAb { get; init; }
+        public double? MagAbError { get; init; }
+
+        public PhotometryRowData Point => new(Band, ObservedAt, FluxMicroJy, FluxErrorMicroJy, UpperLimit, MagAb, MagAbError);
     }
 
     private sealed record PhotometryRowData(string Band, DateTime ObservedAt, double FluxMicroJy, double FluxErrorMicroJy, bool UpperLimit, double? MagAb, double? MagAbError)
