@@ -71,25 +71,34 @@ public enum ReportOutcome
 /// </summary>
 public sealed class CandidateStore(NpgsqlDataSource dataSource)
 {
-    private const string CreateStagingSql = """
+    // The staging table lives for one transaction. JIT is off for the merge: the planner cannot
+    // know the staging table's size, and compiling cost more than it saved.
+    private const string CreateCandidateStagingSql = """
+        SET LOCAL jit = off;
+        SET LOCAL work_mem = '64MB';
         CREATE TEMP TABLE stage_candidates (
-            id uuid, broker_candidate_id text, ra_deg float8, dec_deg float8, ux float8, uy float8, uz float8,
+            n int, id uuid, broker_candidate_id text, ra_deg float8, dec_deg float8, ux float8, uy float8, uz float8,
             discovered_at timestamptz, redshift float8, redshift_error float8, subtype_probabilities jsonb,
             science_weight float8, notes text, broker_state jsonb, content_hash bytea) ON COMMIT DROP;
+        """;
+
+    private const string CreatePhotometryStagingSql = """
         CREATE TEMP TABLE stage_photometry (
-            broker_candidate_id text, band text, observed_at timestamptz, flux_microjy float8, flux_error_microjy float8,
+            candidate_id uuid, band text, observed_at timestamptz, flux_microjy float8, flux_error_microjy float8,
             upper_limit boolean, mag_ab float8, mag_ab_error float8) ON COMMIT DROP;
         """;
 
-    // Photometry is merged only for candidates whose submission changed (an identical submission
-    // was merged whole before), joined to the rows the candidate merge returned.
-    private const string MergeSql = """
-        WITH {0} up AS (
+    // Inserts new candidates and updates changed ones (content hash differs), writes their events,
+    // and yields the candidates it touched: their ordinal n in the batch (via the staging rows),
+    // stored id, and whether this statement created them. Rows are taken in broker-id order so
+    // concurrent batches lock candidates in the same order.
+    private const string CandidateMergeSql = """
+        up AS (
             INSERT INTO candidates (id, broker, broker_candidate_id, ra_deg, dec_deg, ux, uy, uz, discovered_at, redshift,
                 redshift_error, subtype_probabilities, science_weight, notes, broker_state, content_hash, created_at, updated_at)
             SELECT id, @broker, broker_candidate_id, ra_deg, dec_deg, ux, uy, uz, discovered_at, redshift, redshift_error,
                 subtype_probabilities, science_weight, notes, broker_state, content_hash, @now, @now
-            FROM stage_candidates ORDER BY broker_candidate_id
+            FROM {0} ORDER BY broker_candidate_id
             ON CONFLICT (broker, broker_candidate_id) DO UPDATE SET
                 ra_deg = EXCLUDED.ra_deg, dec_deg = EXCLUDED.dec_deg, ux = EXCLUDED.ux, uy = EXCLUDED.uy, uz = EXCLUDED.uz,
                 discovered_at = EXCLUDED.discovered_at, redshift = EXCLUDED.redshift, redshift_error = EXCLUDED.redshift_error,
@@ -102,23 +111,32 @@ public sealed class CandidateStore(NpgsqlDataSource dataSource)
         ), events AS (
             INSERT INTO candidate_events (candidate_id, at, kind, actor)
             SELECT id, @now, CASE WHEN inserted THEN 'created' ELSE 'updated' END, @broker FROM up
-        ), points AS (
-            INSERT INTO candidate_photometry (candidate_id, band, observed_at, flux_microjy, flux_error_microjy, upper_limit, mag_ab, mag_ab_error)
-            SELECT up.id, s.band, s.observed_at, s.flux_microjy, s.flux_error_microjy, s.upper_limit, s.mag_ab, s.mag_ab_error
-            FROM stage_photometry s JOIN up ON up.broker_candidate_id = s.broker_candidate_id
-            ORDER BY up.id, s.band, s.observed_at
-            ON CONFLICT (candidate_id, band, observed_at) DO UPDATE SET
-                flux_microjy = EXCLUDED.flux_microjy, flux_error_microjy = EXCLUDED.flux_error_microjy,
-                upper_limit = EXCLUDED.upper_limit, mag_ab = EXCLUDED.mag_ab, mag_ab_error = EXCLUDED.mag_ab_error
-            WHERE (candidate_photometry.flux_microjy, candidate_photometry.flux_error_microjy, candidate_photometry.upper_limit,
-                   candidate_photometry.mag_ab, candidate_photometry.mag_ab_error)
-               IS DISTINCT FROM (EXCLUDED.flux_microjy, EXCLUDED.flux_error_microjy, EXCLUDED.upper_limit, EXCLUDED.mag_ab, EXCLUDED.mag_ab_error)
-            RETURNING 1
+        ), changed AS (
+            SELECT up.id, up.inserted, s.n FROM up JOIN stage_candidates s ON s.broker_candidate_id = up.broker_candidate_id
         )
-        SELECT (SELECT count(*) FROM up WHERE inserted)::int AS Created,
-               (SELECT count(*) FROM up WHERE NOT inserted)::int AS Updated,
-               (SELECT count(*) FROM points)::int AS Written
         """;
+
+    // Points of candidates that existed before: ON CONFLICT, so a concurrent retry of the same
+    // batch never duplicates a point, and an unchanged point is not rewritten.
+    private const string PointMergeSql = """
+        INSERT INTO candidate_photometry (candidate_id, band, observed_at, flux_microjy, flux_error_microjy, upper_limit, mag_ab, mag_ab_error)
+        SELECT {0}
+        ORDER BY 1, 2, 3
+        ON CONFLICT (candidate_id, band, observed_at) DO UPDATE SET
+            flux_microjy = EXCLUDED.flux_microjy, flux_error_microjy = EXCLUDED.flux_error_microjy,
+            upper_limit = EXCLUDED.upper_limit, mag_ab = EXCLUDED.mag_ab, mag_ab_error = EXCLUDED.mag_ab_error
+        WHERE (candidate_photometry.flux_microjy, candidate_photometry.flux_error_microjy, candidate_photometry.upper_limit,
+               candidate_photometry.mag_ab, candidate_photometry.mag_ab_error)
+           IS DISTINCT FROM (EXCLUDED.flux_microjy, EXCLUDED.flux_error_microjy, EXCLUDED.upper_limit, EXCLUDED.mag_ab, EXCLUDED.mag_ab_error)
+        """;
+
+    private static readonly string MergeCandidatesFromTableSql = "WITH " + Fill(CandidateMergeSql, "stage_candidates") +
+        "SELECT n AS N, id AS Id, inserted AS Inserted FROM changed";
+
+    private static readonly string MergePointsFromTableSql = Fill(PointMergeSql,
+        "candidate_id, band, observed_at, flux_microjy, flux_error_microjy, upper_limit, mag_ab, mag_ab_error FROM stage_photometry");
+
+    private static string Fill(string template, string what) => string.Format(System.Globalization.CultureInfo.InvariantCulture, template, what);
 
     // Small batches (a broker posting one candidate at a time) skip the temporary tables: the
     // same merge reads the rows from array parameters, which saves the catalog work per request.
@@ -126,26 +144,46 @@ public sealed class CandidateStore(NpgsqlDataSource dataSource)
         stage_candidates AS (
             SELECT * FROM unnest(@ids::uuid[], @cids::text[], @ras::float8[], @decs::float8[], @uxs::float8[], @uys::float8[], @uzs::float8[],
                 @discovered::timestamptz[], @redshifts::float8[], @redshiftErrors::float8[], @probabilities::text[], @weights::float8[],
-                @notes::text[], @states::text[], @hashes::bytea[])
+                @notes::text[], @states::text[], @hashes::bytea[]) WITH ORDINALITY
                 AS t(id, broker_candidate_id, ra_deg, dec_deg, ux, uy, uz, discovered_at, redshift, redshift_error, probabilities_text,
-                     science_weight, notes, broker_state_text, content_hash)
+                     science_weight, notes, broker_state_text, content_hash, n)
         ), stage_candidates_typed AS (
             SELECT id, broker_candidate_id, ra_deg, dec_deg, ux, uy, uz, discovered_at, redshift, redshift_error,
                 probabilities_text::jsonb AS subtype_probabilities, science_weight, notes, broker_state_text::jsonb AS broker_state, content_hash
             FROM stage_candidates
         ), stage_photometry AS (
-            SELECT * FROM unnest(@pcids::text[], @bands::text[], @times::timestamptz[], @fluxes::float8[], @fluxErrors::float8[],
+            SELECT * FROM unnest(@pns::int[], @bands::text[], @times::timestamptz[], @fluxes::float8[], @fluxErrors::float8[],
                 @upper::boolean[], @mags::float8[], @magErrors::float8[])
-                AS p(broker_candidate_id, band, observed_at, flux_microjy, flux_error_microjy, upper_limit, mag_ab, mag_ab_error)
+                AS p(n, band, observed_at, flux_microjy, flux_error_microjy, upper_limit, mag_ab, mag_ab_error)
         ),
         """;
 
     /// <summary>Largest batch merged from array parameters instead of COPY and staging tables.</summary>
     public const int ArrayPathMaxCandidates = 32;
 
-    private static readonly string MergeFromTablesSql = string.Format(System.Globalization.CultureInfo.InvariantCulture, MergeSql, "");
-    private static readonly string MergeFromArraysSql = string.Format(System.Globalization.CultureInfo.InvariantCulture, MergeSql,
-        StageFromArrays).Replace("FROM stage_candidates ORDER BY", "FROM stage_candidates_typed ORDER BY", StringComparison.Ordinal);
+    // One statement for the small path: candidates, events and points. A candidate this statement
+    // created has an id nobody else can know before the commit, so its points go in with a plain
+    // INSERT (no conflict check; the validator refuses duplicate points); the points of candidates
+    // that existed go through ON CONFLICT.
+    private static readonly string MergeFromArraysSql = "WITH " + StageFromArrays + Fill(CandidateMergeSql, "stage_candidates_typed") + """
+        , new_points AS (
+            INSERT INTO candidate_photometry (candidate_id, band, observed_at, flux_microjy, flux_error_microjy, upper_limit, mag_ab, mag_ab_error)
+            SELECT c.id, p.band, p.observed_at, p.flux_microjy, p.flux_error_microjy, p.upper_limit, p.mag_ab, p.mag_ab_error
+            FROM stage_photometry p JOIN changed c ON c.n = p.n
+            WHERE c.inserted
+            RETURNING 1
+        ), merged_points AS (
+        """ + Fill(PointMergeSql, """
+            c.id, p.band, p.observed_at, p.flux_microjy, p.flux_error_microjy, p.upper_limit, p.mag_ab, p.mag_ab_error
+            FROM stage_photometry p JOIN changed c ON c.n = p.n
+            WHERE NOT c.inserted
+            """) + """
+            RETURNING 1
+        )
+        SELECT (SELECT count(*) FROM changed WHERE inserted)::int AS Created,
+               (SELECT count(*) FROM changed WHERE NOT inserted)::int AS Updated,
+               ((SELECT count(*) FROM new_points) + (SELECT count(*) FROM merged_points))::int AS Written
+        """;
 
     /// <summary>Stores a validated batch for one broker, all or nothing. Retries a deadlock or serialization failure twice.</summary>
     public async Task<IntakeSummary> UpsertBatchAsync(string broker, IReadOnlyList<CandidateIntake> batch, DateTimeOffset now, CancellationToken ct = default)
@@ -171,17 +209,21 @@ public sealed class CandidateStore(NpgsqlDataSource dataSource)
         }
         await using var conn = await dataSource.OpenConnectionAsync(ct);
         await using var tx = await conn.BeginTransactionAsync(ct);
-        await conn.ExecuteAsync(new CommandDefinition(CreateStagingSql, transaction: tx, cancellationToken: ct));
+        await conn.ExecuteAsync(new CommandDefinition(CreateCandidateStagingSql, transaction: tx, cancellationToken: ct));
 
+        // 1. The candidates into staging, then merged; the answer says which ones changed.
         await using (var copy = await conn.BeginBinaryImportAsync(
-            "COPY stage_candidates (id, broker_candidate_id, ra_deg, dec_deg, ux, uy, uz, discovered_at, redshift, redshift_error, " +
+            "COPY stage_candidates (n, id, broker_candidate_id, ra_deg, dec_deg, ux, uy, uz, discovered_at, redshift, redshift_error, " +
             "subtype_probabilities, science_weight, notes, broker_state, content_hash) FROM STDIN (FORMAT BINARY)", ct))
         {
-            foreach (var (c, hash) in batch)
+            var ids = NewIds(batch.Count, now);
+            for (int n = 0; n < batch.Count; n++)
             {
+                var (c, hash) = batch[n];
                 var (x, y, z) = UnitVector(c.RaDeg, c.DecDeg);
                 copy.StartRow();
-                copy.Write(Guid.CreateVersion7(now), NpgsqlDbType.Uuid);
+                copy.Write(n, NpgsqlDbType.Integer);
+                copy.Write(ids[n], NpgsqlDbType.Uuid);
                 copy.Write(c.Id, NpgsqlDbType.Text);
                 copy.Write(c.RaDeg, NpgsqlDbType.Double);
                 copy.Write(c.DecDeg, NpgsqlDbType.Double);
@@ -206,45 +248,73 @@ public sealed class CandidateStore(NpgsqlDataSource dataSource)
             }
             await copy.CompleteAsync(ct);
         }
+        var changed = (await conn.QueryAsync<ChangedCandidate>(
+            new CommandDefinition(MergeCandidatesFromTableSql, new { broker, now }, tx, cancellationToken: ct))).ToList();
+        int created = changed.Count(c => c.Inserted);
+        int updated = changed.Count - created;
+        long written = 0;
 
-        await using (var copy = await conn.BeginBinaryImportAsync(
-            "COPY stage_photometry (broker_candidate_id, band, observed_at, flux_microjy, flux_error_microjy, upper_limit, mag_ab, mag_ab_error) " +
-            "FROM STDIN (FORMAT BINARY)", ct))
+        // 2. Points of the candidates just created: straight into the table. Their ids are new and
+        //    unknown to anyone else until the commit, so no other writer can hold one of these keys.
+        var fresh = changed.Where(c => c.Inserted).OrderBy(c => c.Id).ToList();
+        if (fresh.Count > 0)
         {
-            foreach (var (c, _) in batch)
-            {
-                foreach (var p in c.Photometry)
-                {
-                    copy.StartRow();
-                    copy.Write(c.Id, NpgsqlDbType.Text);
-                    copy.Write(p.Band.Name, NpgsqlDbType.Text);
-                    copy.Write(p.TimeUtc.UtcDateTime, NpgsqlDbType.TimestampTz);
-                    copy.Write(p.FluxMicroJy, NpgsqlDbType.Double);
-                    copy.Write(p.FluxErrorMicroJy, NpgsqlDbType.Double);
-                    copy.Write(p.IsUpperLimit, NpgsqlDbType.Boolean);
-                    WriteNullable(copy, p.MagAb);
-                    WriteNullable(copy, p.MagAbError);
-                }
-            }
-            await copy.CompleteAsync(ct);
+            await using var copy = await conn.BeginBinaryImportAsync(
+                "COPY candidate_photometry (candidate_id, band, observed_at, flux_microjy, flux_error_microjy, upper_limit, mag_ab, mag_ab_error) " +
+                "FROM STDIN (FORMAT BINARY)", ct);
+            WritePoints(copy, fresh, batch);
+            written += (long)await copy.CompleteAsync(ct);
         }
 
-        var (created, updated, written) = await conn.QuerySingleAsync<(int Created, int Updated, int Written)>(
-            new CommandDefinition(MergeFromTablesSql, new { broker, now }, tx, cancellationToken: ct));
+        // 3. Points of candidates that existed and changed: through staging and ON CONFLICT.
+        var existing = changed.Where(c => !c.Inserted).OrderBy(c => c.Id).ToList();
+        if (existing.Count > 0)
+        {
+            await conn.ExecuteAsync(new CommandDefinition(CreatePhotometryStagingSql, transaction: tx, cancellationToken: ct));
+            await using (var copy = await conn.BeginBinaryImportAsync(
+                "COPY stage_photometry (candidate_id, band, observed_at, flux_microjy, flux_error_microjy, upper_limit, mag_ab, mag_ab_error) " +
+                "FROM STDIN (FORMAT BINARY)", ct))
+            {
+                WritePoints(copy, existing, batch);
+                await copy.CompleteAsync(ct);
+            }
+            written += await conn.ExecuteAsync(new CommandDefinition(MergePointsFromTableSql, transaction: tx, cancellationToken: ct));
+        }
         await tx.CommitAsync(ct);
-        return new IntakeSummary(batch.Count, created, updated, batch.Count - created - updated, written);
+        return new IntakeSummary(batch.Count, created, updated, batch.Count - created - updated, checked((int)written));
     }
+
+    private static void WritePoints(NpgsqlBinaryImporter copy, IEnumerable<ChangedCandidate> candidates, IReadOnlyList<CandidateIntake> batch)
+    {
+        foreach (var c in candidates)
+        {
+            foreach (var p in batch[c.N].Candidate.Photometry)
+            {
+                copy.StartRow();
+                copy.Write(c.Id, NpgsqlDbType.Uuid);
+                copy.Write(p.Band.Name, NpgsqlDbType.Text);
+                copy.Write(p.TimeUtc.UtcDateTime, NpgsqlDbType.TimestampTz);
+                copy.Write(p.FluxMicroJy, NpgsqlDbType.Double);
+                copy.Write(p.FluxErrorMicroJy, NpgsqlDbType.Double);
+                copy.Write(p.IsUpperLimit, NpgsqlDbType.Boolean);
+                WriteNullable(copy, p.MagAb);
+                WriteNullable(copy, p.MagAbError);
+            }
+        }
+    }
+
+    private sealed record ChangedCandidate(int N, Guid Id, bool Inserted);
 
     private async Task<IntakeSummary> UpsertFromArraysAsync(string broker, IReadOnlyList<CandidateIntake> batch, DateTimeOffset now, CancellationToken ct)
     {
         var candidates = batch.Select(b => b.Candidate).ToArray();
         var vectors = candidates.Select(c => UnitVector(c.RaDeg, c.DecDeg)).ToArray();
-        var points = candidates.SelectMany(c => c.Photometry.Select(p => (c.Id, Point: p))).ToArray();
+        var points = candidates.SelectMany((c, i) => c.Photometry.Select(p => (N: i + 1, Point: p))).ToArray();
         var parameters = new
         {
             broker,
             now,
-            ids = candidates.Select(_ => Guid.CreateVersion7(now)).ToArray(),
+            ids = NewIds(candidates.Length, now),
             cids = candidates.Select(c => c.Id).ToArray(),
             ras = candidates.Select(c => c.RaDeg).ToArray(),
             decs = candidates.Select(c => c.DecDeg).ToArray(),
@@ -259,7 +329,7 @@ public sealed class CandidateStore(NpgsqlDataSource dataSource)
             notes = candidates.Select(c => c.Notes).ToArray(),
             states = candidates.Select(c => c.BrokerState is null ? null : JsonSerializer.Serialize(c.BrokerState, BrokerBatchJson.Options)).ToArray(),
             hashes = batch.Select(b => b.ContentHash).ToArray(),
-            pcids = points.Select(p => p.Id).ToArray(),
+            pns = points.Select(p => p.N).ToArray(),
             bands = points.Select(p => p.Point.Band.Name).ToArray(),
             times = points.Select(p => p.Point.TimeUtc.UtcDateTime).ToArray(),
             fluxes = points.Select(p => p.Point.FluxMicroJy).ToArray(),
@@ -272,6 +342,18 @@ public sealed class CandidateStore(NpgsqlDataSource dataSource)
         var (created, updated, written) = await conn.QuerySingleAsync<(int Created, int Updated, int Written)>(
             new CommandDefinition(MergeFromArraysSql, parameters, cancellationToken: ct));
         return new IntakeSummary(batch.Count, created, updated, batch.Count - created - updated, written);
+    }
+
+    /// <summary>Fresh time-ordered ids, ascending, so new rows are appended at the end of the id indexes.</summary>
+    private static Guid[] NewIds(int count, DateTimeOffset now)
+    {
+        var ids = new Guid[count];
+        for (int i = 0; i < count; i++)
+        {
+            ids[i] = Guid.CreateVersion7(now);
+        }
+        Array.Sort(ids, static (a, b) => a.CompareTo(b));
+        return ids;
     }
 
     private static void WriteNullable(NpgsqlBinaryImporter copy, double? value)
