@@ -22,7 +22,7 @@ public static class TriageDataSource
     /// <see cref="DefaultMaxPoolSize"/> connections (a few busy backends per core answer faster
     /// than a hundred competing ones, and the server's connection slots are shared) and automatic
     /// preparation of repeated statements, so the intake merge and the key lookup are planned once
-    /// per connection instead of once per request.
+    /// per connection instead of once per request; and no session reset on return to the pool.
     /// </summary>
     public static NpgsqlDataSource Create(string connectionString)
     {
@@ -34,6 +34,13 @@ public static class TriageDataSource
         if (!Mentions(connectionString, "Max Auto Prepare", "MaxAutoPrepare"))
         {
             builder.ConnectionStringBuilder.MaxAutoPrepare = DefaultMaxAutoPrepare;
+        }
+        if (!Mentions(connectionString, "No Reset On Close", "NoResetOnClose"))
+        {
+            // Triage keeps no session state across uses of a connection (staging tables and settings
+            // are transaction-scoped, advisory locks are released explicitly), so the reset round
+            // trip on every return to the pool is skipped.
+            builder.ConnectionStringBuilder.NoResetOnClose = true;
         }
         return builder.Build();
     }
