@@ -40,7 +40,7 @@ internal static class SinglePostLatency
         Array.Sort(latencies);
         double P(double q) => latencies[Math.Min(total - 1, (int)Math.Ceiling(q * total) - 1)];
         Console.WriteLine($"single-candidate posts: {total} offered at {rate}/s for {seconds} s, failures {failures}, achieved {total / elapsed.TotalSeconds:0} answers/s");
-        Console.WriteLine($"latency ms: p50 {P(0.50):0.0}  p90 {P(0.90):0.0}  p99 {P(0.99):0.0}  max {latencies[^1]:0.0}  mean {latencies.Average():0.0}");
+        Console.WriteLine($"latency ms: p50 {P(0.50):0.0}  p90 {P(0.90):0.0}  p95 {P(0.95):0.0}  p99 {P(0.99):0.0}  max {latencies[^1]:0.0}  mean {latencies.Average():0.0}");
         return failures == 0 ? 0 : 1;
     }
 

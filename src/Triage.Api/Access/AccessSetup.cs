@@ -32,6 +32,8 @@ public static class AccessSetup
     public static IServiceCollection AddAccess(this IServiceCollection services, IConfiguration config)
     {
         services.AddSingleton<KeyStore>();
+        services.AddSingleton(config.GetSection("Triage:Access").Get<KeyCacheOptions>() ?? new KeyCacheOptions());
+        services.AddSingleton<KeyCache>();
         services.AddAuthentication(ApiKeyAuthenticationHandler.SchemeName)
             .AddScheme<AuthenticationSchemeOptions, ApiKeyAuthenticationHandler>(ApiKeyAuthenticationHandler.SchemeName, null);
         services.AddAuthorizationBuilder()

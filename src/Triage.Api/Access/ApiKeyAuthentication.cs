@@ -24,7 +24,7 @@ public sealed class ApiKeyAuthenticationHandler(
     IOptionsMonitor<AuthenticationSchemeOptions> options,
     ILoggerFactory logger,
     UrlEncoder encoder,
-    KeyStore keys,
+    KeyCache keys,
     IProblemDetailsService problems)
     : AuthenticationHandler<AuthenticationSchemeOptions>(options, logger, encoder)
 {

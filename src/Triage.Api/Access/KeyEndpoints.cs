@@ -73,6 +73,10 @@ public static class KeyEndpoints
     public static async Task<Ok<IReadOnlyList<KeyResponse>>> ListKeys(KeyStore keys, CancellationToken ct) =>
         TypedResults.Ok<IReadOnlyList<KeyResponse>>((await keys.ListAsync(ct)).Select(KeyResponse.From).ToList());
 
-    public static async Task<Results<NoContent, NotFound>> RevokeKey(Guid id, KeyStore keys, TimeProvider clock, CancellationToken ct) =>
-        await keys.RevokeAsync(id, clock.GetUtcNow(), ct) ? TypedResults.NoContent() : TypedResults.NotFound();
+    public static async Task<Results<NoContent, NotFound>> RevokeKey(Guid id, KeyStore keys, KeyCache cache, TimeProvider clock, CancellationToken ct)
+    {
+        bool revoked = await keys.RevokeAsync(id, clock.GetUtcNow(), ct);
+        cache.Forget(id);
+        return revoked ? TypedResults.NoContent() : TypedResults.NotFound();
+    }
 }

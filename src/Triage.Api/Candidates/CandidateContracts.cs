@@ -18,6 +18,15 @@ public sealed record CandidateOptions
 
     /// <summary>Compute light-curve fits in the background after intake (default true).</summary>
     public bool FitInBackground { get; init; } = true;
+
+    /// <summary>Candidates fitted per background batch (default 32).</summary>
+    public int FitBatchSize { get; init; } = 32;
+
+    /// <summary>
+    /// Largest fraction of wall-clock time the background fitter computes (default 0.5): after a
+    /// batch that took t it rests t × (1 − share) / share, leaving the cores to intake under load.
+    /// </summary>
+    public double FitWorkerShare { get; init; } = 0.5;
 }
 
 /// <summary>Answer to a stored batch.</summary>

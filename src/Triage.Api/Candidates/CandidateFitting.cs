@@ -21,20 +21,24 @@ public sealed class CandidateFitting(CandidateStore store, IOptions<CandidateOpt
         return assessment;
     }
 
-    /// <summary>Fits up to <paramref name="limit"/> candidates whose fit is out of date; returns how many were fitted.</summary>
+    /// <summary>
+    /// Fits up to <paramref name="limit"/> candidates whose fit is out of date: one read for all
+    /// of them, the fits on a thread of their own (so the light-curve arithmetic never holds a
+    /// request thread), one write. Returns how many were fitted.
+    /// </summary>
     public async Task<int> FitPendingAsync(int limit, CancellationToken ct)
     {
-        int done = 0;
-        foreach (var id in await store.PendingFitsAsync(limit, ct))
+        var pending = await store.PendingFitsAsync(limit, ct);
+        if (pending.Count == 0)
         {
-            var detail = await store.GetAsync(id, ct);
-            if (detail is not null)
-            {
-                await AssessAsync(detail, ct);
-                done++;
-            }
+            return 0;
         }
-        return done;
+        var now = clock.GetUtcNow();
+        var fits = await Task.Factory.StartNew(
+            () => pending.Select(p => ToStored(p.Id, p.DataVersion, CandidateAssessment.Assess(p.Candidate, _labels), now)).ToList(),
+            ct, TaskCreationOptions.LongRunning, TaskScheduler.Default);
+        await store.SaveFitsAsync(fits, ct);
+        return pending.Count;
     }
 
     private static StoredFit ToStored(Guid id, int dataVersion, CandidateAssessment a, DateTimeOffset now)
@@ -49,18 +53,26 @@ public sealed class CandidateFitting(CandidateStore store, IOptions<CandidateOpt
     }
 }
 
-/// <summary>Keeps stored fits current after intake, a few dozen candidates at a time.</summary>
-public sealed class CandidateFitWorker(IServiceProvider services, ILogger<CandidateFitWorker> log) : BackgroundService
+/// <summary>
+/// Keeps stored fits current after intake, a batch at a time. It computes at most
+/// <see cref="CandidateOptions.FitWorkerShare"/> of the time: after a batch it rests in
+/// proportion, so a burst of intake is answered first and the fits catch up afterwards.
+/// </summary>
+public sealed class CandidateFitWorker(IServiceProvider services, IOptions<CandidateOptions> options, ILogger<CandidateFitWorker> log)
+    : BackgroundService
 {
     protected override async Task ExecuteAsync(CancellationToken stoppingToken)
     {
         var fitting = services.GetRequiredService<CandidateFitting>();
+        var o = options.Value;
+        double share = Math.Clamp(o.FitWorkerShare, 0.05, 1);
         while (!stoppingToken.IsCancellationRequested)
         {
             int fitted = 0;
+            long started = System.Diagnostics.Stopwatch.GetTimestamp(); // real time: the share is of the machine, not of the domain clock
             try
             {
-                fitted = await fitting.FitPendingAsync(64, stoppingToken);
+                fitted = await fitting.FitPendingAsync(o.FitBatchSize, stoppingToken);
                 if (fitted > 0)
                 {
                     log.LogDebug("Fitted {Candidates} candidates", fitted);
@@ -70,16 +82,18 @@ public sealed class CandidateFitWorker(IServiceProvider services, ILogger<Candid
             {
                 log.LogWarning(ex, "Background fitting failed; retrying shortly");
             }
-            if (fitted == 0)
+            var worked = System.Diagnostics.Stopwatch.GetElapsedTime(started);
+            var rest = fitted == 0 ? TimeSpan.FromSeconds(1) : worked * ((1 - share) / share);
+            try
             {
-                try
+                if (rest > TimeSpan.Zero)
                 {
-                    await Task.Delay(TimeSpan.FromSeconds(1), stoppingToken);
+                    await Task.Delay(rest, stoppingToken);
                 }
-                catch (OperationCanceledException)
-                {
-                    return;
-                }
+            }
+            catch (OperationCanceledException)
+            {
+                return;
             }
         }
     }

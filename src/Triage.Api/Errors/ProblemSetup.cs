@@ -42,6 +42,29 @@ internal sealed class BadRequestProblemHandler(IProblemDetailsService problems, 
 {
     public async ValueTask<bool> TryHandleAsync(HttpContext http, Exception exception, CancellationToken ct)
     {
+        if (exception is OperationCanceledException && http.RequestAborted.IsCancellationRequested)
+        {
+            // The caller went away; there is nobody to answer.
+            log.LogInformation("Request on {Route} abandoned by the caller", http.Request.Path.Value);
+            return true;
+        }
+        if (IsOverload(exception))
+        {
+            // Too busy to get a database connection in time: say so, and when to come back, instead of a 500.
+            log.LogWarning("Database busy on {Route}: {Reason}", http.Request.Path.Value, exception.Message);
+            http.Response.StatusCode = StatusCodes.Status503ServiceUnavailable;
+            http.Response.Headers.RetryAfter = "1";
+            return await problems.TryWriteAsync(new ProblemDetailsContext
+            {
+                HttpContext = http,
+                ProblemDetails = new ProblemDetails
+                {
+                    Status = 503,
+                    Title = "Service busy",
+                    Detail = "The database could not take the request in time; nothing was stored. Retry after a second.",
+                },
+            });
+        }
         if (exception is not BadHttpRequestException bad)
         {
             log.LogError(exception, "Unhandled error on {Route}", http.Request.Path.Value);
@@ -75,6 +98,14 @@ internal sealed class BadRequestProblemHandler(IProblemDetailsService problems, 
         http.Response.StatusCode = status;
         return await problems.TryWriteAsync(new ProblemDetailsContext { HttpContext = http, ProblemDetails = details });
     }
+
+    /// <summary>Connection pool exhausted, connection attempt timed out, or the server out of connection slots.</summary>
+    private static bool IsOverload(Exception exception) => exception switch
+    {
+        Npgsql.PostgresException pg => pg.SqlState is Npgsql.PostgresErrorCodes.TooManyConnections or Npgsql.PostgresErrorCodes.CannotConnectNow,
+        Npgsql.NpgsqlException npgsql => npgsql.InnerException is TimeoutException,
+        _ => false,
+    };
 
     private static (string Field, string Message) Describe(BadHttpRequestException bad)
     {

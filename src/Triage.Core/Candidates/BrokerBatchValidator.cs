@@ -267,7 +267,7 @@ public static partial class BrokerBatchValidator
             return null;
         }
         var result = new List<PhotometryPoint>(points.Count);
-        var seen = new Dictionary<(string Band, long Ticks), int>();
+        var seen = new Dictionary<(string Band, long Microseconds), int>();
         bool ok = true;
         for (int j = 0; j < points.Count; j++)
         {
@@ -276,7 +276,9 @@ public static partial class BrokerBatchValidator
             {
                 continue;
             }
-            var key = (point.Band.Name, point.TimeUtc.UtcTicks);
+            // Compared to the microsecond, the resolution the time is stored at (a timestamptz), so two
+            // points closer than that are refused here rather than colliding in the database.
+            var key = (point.Band.Name, point.TimeUtc.UtcTicks / TimeSpan.TicksPerMicrosecond);
             if (seen.TryGetValue(key, out int first))
             {
                 fail($"photometry[{j}]", $"duplicates photometry[{first}] (same band and time).");

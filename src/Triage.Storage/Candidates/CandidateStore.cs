@@ -52,6 +52,9 @@ public sealed record CandidateDetail(
 /// <summary>A fit computed for a stored candidate.</summary>
 public sealed record StoredFit(Guid Id, int DataVersion, string FitJson, string PriorJson, double? PredictedMag, double? PredictedMagRate, DateTimeOffset FittedAt);
 
+/// <summary>A candidate whose stored fit is older than its data.</summary>
+public sealed record PendingFit(Guid Id, int DataVersion, Candidate Candidate);
+
 /// <summary>How an observation report ended.</summary>
 public enum ReportOutcome
 {
@@ -68,25 +71,34 @@ public enum ReportOutcome
 /// </summary>
 public sealed class CandidateStore(NpgsqlDataSource dataSource)
 {
-    private const string CreateStagingSql = """
+    // The staging table lives for one transaction. JIT is off for the merge: the planner cannot
+    // know the staging table's size, and compiling cost more than it saved.
+    private const string CreateCandidateStagingSql = """
+        SET LOCAL jit = off;
+        SET LOCAL work_mem = '64MB';
         CREATE TEMP TABLE stage_candidates (
-            id uuid, broker_candidate_id text, ra_deg float8, dec_deg float8, ux float8, uy float8, uz float8,
+            n int, id uuid, broker_candidate_id text, ra_deg float8, dec_deg float8, ux float8, uy float8, uz float8,
             discovered_at timestamptz, redshift float8, redshift_error float8, subtype_probabilities jsonb,
             science_weight float8, notes text, broker_state jsonb, content_hash bytea) ON COMMIT DROP;
+        """;
+
+    private const string CreatePhotometryStagingSql = """
         CREATE TEMP TABLE stage_photometry (
-            broker_candidate_id text, band text, observed_at timestamptz, flux_microjy float8, flux_error_microjy float8,
+            candidate_id uuid, band text, observed_at timestamptz, flux_microjy float8, flux_error_microjy float8,
             upper_limit boolean, mag_ab float8, mag_ab_error float8) ON COMMIT DROP;
         """;
 
-    // Photometry is merged only for candidates whose submission changed (an identical submission
-    // was merged whole before), joined to the rows the candidate merge returned.
-    private const string MergeSql = """
-        WITH {0} up AS (
+    // Inserts new candidates and updates changed ones (content hash differs), writes their events,
+    // and yields the candidates it touched: their ordinal n in the batch (via the staging rows),
+    // stored id, and whether this statement created them. Rows are taken in broker-id order so
+    // concurrent batches lock candidates in the same order.
+    private const string CandidateMergeSql = """
+        up AS (
             INSERT INTO candidates (id, broker, broker_candidate_id, ra_deg, dec_deg, ux, uy, uz, discovered_at, redshift,
                 redshift_error, subtype_probabilities, science_weight, notes, broker_state, content_hash, created_at, updated_at)
             SELECT id, @broker, broker_candidate_id, ra_deg, dec_deg, ux, uy, uz, discovered_at, redshift, redshift_error,
                 subtype_probabilities, science_weight, notes, broker_state, content_hash, @now, @now
-            FROM stage_candidates ORDER BY broker_candidate_id
+            FROM {0} ORDER BY broker_candidate_id
             ON CONFLICT (broker, broker_candidate_id) DO UPDATE SET
                 ra_deg = EXCLUDED.ra_deg, dec_deg = EXCLUDED.dec_deg, ux = EXCLUDED.ux, uy = EXCLUDED.uy, uz = EXCLUDED.uz,
                 discovered_at = EXCLUDED.discovered_at, redshift = EXCLUDED.redshift, redshift_error = EXCLUDED.redshift_error,
@@ -99,23 +111,32 @@ public sealed class CandidateStore(NpgsqlDataSource dataSource)
         ), events AS (
             INSERT INTO candidate_events (candidate_id, at, kind, actor)
             SELECT id, @now, CASE WHEN inserted THEN 'created' ELSE 'updated' END, @broker FROM up
-        ), points AS (
-            INSERT INTO candidate_photometry (candidate_id, band, observed_at, flux_microjy, flux_error_microjy, upper_limit, mag_ab, mag_ab_error)
-            SELECT up.id, s.band, s.observed_at, s.flux_microjy, s.flux_error_microjy, s.upper_limit, s.mag_ab, s.mag_ab_error
-            FROM stage_photometry s JOIN up ON up.broker_candidate_id = s.broker_candidate_id
-            ORDER BY up.id, s.band, s.observed_at
-            ON CONFLICT (candidate_id, band, observed_at) DO UPDATE SET
-                flux_microjy = EXCLUDED.flux_microjy, flux_error_microjy = EXCLUDED.flux_error_microjy,
-                upper_limit = EXCLUDED.upper_limit, mag_ab = EXCLUDED.mag_ab, mag_ab_error = EXCLUDED.mag_ab_error
-            WHERE (candidate_photometry.flux_microjy, candidate_photometry.flux_error_microjy, candidate_photometry.upper_limit,
-                   candidate_photometry.mag_ab, candidate_photometry.mag_ab_error)
-               IS DISTINCT FROM (EXCLUDED.flux_microjy, EXCLUDED.flux_error_microjy, EXCLUDED.upper_limit, EXCLUDED.mag_ab, EXCLUDED.mag_ab_error)
-            RETURNING 1
+        ), changed AS (
+            SELECT up.id, up.inserted, s.n FROM up JOIN stage_candidates s ON s.broker_candidate_id = up.broker_candidate_id
         )
-        SELECT (SELECT count(*) FROM up WHERE inserted)::int AS Created,
-               (SELECT count(*) FROM up WHERE NOT inserted)::int AS Updated,
-               (SELECT count(*) FROM points)::int AS Written
         """;
+
+    // Points of candidates that existed before: ON CONFLICT, so a concurrent retry of the same
+    // batch never duplicates a point, and an unchanged point is not rewritten.
+    private const string PointMergeSql = """
+        INSERT INTO candidate_photometry (candidate_id, band, observed_at, flux_microjy, flux_error_microjy, upper_limit, mag_ab, mag_ab_error)
+        SELECT {0}
+        ORDER BY 1, 2, 3
+        ON CONFLICT (candidate_id, band, observed_at) DO UPDATE SET
+            flux_microjy = EXCLUDED.flux_microjy, flux_error_microjy = EXCLUDED.flux_error_microjy,
+            upper_limit = EXCLUDED.upper_limit, mag_ab = EXCLUDED.mag_ab, mag_ab_error = EXCLUDED.mag_ab_error
+        WHERE (candidate_photometry.flux_microjy, candidate_photometry.flux_error_microjy, candidate_photometry.upper_limit,
+               candidate_photometry.mag_ab, candidate_photometry.mag_ab_error)
+           IS DISTINCT FROM (EXCLUDED.flux_microjy, EXCLUDED.flux_error_microjy, EXCLUDED.upper_limit, EXCLUDED.mag_ab, EXCLUDED.mag_ab_error)
+        """;
+
+    private static readonly string MergeCandidatesFromTableSql = "WITH " + Fill(CandidateMergeSql, "stage_candidates") +
+        "SELECT n AS N, id AS Id, inserted AS Inserted FROM changed";
+
+    private static readonly string MergePointsFromTableSql = Fill(PointMergeSql,
+        "candidate_id, band, observed_at, flux_microjy, flux_error_microjy, upper_limit, mag_ab, mag_ab_error FROM stage_photometry");
+
+    private static string Fill(string template, string what) => string.Format(System.Globalization.CultureInfo.InvariantCulture, template, what);
 
     // Small batches (a broker posting one candidate at a time) skip the temporary tables: the
     // same merge reads the rows from array parameters, which saves the catalog work per request.
@@ -123,26 +144,46 @@ public sealed class CandidateStore(NpgsqlDataSource dataSource)
         stage_candidates AS (
             SELECT * FROM unnest(@ids::uuid[], @cids::text[], @ras::float8[], @decs::float8[], @uxs::float8[], @uys::float8[], @uzs::float8[],
                 @discovered::timestamptz[], @redshifts::float8[], @redshiftErrors::float8[], @probabilities::text[], @weights::float8[],
-                @notes::text[], @states::text[], @hashes::bytea[])
+                @notes::text[], @states::text[], @hashes::bytea[]) WITH ORDINALITY
                 AS t(id, broker_candidate_id, ra_deg, dec_deg, ux, uy, uz, discovered_at, redshift, redshift_error, probabilities_text,
-                     science_weight, notes, broker_state_text, content_hash)
+                     science_weight, notes, broker_state_text, content_hash, n)
         ), stage_candidates_typed AS (
             SELECT id, broker_candidate_id, ra_deg, dec_deg, ux, uy, uz, discovered_at, redshift, redshift_error,
                 probabilities_text::jsonb AS subtype_probabilities, science_weight, notes, broker_state_text::jsonb AS broker_state, content_hash
             FROM stage_candidates
         ), stage_photometry AS (
-            SELECT * FROM unnest(@pcids::text[], @bands::text[], @times::timestamptz[], @fluxes::float8[], @fluxErrors::float8[],
+            SELECT * FROM unnest(@pns::int[], @bands::text[], @times::timestamptz[], @fluxes::float8[], @fluxErrors::float8[],
                 @upper::boolean[], @mags::float8[], @magErrors::float8[])
-                AS p(broker_candidate_id, band, observed_at, flux_microjy, flux_error_microjy, upper_limit, mag_ab, mag_ab_error)
+                AS p(n, band, observed_at, flux_microjy, flux_error_microjy, upper_limit, mag_ab, mag_ab_error)
         ),
         """;
 
     /// <summary>Largest batch merged from array parameters instead of COPY and staging tables.</summary>
     public const int ArrayPathMaxCandidates = 32;
 
-    private static readonly string MergeFromTablesSql = string.Format(System.Globalization.CultureInfo.InvariantCulture, MergeSql, "");
-    private static readonly string MergeFromArraysSql = string.Format(System.Globalization.CultureInfo.InvariantCulture, MergeSql,
-        StageFromArrays).Replace("FROM stage_candidates ORDER BY", "FROM stage_candidates_typed ORDER BY", StringComparison.Ordinal);
+    // One statement for the small path: candidates, events and points. A candidate this statement
+    // created has an id nobody else can know before the commit, so its points go in with a plain
+    // INSERT (no conflict check; the validator refuses duplicate points); the points of candidates
+    // that existed go through ON CONFLICT.
+    private static readonly string MergeFromArraysSql = "WITH " + StageFromArrays + Fill(CandidateMergeSql, "stage_candidates_typed") + """
+        , new_points AS (
+            INSERT INTO candidate_photometry (candidate_id, band, observed_at, flux_microjy, flux_error_microjy, upper_limit, mag_ab, mag_ab_error)
+            SELECT c.id, p.band, p.observed_at, p.flux_microjy, p.flux_error_microjy, p.upper_limit, p.mag_ab, p.mag_ab_error
+            FROM stage_photometry p JOIN changed c ON c.n = p.n
+            WHERE c.inserted
+            RETURNING 1
+        ), merged_points AS (
+        """ + Fill(PointMergeSql, """
+            c.id, p.band, p.observed_at, p.flux_microjy, p.flux_error_microjy, p.upper_limit, p.mag_ab, p.mag_ab_error
+            FROM stage_photometry p JOIN changed c ON c.n = p.n
+            WHERE NOT c.inserted
+            """) + """
+            RETURNING 1
+        )
+        SELECT (SELECT count(*) FROM changed WHERE inserted)::int AS Created,
+               (SELECT count(*) FROM changed WHERE NOT inserted)::int AS Updated,
+               ((SELECT count(*) FROM new_points) + (SELECT count(*) FROM merged_points))::int AS Written
+        """;
 
     /// <summary>Stores a validated batch for one broker, all or nothing. Retries a deadlock or serialization failure twice.</summary>
     public async Task<IntakeSummary> UpsertBatchAsync(string broker, IReadOnlyList<CandidateIntake> batch, DateTimeOffset now, CancellationToken ct = default)
@@ -168,17 +209,21 @@ public sealed class CandidateStore(NpgsqlDataSource dataSource)
         }
         await using var conn = await dataSource.OpenConnectionAsync(ct);
         await using var tx = await conn.BeginTransactionAsync(ct);
-        await conn.ExecuteAsync(new CommandDefinition(CreateStagingSql, transaction: tx, cancellationToken: ct));
+        await conn.ExecuteAsync(new CommandDefinition(CreateCandidateStagingSql, transaction: tx, cancellationToken: ct));
 
+        // 1. The candidates into staging, then merged; the answer says which ones changed.
         await using (var copy = await conn.BeginBinaryImportAsync(
-            "COPY stage_candidates (id, broker_candidate_id, ra_deg, dec_deg, ux, uy, uz, discovered_at, redshift, redshift_error, " +
+            "COPY stage_candidates (n, id, broker_candidate_id, ra_deg, dec_deg, ux, uy, uz, discovered_at, redshift, redshift_error, " +
             "subtype_probabilities, science_weight, notes, broker_state, content_hash) FROM STDIN (FORMAT BINARY)", ct))
         {
-            foreach (var (c, hash) in batch)
+            var ids = NewIds(batch.Count, now);
+            for (int n = 0; n < batch.Count; n++)
             {
+                var (c, hash) = batch[n];
                 var (x, y, z) = UnitVector(c.RaDeg, c.DecDeg);
                 copy.StartRow();
-                copy.Write(Guid.CreateVersion7(now), NpgsqlDbType.Uuid);
+                copy.Write(n, NpgsqlDbType.Integer);
+                copy.Write(ids[n], NpgsqlDbType.Uuid);
                 copy.Write(c.Id, NpgsqlDbType.Text);
                 copy.Write(c.RaDeg, NpgsqlDbType.Double);
                 copy.Write(c.DecDeg, NpgsqlDbType.Double);
@@ -203,45 +248,73 @@ public sealed class CandidateStore(NpgsqlDataSource dataSource)
             }
             await copy.CompleteAsync(ct);
         }
+        var changed = (await conn.QueryAsync<ChangedCandidate>(
+            new CommandDefinition(MergeCandidatesFromTableSql, new { broker, now }, tx, cancellationToken: ct))).ToList();
+        int created = changed.Count(c => c.Inserted);
+        int updated = changed.Count - created;
+        long written = 0;
 
-        await using (var copy = await conn.BeginBinaryImportAsync(
-            "COPY stage_photometry (broker_candidate_id, band, observed_at, flux_microjy, flux_error_microjy, upper_limit, mag_ab, mag_ab_error) " +
-            "FROM STDIN (FORMAT BINARY)", ct))
+        // 2. Points of the candidates just created: straight into the table. Their ids are new and
+        //    unknown to anyone else until the commit, so no other writer can hold one of these keys.
+        var fresh = changed.Where(c => c.Inserted).OrderBy(c => c.Id).ToList();
+        if (fresh.Count > 0)
         {
-            foreach (var (c, _) in batch)
-            {
-                foreach (var p in c.Photometry)
-                {
-                    copy.StartRow();
-                    copy.Write(c.Id, NpgsqlDbType.Text);
-                    copy.Write(p.Band.Name, NpgsqlDbType.Text);
-                    copy.Write(p.TimeUtc.UtcDateTime, NpgsqlDbType.TimestampTz);
-                    copy.Write(p.FluxMicroJy, NpgsqlDbType.Double);
-                    copy.Write(p.FluxErrorMicroJy, NpgsqlDbType.Double);
-                    copy.Write(p.IsUpperLimit, NpgsqlDbType.Boolean);
-                    WriteNullable(copy, p.MagAb);
-                    WriteNullable(copy, p.MagAbError);
-                }
-            }
-            await copy.CompleteAsync(ct);
+            await using var copy = await conn.BeginBinaryImportAsync(
+                "COPY candidate_photometry (candidate_id, band, observed_at, flux_microjy, flux_error_microjy, upper_limit, mag_ab, mag_ab_error) " +
+                "FROM STDIN (FORMAT BINARY)", ct);
+            WritePoints(copy, fresh, batch);
+            written += (long)await copy.CompleteAsync(ct);
         }
 
-        var (created, updated, written) = await conn.QuerySingleAsync<(int Created, int Updated, int Written)>(
-            new CommandDefinition(MergeFromTablesSql, new { broker, now }, tx, cancellationToken: ct));
+        // 3. Points of candidates that existed and changed: through staging and ON CONFLICT.
+        var existing = changed.Where(c => !c.Inserted).OrderBy(c => c.Id).ToList();
+        if (existing.Count > 0)
+        {
+            await conn.ExecuteAsync(new CommandDefinition(CreatePhotometryStagingSql, transaction: tx, cancellationToken: ct));
+            await using (var copy = await conn.BeginBinaryImportAsync(
+                "COPY stage_photometry (candidate_id, band, observed_at, flux_microjy, flux_error_microjy, upper_limit, mag_ab, mag_ab_error) " +
+                "FROM STDIN (FORMAT BINARY)", ct))
+            {
+                WritePoints(copy, existing, batch);
+                await copy.CompleteAsync(ct);
+            }
+            written += await conn.ExecuteAsync(new CommandDefinition(MergePointsFromTableSql, transaction: tx, cancellationToken: ct));
+        }
         await tx.CommitAsync(ct);
-        return new IntakeSummary(batch.Count, created, updated, batch.Count - created - updated, written);
+        return new IntakeSummary(batch.Count, created, updated, batch.Count - created - updated, checked((int)written));
     }
+
+    private static void WritePoints(NpgsqlBinaryImporter copy, IEnumerable<ChangedCandidate> candidates, IReadOnlyList<CandidateIntake> batch)
+    {
+        foreach (var c in candidates)
+        {
+            foreach (var p in batch[c.N].Candidate.Photometry)
+            {
+                copy.StartRow();
+                copy.Write(c.Id, NpgsqlDbType.Uuid);
+                copy.Write(p.Band.Name, NpgsqlDbType.Text);
+                copy.Write(p.TimeUtc.UtcDateTime, NpgsqlDbType.TimestampTz);
+                copy.Write(p.FluxMicroJy, NpgsqlDbType.Double);
+                copy.Write(p.FluxErrorMicroJy, NpgsqlDbType.Double);
+                copy.Write(p.IsUpperLimit, NpgsqlDbType.Boolean);
+                WriteNullable(copy, p.MagAb);
+                WriteNullable(copy, p.MagAbError);
+            }
+        }
+    }
+
+    private sealed record ChangedCandidate(int N, Guid Id, bool Inserted);
 
     private async Task<IntakeSummary> UpsertFromArraysAsync(string broker, IReadOnlyList<CandidateIntake> batch, DateTimeOffset now, CancellationToken ct)
     {
         var candidates = batch.Select(b => b.Candidate).ToArray();
         var vectors = candidates.Select(c => UnitVector(c.RaDeg, c.DecDeg)).ToArray();
-        var points = candidates.SelectMany(c => c.Photometry.Select(p => (c.Id, Point: p))).ToArray();
+        var points = candidates.SelectMany((c, i) => c.Photometry.Select(p => (N: i + 1, Point: p))).ToArray();
         var parameters = new
         {
             broker,
             now,
-            ids = candidates.Select(_ => Guid.CreateVersion7(now)).ToArray(),
+            ids = NewIds(candidates.Length, now),
             cids = candidates.Select(c => c.Id).ToArray(),
             ras = candidates.Select(c => c.RaDeg).ToArray(),
             decs = candidates.Select(c => c.DecDeg).ToArray(),
@@ -256,7 +329,7 @@ public sealed class CandidateStore(NpgsqlDataSource dataSource)
             notes = candidates.Select(c => c.Notes).ToArray(),
             states = candidates.Select(c => c.BrokerState is null ? null : JsonSerializer.Serialize(c.BrokerState, BrokerBatchJson.Options)).ToArray(),
             hashes = batch.Select(b => b.ContentHash).ToArray(),
-            pcids = points.Select(p => p.Id).ToArray(),
+            pns = points.Select(p => p.N).ToArray(),
             bands = points.Select(p => p.Point.Band.Name).ToArray(),
             times = points.Select(p => p.Point.TimeUtc.UtcDateTime).ToArray(),
             fluxes = points.Select(p => p.Point.FluxMicroJy).ToArray(),
@@ -269,6 +342,18 @@ public sealed class CandidateStore(NpgsqlDataSource dataSource)
         var (created, updated, written) = await conn.QuerySingleAsync<(int Created, int Updated, int Written)>(
             new CommandDefinition(MergeFromArraysSql, parameters, cancellationToken: ct));
         return new IntakeSummary(batch.Count, created, updated, batch.Count - created - updated, written);
+    }
+
+    /// <summary>Fresh time-ordered ids, ascending, so new rows are appended at the end of the id indexes.</summary>
+    private static Guid[] NewIds(int count, DateTimeOffset now)
+    {
+        var ids = new Guid[count];
+        for (int i = 0; i < count; i++)
+        {
+            ids[i] = Guid.CreateVersion7(now);
+        }
+        Array.Sort(ids, static (a, b) => a.CompareTo(b));
+        return ids;
     }
 
     private static void WriteNullable(NpgsqlBinaryImporter copy, double? value)
@@ -379,21 +464,38 @@ public sealed class CandidateStore(NpgsqlDataSource dataSource)
         var reports = (await grid.ReadAsync<ReportRowData>()).Select(r => new ObservationReportRow(
             r.Id, r.SpectrographId, r.Outcome, r.AchievedSnr, r.ClassifiedLabel, Utc.From(r.ObservedAt), Utc.From(r.ReportedAt), r.Reporter)).ToList();
         var summary = row.ToRow();
-        var candidate = new Candidate(summary.BrokerCandidateId, summary.RaDeg, summary.DecDeg, summary.DiscoveredAt, summary.Redshift,
-            row.RedshiftError, photometry,
-            row.SubtypeProbabilities is null ? null : JsonSerializer.Deserialize<Dictionary<string, double>>(row.SubtypeProbabilities),
-            summary.ScienceWeight, row.Notes,
-            row.BrokerState is null ? null : JsonSerializer.Deserialize<BrokerState>(row.BrokerState, BrokerBatchJson.Options));
-        return new CandidateDetail(summary, candidate, row.DataVersion, row.FitVersion, row.Fit, row.Prior, events, reports);
+        return new CandidateDetail(summary, row.ToCandidate(photometry), row.DataVersion, row.FitVersion, row.Fit, row.Prior, events, reports);
     }
 
-    private const string PendingSql = "SELECT id FROM candidates WHERE fit_version < data_version ORDER BY id LIMIT @limit";
+    private const string PendingSql = $"""
+        SELECT {ListColumns}, redshift_error AS RedshiftError, subtype_probabilities::text AS SubtypeProbabilities,
+            notes AS Notes, broker_state::text AS BrokerState, data_version AS DataVersion, fit_version AS FitVersion
+        FROM candidates WHERE fit_version < data_version ORDER BY id LIMIT @limit
+        """;
 
-    /// <summary>Ids of candidates whose stored fit is older than their data.</summary>
-    public async Task<IReadOnlyList<Guid>> PendingFitsAsync(int limit, CancellationToken ct = default)
+    private const string PendingPhotometrySql = """
+        SELECT candidate_id AS CandidateId, band AS Band, observed_at AS ObservedAt, flux_microjy AS FluxMicroJy, flux_error_microjy AS FluxErrorMicroJy,
+            upper_limit AS UpperLimit, mag_ab AS MagAb, mag_ab_error AS MagAbError
+        FROM candidate_photometry WHERE candidate_id = ANY(@ids) ORDER BY candidate_id, observed_at, band
+        """;
+
+    /// <summary>
+    /// Up to <paramref name="limit"/> candidates whose stored fit is older than their data, with
+    /// their photometry, in two queries (the background fitter's read). The photometry is read
+    /// after the rows, so it is at least as new as the data version it is paired with.
+    /// </summary>
+    public async Task<IReadOnlyList<PendingFit>> PendingFitsAsync(int limit, CancellationToken ct = default)
     {
         await using var conn = await dataSource.OpenConnectionAsync(ct);
-        return (await conn.QueryAsync<Guid>(new CommandDefinition(PendingSql, new { limit }, cancellationToken: ct))).ToList();
+        var rows = (await conn.QueryAsync<DetailRowData>(new CommandDefinition(PendingSql, new { limit }, cancellationToken: ct))).ToList();
+        if (rows.Count == 0)
+        {
+            return [];
+        }
+        var points = (await conn.QueryAsync<PendingPhotometryRowData>(new CommandDefinition(PendingPhotometrySql,
+                new { ids = rows.Select(r => r.Id).ToArray() }, cancellationToken: ct)))
+            .ToLookup(p => p.CandidateId, p => p.Point.ToPoint());
+        return rows.Select(r => new PendingFit(r.Id, r.DataVersion, r.ToCandidate(points[r.Id].ToList()))).ToList();
     }
 
     private const string SaveFitSql = """
@@ -401,6 +503,34 @@ public sealed class CandidateStore(NpgsqlDataSource dataSource)
             predicted_mag_rate = @PredictedMagRate, fitted_at = @FittedAt, fit_version = @DataVersion
         WHERE id = @Id AND fit_version < @DataVersion AND data_version >= @DataVersion
         """;
+
+    private const string SaveFitsSql = """
+        UPDATE candidates c SET fit = f.fit::jsonb, prior = f.prior::jsonb, predicted_mag = f.mag, predicted_mag_rate = f.rate,
+            fitted_at = f.fitted_at, fit_version = f.data_version
+        FROM unnest(@ids::uuid[], @versions::int[], @fits::text[], @priors::text[], @mags::float8[], @rates::float8[], @fittedAt::timestamptz[])
+            AS f(id, data_version, fit, prior, mag, rate, fitted_at)
+        WHERE c.id = f.id AND c.fit_version < f.data_version AND c.data_version >= f.data_version
+        """;
+
+    /// <summary>Stores several fits in one statement, each unless a fit of the same or newer data is already there. Returns how many were stored.</summary>
+    public async Task<int> SaveFitsAsync(IReadOnlyList<StoredFit> fits, CancellationToken ct = default)
+    {
+        if (fits.Count == 0)
+        {
+            return 0;
+        }
+        await using var conn = await dataSource.OpenConnectionAsync(ct);
+        return await conn.ExecuteAsync(new CommandDefinition(SaveFitsSql, new
+        {
+            ids = fits.Select(f => f.Id).ToArray(),
+            versions = fits.Select(f => f.DataVersion).ToArray(),
+            fits = fits.Select(f => f.FitJson).ToArray(),
+            priors = fits.Select(f => f.PriorJson).ToArray(),
+            mags = fits.Select(f => f.PredictedMag).ToArray(),
+            rates = fits.Select(f => f.PredictedMagRate).ToArray(),
+            fittedAt = fits.Select(f => f.FittedAt.UtcDateTime).ToArray(),
+        }, cancellationToken: ct));
+    }
 
     /// <summary>Stores a fit unless a fit of the same or newer data is already there.</summary>
     public async Task<bool> SaveFitAsync(StoredFit fit, CancellationToken ct = default)
@@ -543,6 +673,26 @@ public sealed class CandidateStore(NpgsqlDataSource dataSource)
         public int FitVersion { get; init; }
         public string? Fit { get; init; }
         public string? Prior { get; init; }
+
+        public Candidate ToCandidate(IReadOnlyList<PhotometryPoint> photometry) =>
+            new(BrokerCandidateId, RaDeg, DecDeg, Utc.From(DiscoveredAt), Redshift, RedshiftError, photometry,
+                SubtypeProbabilities is null ? null : JsonSerializer.Deserialize<Dictionary<string, double>>(SubtypeProbabilities),
+                ScienceWeight, Notes,
+                BrokerState is null ? null : JsonSerializer.Deserialize<BrokerState>(BrokerState, BrokerBatchJson.Options));
+    }
+
+    private sealed class PendingPhotometryRowData
+    {
+        public Guid CandidateId { get; init; }
+        public string Band { get; init; } = "";
+        public DateTime ObservedAt { get; init; }
+        public double FluxMicroJy { get; init; }
+        public double FluxErrorMicroJy { get; init; }
+        public bool UpperLimit { get; init; }
+        public double? MagAb { get; init; }
+        public double? MagAbError { get; init; }
+
+        public PhotometryRowData Point => new(Band, ObservedAt, FluxMicroJy, FluxErrorMicroJy, UpperLimit, MagAb, MagAbError);
     }
 
     private sealed record PhotometryRowData(string Band, DateTime ObservedAt, double FluxMicroJy, double FluxErrorMicroJy, bool UpperLimit, double? MagAb, double? MagAbError)

@@ -60,6 +60,28 @@ public sealed class CandidateIntakeTests(TriageApiFactory api)
         Assert.Equal(10, points);
     }
 
+    [Theory]
+    [InlineData(40)] // staged with binary COPY: the existing candidates' points go through the staging merge
+    [InlineData(3)] // merged from array parameters
+    public async Task PostBatch_ExtendedNextToNewCandidates_OnlyNewPointsWritten(int count)
+    {
+        var client = api.ClientWith(await api.KeyAsync(Scope.Broker));
+        var first = Enumerable.Range(0, count).Select(_ => CandidateBodies.Candidate(points: 6)).ToArray();
+        await (await client.PostAsync("/api/candidates/batches", Bodies.Json(CandidateBodies.Batch(first)))).ReadObjectAsync();
+
+        // The same candidates with four more points each, plus as many new ones with ten points.
+        var extended = first.Select(c => CandidateBodies.Candidate((string)c["id"]!, points: 10)).ToArray();
+        var added = Enumerable.Range(0, count).Select(_ => CandidateBodies.Candidate(points: 10)).ToArray();
+        var answer = await (await client.PostAsync("/api/candidates/batches", Bodies.Json(CandidateBodies.Batch([.. extended, .. added])))).ReadObjectAsync();
+
+        Assert.Equal(count, (int)answer["created"]!);
+        Assert.Equal(count, (int)answer["updated"]!);
+        Assert.Equal(count * 4 + count * 10, (int)answer["photometryWritten"]!);
+        var (rows, points) = await CountAsync([.. extended.Concat(added).Select(c => (string)c["id"]!)]);
+        Assert.Equal(2 * count, rows);
+        Assert.Equal(2 * count * 10, points);
+    }
+
     [Fact]
     public async Task PostBatch_SameIdFromTwoBrokers_TwoCandidates()
     {

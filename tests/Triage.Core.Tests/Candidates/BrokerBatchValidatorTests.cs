@@ -104,6 +104,26 @@ public class BrokerBatchValidatorTests
     }
 
     [Fact]
+    public void Validate_PointsLessThanAMicrosecondApart_RefusedAsDuplicates()
+    {
+        // Times are stored to the microsecond (PostgreSQL timestamptz), so 0.3 µs apart is the same point.
+        var t = Night.AddDays(-5);
+        var c = Valid() with
+        {
+            Photometry =
+            [
+                new PhotometrySubmission { TimeUtc = t, Band = "r", MagAb = 19.2, MagAbError = 0.08 },
+                new PhotometrySubmission { TimeUtc = t.AddTicks(3), Band = "r", MagAb = 19.3, MagAbError = 0.08 },
+            ],
+        };
+
+        var result = Validate(c);
+
+        Assert.False(result.IsValid);
+        Assert.Contains(result.Errors, e => e.Field.EndsWith("photometry[1]", StringComparison.Ordinal) && e.Message.Contains("duplicates", StringComparison.Ordinal));
+    }
+
+    [Fact]
     public void Validate_OversizeBatch_Rejected()
     {
         var result = BrokerBatchValidator.Validate(new BrokerBatch([Valid("A"), Valid("B"), Valid("C")]), DefaultSubtypeLabels.Set, new BatchLimits { MaxCandidates = 2 });

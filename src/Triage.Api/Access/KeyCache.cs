@@ -1,0 +1,69 @@
+using System.Collections.Concurrent;
+using System.Security.Cryptography;
+using System.Text;
+using Triage.Storage.Access;
+
+namespace Triage.Api.Access;
+
+/// <summary>Settings of the key cache (section <c>Triage:Access</c>).</summary>
+public sealed record KeyCacheOptions
+{
+    /// <summary>
+    /// How long a successful key lookup is reused without asking the database (default 5 s; 0
+    /// turns the cache off). A revocation through this service's API takes effect at once; one
+    /// made elsewhere (the CLI, another instance) within this many seconds.
+    /// </summary>
+    public double KeyCacheSeconds { get; init; } = 5;
+}
+
+/// <summary>
+/// Remembers recently authenticated keys for a few seconds so a broker posting candidates one
+/// at a time does not cost a database round trip per request for its key. Entries are indexed
+/// by the SHA-256 of the presented key (the secret itself is not kept); unknown keys are not
+/// remembered, so a newly issued key works at once.
+/// </summary>
+public sealed class KeyCache(KeyStore keys, TimeProvider clock, KeyCacheOptions options)
+{
+    private const int MaxEntries = 10_000;
+    private readonly ConcurrentDictionary<string, (ApiKeyRow Key, DateTimeOffset Until)> _entries = new(StringComparer.Ordinal);
+    private readonly TimeSpan _lifetime = TimeSpan.FromSeconds(Math.Max(0, options.KeyCacheSeconds));
+
+    /// <summary>The active key matching <paramref name="presented"/>, or null.</summary>
+    public async Task<ApiKeyRow?> AuthenticateAsync(string presented, CancellationToken ct)
+    {
+        if (_lifetime <= TimeSpan.Zero)
+        {
+            return await keys.AuthenticateAsync(presented, ct);
+        }
+        string id = Convert.ToHexString(SHA256.HashData(Encoding.UTF8.GetBytes(presented)));
+        var now = clock.GetUtcNow();
+        if (_entries.TryGetValue(id, out var entry) && entry.Until > now)
+        {
+            return entry.Key;
+        }
+        var key = await keys.AuthenticateAsync(presented, ct);
+        if (key is null)
+        {
+            _entries.TryRemove(id, out _);
+            return null;
+        }
+        if (_entries.Count >= MaxEntries)
+        {
+            _entries.Clear();
+        }
+        _entries[id] = (key, now + _lifetime);
+        return key;
+    }
+
+    /// <summary>Forgets a key at once (after it was revoked here).</summary>
+    public void Forget(Guid keyId)
+    {
+        foreach (var (id, entry) in _entries)
+        {
+            if (entry.Key.Id == keyId)
+            {
+                _entries.TryRemove(id, out _);
+            }
+        }
+    }
+}
