@@ -349,10 +349,14 @@ public sealed class CandidateStore(NpgsqlDataSource dataSource)
         return rows.Select(r => r.ToRow()).ToList();
     }
 
-    private const string GetSql = $"""
-        SELECT {ListColumns}, redshift_error AS RedshiftError, subtype_probabilities::text AS SubtypeProbabilities,
+    private const string DetailColumns = $"""
+        {ListColumns}, redshift_error AS RedshiftError, subtype_probabilities::text AS SubtypeProbabilities,
             notes AS Notes, broker_state::text AS BrokerState, data_version AS DataVersion, fit_version AS FitVersion,
             fit::text AS Fit, prior::text AS Prior
+        """;
+
+    private const string GetSql = $"""
+        SELECT {DetailColumns}
         FROM candidates WHERE id = @id;
         SELECT band AS Band, observed_at AS ObservedAt, flux_microjy AS FluxMicroJy, flux_error_microjy AS FluxErrorMicroJy,
             upper_limit AS UpperLimit, mag_ab AS MagAb, mag_ab_error AS MagAbError
@@ -378,13 +382,33 @@ public sealed class CandidateStore(NpgsqlDataSource dataSource)
         var events = (await grid.ReadAsync<EventRowData>()).Select(e => new CandidateEventRow(Utc.From(e.At), e.Kind, e.FromState, e.ToState, e.Actor, e.Detail)).ToList();
         var reports = (await grid.ReadAsync<ReportRowData>()).Select(r => new ObservationReportRow(
             r.Id, r.SpectrographId, r.Outcome, r.AchievedSnr, r.ClassifiedLabel, Utc.From(r.ObservedAt), Utc.From(r.ReportedAt), r.Reporter)).ToList();
-        var summary = row.ToRow();
-        var candidate = new Candidate(summary.BrokerCandidateId, summary.RaDeg, summary.DecDeg, summary.DiscoveredAt, summary.Redshift,
-            row.RedshiftError, photometry,
-            row.SubtypeProbabilities is null ? null : JsonSerializer.Deserialize<Dictionary<string, double>>(row.SubtypeProbabilities),
-            summary.ScienceWeight, row.Notes,
-            row.BrokerState is null ? null : JsonSerializer.Deserialize<BrokerState>(row.BrokerState, BrokerBatchJson.Options));
-        return new CandidateDetail(summary, candidate, row.DataVersion, row.FitVersion, row.Fit, row.Prior, events, reports);
+        return new CandidateDetail(row.ToRow(), row.ToCandidate(photometry), row.DataVersion, row.FitVersion, row.Fit, row.Prior, events, reports);
+    }
+
+    private const string InStatesSql = $"""
+        SELECT {DetailColumns}
+        FROM candidates WHERE state = ANY(@states) ORDER BY id;
+        SELECT p.candidate_id AS CandidateId, p.band AS Band, p.observed_at AS ObservedAt, p.flux_microjy AS FluxMicroJy,
+            p.flux_error_microjy AS FluxErrorMicroJy, p.upper_limit AS UpperLimit, p.mag_ab AS MagAb, p.mag_ab_error AS MagAbError
+        FROM candidate_photometry p JOIN candidates c ON c.id = p.candidate_id
+        WHERE c.state = ANY(@states) ORDER BY p.candidate_id, p.observed_at, p.band;
+        """;
+
+    /// <summary>
+    /// Every candidate in one of <paramref name="states"/> with its photometry, in one round trip
+    /// (the planner reads the whole waiting set at once), ordered by id.
+    /// </summary>
+    public async Task<IReadOnlyList<(Guid Id, Candidate Candidate)>> InStatesWithPhotometryAsync(
+        IReadOnlyCollection<CandidateState> states, CancellationToken ct = default)
+    {
+        ArgumentNullException.ThrowIfNull(states);
+        await using var conn = await dataSource.OpenConnectionAsync(ct);
+        await using var grid = await conn.QueryMultipleAsync(new CommandDefinition(InStatesSql,
+            new { states = states.Select(CandidateLifecycle.Name).ToArray() }, cancellationToken: ct));
+        var rows = (await grid.ReadAsync<DetailRowData>()).ToList();
+        var photometry = (await grid.ReadAsync<OwnedPhotometryRowData>())
+            .ToLookup(p => p.CandidateId, p => new PhotometryRowData(p.Band, p.ObservedAt, p.FluxMicroJy, p.FluxErrorMicroJy, p.UpperLimit, p.MagAb, p.MagAbError).ToPoint());
+        return rows.Select(r => (r.Id, r.ToCandidate(photometry[r.Id].ToList()))).ToList();
     }
 
     private const string PendingSql = "SELECT id FROM candidates WHERE fit_version < data_version ORDER BY id LIMIT @limit";
@@ -543,7 +567,15 @@ public sealed class CandidateStore(NpgsqlDataSource dataSource)
         public int FitVersion { get; init; }
         public string? Fit { get; init; }
         public string? Prior { get; init; }
+
+        public Candidate ToCandidate(IReadOnlyList<PhotometryPoint> photometry) => new(BrokerCandidateId, RaDeg, DecDeg, Utc.From(DiscoveredAt), Redshift,
+            RedshiftError, photometry,
+            SubtypeProbabilities is null ? null : JsonSerializer.Deserialize<Dictionary<string, double>>(SubtypeProbabilities),
+            ScienceWeight, Notes,
+            BrokerState is null ? null : JsonSerializer.Deserialize<BrokerState>(BrokerState, BrokerBatchJson.Options));
     }
+
+    private sealed record OwnedPhotometryRowData(Guid CandidateId, string Band, DateTime ObservedAt, double FluxMicroJy, double FluxErrorMicroJy, bool UpperLimit, double? MagAb, double? MagAbError);
 
     private sealed record PhotometryRowData(string Band, DateTime ObservedAt, double FluxMicroJy, double FluxErrorMicroJy, bool UpperLimit, double? MagAb, double? MagAbError)
     {
