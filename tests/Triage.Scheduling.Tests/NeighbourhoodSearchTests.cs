@@ -100,4 +100,21 @@ public class NeighbourhoodSearchTests
         Assert.Throws<ArgumentException>(() => NeighbourhoodSearch.Improve(model,
             twice.Select(j => new PlacedChoice(j, model.Choices[j].EarliestTick)).ToArray()));
     }
+
+    [Fact]
+    public void WithChoicesOf_AddsThePlansChoicesToAPrunedModelAndKeepsItsValue()
+    {
+        var problem = SyntheticPlanningProblem.Create(12, new SyntheticProblemSettings { Candidates = 120, NightHours = 4 });
+        var full = PlanningModel.Compile(problem, new PlanningSettings { UnitsKeptByValue = int.MaxValue, UnitsKeptByDensity = 0, LevelsKeptPerOption = int.MaxValue });
+        var pruned = PlanningModel.Compile(problem, new PlanningSettings { UnitsKeptByValue = 1, UnitsKeptByDensity = 0, LevelsKeptPerOption = 1 });
+        var plan = NeighbourhoodSearch.Improve(full, GreedyPlanner.Solve(full), new NeighbourhoodSearchSettings { Rounds = 200 });
+
+        var (merged, mapped) = pruned.WithChoicesOf(full, plan);
+
+        Assert.Equal(full.ObjectiveOf(plan), merged.ObjectiveOf(mapped), 9);
+        Assert.Equal(full.ToObservations(plan), merged.ToObservations(mapped));
+        Assert.Equal(pruned.Choices, merged.Choices.Take(pruned.Choices.Count));
+        // The tight pruning dropped choices the plan uses; they are now in the model.
+        Assert.True(merged.Choices.Count > pruned.Choices.Count);
+    }
 }

@@ -23,11 +23,11 @@ namespace Triage.Core.Planning;
 /// <summary>Settings of <see cref="NeighbourhoodSearch"/>.</summary>
 public sealed record NeighbourhoodSearchSettings
 {
-    /// <summary>Ruin-and-recreate rounds. Default 3,000.</summary>
-    public int Rounds { get; init; } = 3000;
+    /// <summary>Ruin-and-recreate rounds. Default 20,000.</summary>
+    public int Rounds { get; init; } = 20000;
 
-    /// <summary>Most observations removed in one round. Default 6.</summary>
-    public int MaxRemoved { get; init; } = 6;
+    /// <summary>Most observations removed in one round. Default 10.</summary>
+    public int MaxRemoved { get; init; } = 10;
 
     /// <summary>Starting acceptance threshold as a share of the start plan's value (falls to 0). Default 0.002.</summary>
     public double InitialThresholdShare { get; init; } = 0.002;
@@ -122,6 +122,7 @@ public static class NeighbourhoodSearch
         private readonly double? _costCap;
         private readonly Dictionary<int, List<int>> _savedQueues = [];
         private readonly Dictionary<int, int> _savedAssigned = [];
+        private readonly Dictionary<int, (long From, long To)> _freedSpan = [];
         private double _cost;
         private double _savedCost;
         private double _savedValue;
@@ -168,6 +169,7 @@ public static class NeighbourhoodSearch
 
         public void BeginRound()
         {
+            _freedSpan.Clear();
             _savedQueues.Clear();
             _savedAssigned.Clear();
             _savedCost = _cost;
@@ -294,12 +296,14 @@ public static class NeighbourhoodSearch
         /// <summary>Re-inserts unplanned candidates greedily; those freed this round are tried on every unit.</summary>
         public void Recreate(Random random, List<int> freed, IReadOnlyList<double>? prices)
         {
+            // Unplanned candidates whose window meets the time freed on a unit, and the freed candidates anywhere.
             var pool = new HashSet<int>();
-            foreach (var u in _savedQueues.Keys.ToArray())
+            foreach (var (u, span) in _freedSpan)
             {
                 foreach (var j in _byUnit[u])
                 {
-                    if (_assigned[_choices[j].Candidate] < 0)
+                    var c = _choices[j];
+                    if (_assigned[c.Candidate] < 0 && c.EarliestTick < span.To && c.LatestTick + c.DurationTicks > span.From)
                     {
                         pool.Add(j);
                     }
@@ -342,6 +346,10 @@ public static class NeighbourhoodSearch
             Save(unit);
             var j = _queue[unit][position];
             var c = _choices[j];
+            var start = Starts(unit)![position];
+            _freedSpan[unit] = _freedSpan.TryGetValue(unit, out var span)
+                ? (Math.Min(span.From, start), Math.Max(span.To, start + c.DurationTicks))
+                : (start, start + c.DurationTicks);
             _queue[unit].RemoveAt(position);
             _usedTicks[unit] -= c.DurationTicks;
             _startStale[unit] = true;
