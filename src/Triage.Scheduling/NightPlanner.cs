@@ -39,7 +39,7 @@ public sealed record SolverSettings
     /// <summary>Random seed of the search. Default 17.</summary>
     public int Seed { get; init; } = 17;
 
-    /// <summary>Skip CP-SAT and return the greedy plan (baseline). Default false.</summary>
+    /// <summary>Skip CP-SAT and return the heuristic plan (greedy, then the local search unless <see cref="LocalSearchRounds"/> is 0). Default false.</summary>
     public bool HeuristicOnly { get; init; }
 
     /// <summary>
