@@ -90,6 +90,18 @@ public class NeighbourhoodSearchTests
     }
 
     [Fact]
+    public void Improve_CancelledBeforeStart_ReturnsTheStartPlan()
+    {
+        var problem = SyntheticPlanningProblem.Create(8, new SyntheticProblemSettings { Candidates = 100 });
+        var model = PlanningModel.Compile(problem);
+        var greedy = GreedyPlanner.Solve(model);
+
+        var improved = NeighbourhoodSearch.Improve(model, greedy, null, new CancellationToken(canceled: true));
+
+        Assert.Equal(greedy, improved);
+    }
+
+    [Fact]
     public void Improve_InfeasibleStartPlan_IsRejected()
     {
         var problem = SyntheticPlanningProblem.Create(5, new SyntheticProblemSettings { Candidates = 20 });
