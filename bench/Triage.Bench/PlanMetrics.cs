@@ -16,10 +16,26 @@ public static class PlanMetrics
     /// <summary>Units with R below this count as low-R.</summary>
     public const double LowResolutionBelow = 1000;
 
-    /// <summary>Figures of a plan; "hard" candidates have best low-R expected accuracy below 0.5 (or no low-R option).</summary>
-    public static PlanFigures Of(string name, PlanningProblem problem, IReadOnlyList<PlannedObservation> plan)
+    /// <summary>
+    /// The same problem with every science weight 1 and the accuracy objective: the value of a plan is
+    /// then its expected number of correct identifications, the figure the rules are compared on.
+    /// </summary>
+    public static PlanningProblem CountingCorrectIdentifications(PlanningProblem problem) => problem with
     {
-        var highR = Enumerable.Range(0, problem.Units.Count).MaxBy(u => problem.Units[u].ResolvingPower);
+        Objective = PlanObjective.Accuracy,
+        Candidates = problem.Candidates.Select(c => c with { ScienceWeight = 1 }).ToArray(),
+        Options = problem.Options.Select(o => o with { Levels = o.Levels.Select(l => l with { Value = l.ExpectedAccuracy }).ToArray() }).ToArray(),
+    };
+
+    /// <summary>Plannable candidates whose best low-R expected accuracy (any level, any low-R unit) is below 0.5.</summary>
+    public static int HardAtLowResolution(PlanningProblem problem)
+    {
+        var bestLowR = BestLowResolutionAccuracy(problem);
+        return Enumerable.Range(0, problem.Candidates.Count).Count(c => problem.Candidates[c].Standing == CandidateStanding.Plannable && bestLowR[c] < 0.5);
+    }
+
+    private static double[] BestLowResolutionAccuracy(PlanningProblem problem)
+    {
         var bestLowR = new double[problem.Candidates.Count];
         foreach (var option in problem.Options.Where(o => problem.Units[o.Unit].ResolvingPower < LowResolutionBelow))
         {
@@ -28,6 +44,15 @@ public static class PlanMetrics
                 bestLowR[option.Candidate] = Math.Max(bestLowR[option.Candidate], level.ExpectedAccuracy);
             }
         }
+
+        return bestLowR;
+    }
+
+    /// <summary>Figures of a plan; "hard" candidates have best low-R expected accuracy below 0.5 (or no low-R option).</summary>
+    public static PlanFigures Of(string name, PlanningProblem problem, IReadOnlyList<PlannedObservation> plan)
+    {
+        var highR = Enumerable.Range(0, problem.Units.Count).MaxBy(u => problem.Units[u].ResolvingPower);
+        var bestLowR = BestLowResolutionAccuracy(problem);
 
         double highTime = 0, highHard = 0;
         foreach (var o in plan.Where(o => problem.Options[o.Option].Unit == highR))

@@ -31,6 +31,30 @@ public class PlannerPropertyTests
     }
 
     [Theory]
+    [InlineData(606)]
+    [InlineData(707)]
+    public void Solve_WallClockRunWithParallelSearches_RespectsEveryHardRule(int seed)
+    {
+        // The service's path: two local searches in parallel under a wall-clock limit, then CP-SAT.
+        var problem = SyntheticPlanningProblem.Create(seed, new SyntheticProblemSettings
+        {
+            Candidates = 150,
+            Units = 6,
+            NightHours = 4,
+            BudgetShare = 0.6,
+            NetworkCostCap = 600,
+            PricePerCostUnit = 0.001,
+        });
+
+        var outcome = NightPlanner.Solve(problem, new SolverSettings { TimeLimitSeconds = 1.5, Workers = 2 });
+
+        Assert.NotEmpty(outcome.Observations);
+        PlanChecks.AssertFeasible(problem, outcome.Observations);
+        Assert.Empty(PlanValidator.Violations(problem, outcome.Observations));
+        Assert.True(outcome.Bound >= outcome.Objective - 1e-9);
+    }
+
+    [Theory]
     [InlineData(7)]
     [InlineData(8)]
     public void Solve_SameSeedTwice_GivesTheSamePlan(int seed)

@@ -90,32 +90,12 @@ public sealed class PlanJobHandler(
     /// <summary>Candidates in state new or planned, with their photometry; the planner's id is the service's candidate id.</summary>
     private async Task<List<Candidate>> WaitingCandidatesAsync(IReadOnlySet<string> exclude, CancellationToken ct)
     {
-        var result = new List<Candidate>();
-        foreach (var state in new[] { CandidateState.New, CandidateState.Planned })
-        {
-            Guid? after = null;
-            while (true)
-            {
-                var page = await candidates.ListAsync(new CandidateQuery(state, null, null, null, null, clock.GetUtcNow(), null, after, 500), ct);
-                foreach (var row in page)
-                {
-                    if (exclude.Contains(row.Id.ToString()))
-                    {
-                        continue;
-                    }
-                    if (await candidates.GetAsync(row.Id, ct) is { } detail)
-                    {
-                        result.Add(detail.Candidate with { Id = row.Id.ToString() });
-                    }
-                }
-                if (page.Count < 500)
-                {
-                    break;
-                }
-                after = page[^1].Id;
-            }
-        }
-        return result;
+        // One bulk read of the whole waiting set (rows and photometry), not one query per candidate.
+        var waiting = await candidates.InStatesWithPhotometryAsync([CandidateState.New, CandidateState.Planned], ct);
+        return waiting
+            .Where(w => !exclude.Contains(w.Id.ToString()))
+            .Select(w => w.Candidate with { Id = w.Id.ToString() })
+            .ToList();
     }
 
     private static NightPlan KeepExecuting(NightPlan plan, List<(string SpectrographId, QueueEntry Entry)> kept)

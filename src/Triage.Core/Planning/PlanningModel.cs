@@ -153,6 +153,45 @@ public sealed class PlanningModel
         return new PlanningModel(problem, settings, choices.ToArray(), budgetTicks, before);
     }
 
+    /// <summary>
+    /// This model with the choices a plan of <paramref name="other"/> (same problem and grid) uses
+    /// added, and that plan re-indexed into the result: the solver then starts from a plan found on
+    /// a less pruned model and can only keep or improve it.
+    /// </summary>
+    /// <exception cref="ArgumentException">The models differ in problem or grid.</exception>
+    public (PlanningModel Model, IReadOnlyList<PlacedChoice> Plan) WithChoicesOf(PlanningModel other, IReadOnlyList<PlacedChoice> plan)
+    {
+        ArgumentNullException.ThrowIfNull(other);
+        ArgumentNullException.ThrowIfNull(plan);
+        if (!ReferenceEquals(other.Problem, Problem) || other.StepSeconds != StepSeconds)
+        {
+            throw new ArgumentException("Both models must compile the same problem on the same grid.", nameof(other));
+        }
+
+        var choices = Choices.ToList();
+        var index = new Dictionary<Choice, int>(choices.Count);
+        for (var i = 0; i < choices.Count; i++)
+        {
+            index.TryAdd(choices[i], i);
+        }
+
+        var mapped = new List<PlacedChoice>(plan.Count);
+        foreach (var p in plan)
+        {
+            var c = other.Choices[p.ChoiceIndex];
+            if (!index.TryGetValue(c, out var i))
+            {
+                i = choices.Count;
+                choices.Add(c);
+                index[c] = i;
+            }
+
+            mapped.Add(new PlacedChoice(i, p.StartTick));
+        }
+
+        return (new PlanningModel(Problem, Settings, choices.ToArray(), BudgetTicks.ToArray(), ChoicesBeforePruning), mapped);
+    }
+
     /// <summary>Net value of a set of placed choices.</summary>
     public double ObjectiveOf(IEnumerable<PlacedChoice> placed) => placed.Sum(p => Choices[p.ChoiceIndex].NetValue);
 

@@ -434,10 +434,14 @@ public sealed class CandidateStore(NpgsqlDataSource dataSource)
         return rows.Select(r => r.ToRow()).ToList();
     }
 
-    private const string GetSql = $"""
-        SELECT {ListColumns}, redshift_error AS RedshiftError, subtype_probabilities::text AS SubtypeProbabilities,
+    private const string DetailColumns = $"""
+        {ListColumns}, redshift_error AS RedshiftError, subtype_probabilities::text AS SubtypeProbabilities,
             notes AS Notes, broker_state::text AS BrokerState, data_version AS DataVersion, fit_version AS FitVersion,
             fit::text AS Fit, prior::text AS Prior
+        """;
+
+    private const string GetSql = $"""
+        SELECT {DetailColumns}
         FROM candidates WHERE id = @id;
         SELECT band AS Band, observed_at AS ObservedAt, flux_microjy AS FluxMicroJy, flux_error_microjy AS FluxErrorMicroJy,
             upper_limit AS UpperLimit, mag_ab AS MagAb, mag_ab_error AS MagAbError
@@ -463,8 +467,32 @@ public sealed class CandidateStore(NpgsqlDataSource dataSource)
         var events = (await grid.ReadAsync<EventRowData>()).Select(e => new CandidateEventRow(Utc.From(e.At), e.Kind, e.FromState, e.ToState, e.Actor, e.Detail)).ToList();
         var reports = (await grid.ReadAsync<ReportRowData>()).Select(r => new ObservationReportRow(
             r.Id, r.SpectrographId, r.Outcome, r.AchievedSnr, r.ClassifiedLabel, Utc.From(r.ObservedAt), Utc.From(r.ReportedAt), r.Reporter)).ToList();
-        var summary = row.ToRow();
-        return new CandidateDetail(summary, row.ToCandidate(photometry), row.DataVersion, row.FitVersion, row.Fit, row.Prior, events, reports);
+        return new CandidateDetail(row.ToRow(), row.ToCandidate(photometry), row.DataVersion, row.FitVersion, row.Fit, row.Prior, events, reports);
+    }
+
+    private const string InStatesSql = $"""
+        SELECT {DetailColumns}
+        FROM candidates WHERE state = ANY(@states) ORDER BY id;
+        SELECT p.candidate_id AS CandidateId, p.band AS Band, p.observed_at AS ObservedAt, p.flux_microjy AS FluxMicroJy,
+            p.flux_error_microjy AS FluxErrorMicroJy, p.upper_limit AS UpperLimit, p.mag_ab AS MagAb, p.mag_ab_error AS MagAbError
+        FROM candidate_photometry p JOIN candidates c ON c.id = p.candidate_id
+        WHERE c.state = ANY(@states) ORDER BY p.candidate_id, p.observed_at, p.band;
+        """;
+
+    /// <summary>
+    /// Every candidate in one of <paramref name="states"/> with its photometry, in one round trip
+    /// (the planner reads the whole waiting set at once), ordered by id.
+    /// </summary>
+    public async Task<IReadOnlyList<(Guid Id, Candidate Candidate)>> InStatesWithPhotometryAsync(
+        IReadOnlyCollection<CandidateState> states, CancellationToken ct = default)
+    {
+        ArgumentNullException.ThrowIfNull(states);
+        await using var conn = await dataSource.OpenConnectionAsync(ct);
+        await using var grid = await conn.QueryMultipleAsync(new CommandDefinition(InStatesSql,
+            new { states = states.Select(CandidateLifecycle.Name).ToArray() }, cancellationToken: ct));
+        var rows = (await grid.ReadAsync<DetailRowData>()).ToList();
+        var photometry = (await grid.ReadAsync<OwnedPhotometryRowData>()).ToLookup(p => p.CandidateId, p => p.Point.ToPoint());
+        return rows.Select(r => (r.Id, r.ToCandidate(photometry[r.Id].ToList()))).ToList();
     }
 
     private const string PendingSql = $"""
@@ -492,7 +520,7 @@ public sealed class CandidateStore(NpgsqlDataSource dataSource)
         {
             return [];
         }
-        var points = (await conn.QueryAsync<PendingPhotometryRowData>(new CommandDefinition(PendingPhotometrySql,
+        var points = (await conn.QueryAsync<OwnedPhotometryRowData>(new CommandDefinition(PendingPhotometrySql,
                 new { ids = rows.Select(r => r.Id).ToArray() }, cancellationToken: ct)))
             .ToLookup(p => p.CandidateId, p => p.Point.ToPoint());
         return rows.Select(r => new PendingFit(r.Id, r.DataVersion, r.ToCandidate(points[r.Id].ToList()))).ToList();
@@ -681,7 +709,7 @@ public sealed class CandidateStore(NpgsqlDataSource dataSource)
                 BrokerState is null ? null : JsonSerializer.Deserialize<BrokerState>(BrokerState, BrokerBatchJson.Options));
     }
 
-    private sealed class PendingPhotometryRowData
+    private sealed class OwnedPhotometryRowData
     {
         public Guid CandidateId { get; init; }
         public string Band { get; init; } = "";

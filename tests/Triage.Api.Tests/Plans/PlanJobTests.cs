@@ -5,7 +5,9 @@ using Microsoft.Extensions.DependencyInjection;
 using Triage.Api.Tests.Infrastructure;
 using Triage.Core.Roster;
 using Triage.Storage.Access;
+using Triage.Core.Candidates;
 using Triage.Storage.Calibrations;
+using Triage.Storage.Candidates;
 using Triage.Storage.Roster;
 
 namespace Triage.Api.Tests.Plans;
@@ -65,6 +67,28 @@ public sealed class PlanJobTests(IsolatedDatabaseFactory api) : IClassFixture<Is
             await Task.Delay(200);
         }
         throw new TimeoutException("the plan job did not finish");
+    }
+
+    [Fact]
+    public async Task WaitingCandidates_OneBulkRead_MatchesTheOneByOneReads()
+    {
+        await ArrangeAsync();
+        var store = api.Services.GetRequiredService<CandidateStore>();
+
+        var bulk = await store.InStatesWithPhotometryAsync([CandidateState.New, CandidateState.Planned]);
+
+        Assert.True(bulk.Count >= 80, $"{bulk.Count} candidates read");
+        Assert.Equal(bulk.Select(b => b.Id).Order(), bulk.Select(b => b.Id));
+        foreach (var (id, candidate) in bulk)
+        {
+            var single = (await store.GetAsync(id))!;
+            Assert.Contains(single.Summary.State, new[] { "new", "planned" });
+            Assert.Equal(single.Candidate.Id, candidate.Id);
+            Assert.Equal(single.Candidate.ScienceWeight, candidate.ScienceWeight);
+            Assert.Equal(single.Candidate.DiscoveredUtc, candidate.DiscoveredUtc);
+            Assert.Equal(single.Candidate.Photometry, candidate.Photometry);
+            Assert.NotEmpty(candidate.Photometry);
+        }
     }
 
     [Fact]
