@@ -52,33 +52,15 @@ internal sealed class BadRequestProblemHandler(IProblemDetailsService problems, 
         {
             // Too busy to get a database connection in time: say so, and when to come back, instead of a 500.
             log.LogWarning("Database busy on {Route}: {Reason}", http.Request.Path.Value, exception.Message);
-            http.Response.StatusCode = StatusCodes.Status503ServiceUnavailable;
             http.Response.Headers.RetryAfter = "1";
-            return await problems.TryWriteAsync(new ProblemDetailsContext
-            {
-                HttpContext = http,
-                ProblemDetails = new ProblemDetails
-                {
-                    Status = 503,
-                    Title = "Service busy",
-                    Detail = "The database could not take the request in time; nothing was stored. Retry after a second.",
-                },
-            });
+            return await WriteAsync(http, StatusCodes.Status503ServiceUnavailable, "Service busy",
+                "The database could not take the request in time; nothing was stored. Retry after a second.");
         }
         if (exception is not BadHttpRequestException bad)
         {
             log.LogError(exception, "Unhandled error on {Route}", http.Request.Path.Value);
-            http.Response.StatusCode = StatusCodes.Status500InternalServerError;
-            return await problems.TryWriteAsync(new ProblemDetailsContext
-            {
-                HttpContext = http,
-                ProblemDetails = new ProblemDetails
-                {
-                    Status = 500,
-                    Title = "Internal error",
-                    Detail = "The request could not be completed; nothing was changed by the failing step. The request id identifies it in the logs.",
-                },
-            });
+            return await WriteAsync(http, StatusCodes.Status500InternalServerError, "Internal error",
+                "The request could not be completed; nothing was changed by the failing step. The request id identifies it in the logs.");
         }
 
         var (field, message) = Describe(bad);
@@ -97,6 +79,16 @@ internal sealed class BadRequestProblemHandler(IProblemDetailsService problems, 
         };
         http.Response.StatusCode = status;
         return await problems.TryWriteAsync(new ProblemDetailsContext { HttpContext = http, ProblemDetails = details });
+    }
+
+    private ValueTask<bool> WriteAsync(HttpContext http, int status, string title, string detail)
+    {
+        http.Response.StatusCode = status;
+        return problems.TryWriteAsync(new ProblemDetailsContext
+        {
+            HttpContext = http,
+            ProblemDetails = new ProblemDetails { Status = status, Title = title, Detail = detail },
+        });
     }
 
     /// <summary>Connection pool exhausted, connection attempt timed out, or the server out of connection slots.</summary>
