@@ -522,6 +522,21 @@ public sealed class ResolutionSlice
     public bool ResolutionClamped { get; }
 
     /// <summary>
+    /// The largest recall of any subtype at any S/N and phase bin of this slice, 0…1: no expected
+    /// accuracy at this R can exceed it (<see cref="Evaluate"/> averages recalls with weights summing to at most 1).
+    /// </summary>
+    public double MaxRecall()
+    {
+        var best = 0.0;
+        foreach (var r in _recall)
+        {
+            best = Math.Max(best, r);
+        }
+
+        return Math.Clamp(best, 0, 1);
+    }
+
+    /// <summary>
     /// Expected accuracy and information gain of one spectrum at S/N <paramref name="snr"/>
     /// (per resolution element) for a candidate with prior <paramref name="alignedPrior"/>
     /// (from <see cref="AccuracySurface.AlignPrior"/>) and phase belief <paramref name="phase"/>.

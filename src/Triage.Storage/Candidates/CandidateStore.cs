@@ -69,7 +69,7 @@ public enum ReportOutcome
 /// batch is stored whole or not at all and concurrent retries of the same batch never duplicate
 /// a candidate or a photometry point.
 /// </summary>
-public sealed class CandidateStore(NpgsqlDataSource dataSource)
+public sealed partial class CandidateStore(NpgsqlDataSource dataSource)
 {
     // The staging table lives for one transaction. JIT is off for the merge: the planner cannot
     // know the staging table's size, and compiling cost more than it saved.
