@@ -33,6 +33,8 @@ public sealed class PlanJobHandler(
     {
         var input = JsonSerializer.Deserialize<PlanJobInput>(inputJson, Triage.Api.Operations.OperationsSetup.JobJson)
             ?? throw new JobInputException("The job input is empty.");
+        var phases = new PhaseTimer(progress, clock);
+        progress = phases;
         progress.Report(new JobProgress(0.02, "reading the active calibration"));
         var active = await calibrations.GetAsync(null, ct)
             ?? throw new JobInputException("No calibration is active: request one (POST /api/calibrations) or import a table first.");
@@ -85,8 +87,8 @@ public sealed class PlanJobHandler(
             input.Night, input.FromUtc ?? clock.GetUtcNow(), input.Objective.ToString().ToLowerInvariant(), plan.Summary.Status.ToString().ToLowerInvariant(),
             plan.Summary.ExpectedCorrectIdentifications, plan.Summary.Assigned, null, active.Row.Id, PlanJson.Serialize(plan)), clock.GetUtcNow(), ct);
         await MarkPlannedAsync(plan, ct);
-        log.LogInformation("Planned {Assigned} of {Candidates} candidates for {Night} as version {Version}",
-            plan.Summary.Assigned, plan.Summary.Candidates, input.Night, row.Version);
+        log.LogInformation("Planned {Assigned} of {Candidates} candidates for {Night} as version {Version}; seconds per step: {Steps}",
+            plan.Summary.Assigned, plan.Summary.Candidates, input.Night, row.Version, phases.Summary());
         return JsonSerializer.Serialize(new
         {
             night = input.Night.ToString("yyyy-MM-dd", System.Globalization.CultureInfo.InvariantCulture),
@@ -170,4 +172,32 @@ public sealed class PlannerOptions
 {
     /// <summary>Most candidates fitted and handed to the solver per plan (see <see cref="CandidatePool"/>). Default 2,000.</summary>
     public int MaxPoolCandidates { get; set; } = 2000;
+}
+
+/// <summary>Passes progress on and remembers how long each step (the time between two reports) took, for the log.</summary>
+internal sealed class PhaseTimer(IProgress<JobProgress> inner, TimeProvider clock) : IProgress<JobProgress>
+{
+    private readonly long _started = clock.GetTimestamp();
+    private readonly List<(string Note, long At)> _marks = [];
+
+    public void Report(JobProgress value)
+    {
+        lock (_marks)
+        {
+            _marks.Add((value.Note ?? "", clock.GetTimestamp()));
+        }
+        inner.Report(value);
+    }
+
+    /// <summary>"step: seconds; …" up to now.</summary>
+    public string Summary()
+    {
+        lock (_marks)
+        {
+            var now = clock.GetTimestamp();
+            return string.Join("; ", _marks.Select((m, i) => string.Create(System.Globalization.CultureInfo.InvariantCulture,
+                $"{m.Note}: {clock.GetElapsedTime(m.At, i + 1 < _marks.Count ? _marks[i + 1].At : now).TotalSeconds:F2}")))
+                + string.Create(System.Globalization.CultureInfo.InvariantCulture, $" (total {clock.GetElapsedTime(_started, now).TotalSeconds:F2})");
+        }
+    }
 }

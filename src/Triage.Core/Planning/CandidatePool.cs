@@ -48,7 +48,7 @@ public sealed record CandidatePoolSettings
 }
 
 /// <summary>The pool and the record of the cut.</summary>
-/// <param name="Kept">Ids handed to the planner, in order of decreasing bound (those that must stay first).</param>
+/// <param name="Kept">Ids handed to the planner: those that must stay (by id), then the rest in order of decreasing bound.</param>
 /// <param name="Report">How many were considered, kept and left out, and why.</param>
 public sealed record CandidatePoolSelection(IReadOnlyList<string> Kept, CandidatePoolReport Report);
 
@@ -111,39 +111,51 @@ public static class CandidatePool
         settings ??= new CandidatePoolSettings();
         var (bounds, why) = Evaluate(sites, spectrographs, surface, night, nowUtc, candidates, objective, build, settings);
 
-        var order = Enumerable.Range(0, candidates.Count)
-            .OrderByDescending(c => mustKeep.Contains(candidates[c].Id))
-            .ThenByDescending(c => bounds[c])
-            .ThenBy(c => candidates[c].Id, StringComparer.Ordinal)
-            .ToArray();
+        // Those that must stay first; then the cap's worth of the rest, found by the bound at the
+        // cap's rank (a sort of plain numbers), ties at that bound broken by id.
         var kept = new List<string>();
-        var fromPrevious = 0;
-        double? cut = null;
-        var belowCut = 0;
-        foreach (var c in order)
+        var eligible = new List<int>();
+        for (var c = 0; c < candidates.Count; c++)
         {
-            var id = candidates[c].Id;
-            if (mustKeep.Contains(id))
+            if (mustKeep.Contains(candidates[c].Id))
             {
-                kept.Add(id);
-                fromPrevious++;
+                kept.Add(candidates[c].Id);
             }
-            else if (why[c] != Exclusion.None)
+            else if (why[c] == Exclusion.None)
             {
-                continue;
-            }
-            else if (kept.Count < settings.MaxCandidates)
-            {
-                kept.Add(id);
-                cut = bounds[c];
-            }
-            else
-            {
-                belowCut++;
+                eligible.Add(c);
             }
         }
 
-        int Count(Exclusion e) => Enumerable.Range(0, candidates.Count).Count(c => why[c] == e && !mustKeep.Contains(candidates[c].Id));
+        kept.Sort(StringComparer.Ordinal);
+        var fromPrevious = kept.Count;
+        var room = Math.Max(0, settings.MaxCandidates - kept.Count);
+        var chosen = eligible;
+        if (eligible.Count > room)
+        {
+            var sorted = eligible.Select(c => bounds[c]).ToArray();
+            Array.Sort(sorted);
+            var threshold = room == 0 ? double.PositiveInfinity : sorted[^room];
+            var above = eligible.Where(c => bounds[c] > threshold).ToList();
+            var ties = eligible.Where(c => bounds[c] == threshold).OrderBy(c => candidates[c].Id, StringComparer.Ordinal).Take(room - above.Count);
+            chosen = [.. above, .. ties];
+        }
+
+        var ranked = chosen.OrderByDescending(c => bounds[c]).ThenBy(c => candidates[c].Id, StringComparer.Ordinal).ToList();
+        kept.AddRange(ranked.Select(c => candidates[c].Id));
+        double? cut = ranked.Count > 0 ? bounds[ranked[^1]] : null;
+        var belowCut = eligible.Count - ranked.Count;
+
+        var counts = new int[4];
+        for (var c = 0; c < candidates.Count; c++)
+        {
+            if (why[c] != Exclusion.None && !mustKeep.Contains(candidates[c].Id))
+            {
+                counts[(int)why[c]]++;
+            }
+        }
+
+        int Count(Exclusion e) => counts[(int)e];
         var neverVisible = Count(Exclusion.NeverVisible);
         var noMagnitude = Count(Exclusion.NoMagnitude);
         var tooFaint = Count(Exclusion.TooFaint);

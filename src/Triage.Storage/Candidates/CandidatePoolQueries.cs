@@ -38,14 +38,12 @@ public sealed record PoolRow(
 
 public sealed partial class CandidateStore
 {
-    // One row per waiting candidate; the peak flux comes from the photometry key's index, one
-    // short range per candidate, so no photometry row travels to the service.
+    // One row per waiting candidate from the candidate rows alone (the peak is kept by the intake
+    // merge). JIT is off: compiling the scan took longer than running it.
     private const string PoolSql = """
-        SELECT c.id AS Id, c.ra_deg AS RaDeg, c.dec_deg AS DecDeg, c.science_weight AS ScienceWeight,
-            (SELECT max(p.flux_microjy) FROM candidate_photometry p
-             WHERE p.candidate_id = c.id AND NOT p.upper_limit AND p.flux_microjy > 0) AS PeakFluxMicroJy,
-            c.predicted_mag AS PredictedMag, c.predicted_mag_rate AS PredictedMagRate, c.fitted_at AS FittedAt
-        FROM candidates c WHERE c.state = ANY(@states)
+        SELECT id AS Id, ra_deg AS RaDeg, dec_deg AS DecDeg, science_weight AS ScienceWeight, peak_flux_microjy AS PeakFluxMicroJy,
+            predicted_mag AS PredictedMag, predicted_mag_rate AS PredictedMagRate, fitted_at AS FittedAt
+        FROM candidates WHERE state = ANY(@states)
         """;
 
     /// <summary>A light row (no photometry) for every candidate in one of <paramref name="states"/>.</summary>
@@ -53,8 +51,11 @@ public sealed partial class CandidateStore
     {
         ArgumentNullException.ThrowIfNull(states);
         await using var conn = await dataSource.OpenConnectionAsync(ct);
+        await using var tx = await conn.BeginTransactionAsync(ct);
+        await conn.ExecuteAsync(new CommandDefinition("SET LOCAL jit = off", transaction: tx, cancellationToken: ct));
         var rows = await conn.QueryAsync<PoolRowData>(new CommandDefinition(PoolSql,
-            new { states = states.Select(CandidateLifecycle.Name).ToArray() }, cancellationToken: ct));
+            new { states = states.Select(CandidateLifecycle.Name).ToArray() }, tx, cancellationToken: ct));
+        await tx.CommitAsync(ct);
         return rows.Select(r => new PoolRow(r.Id, r.RaDeg, r.DecDeg, r.ScienceWeight, r.PeakFluxMicroJy, r.PredictedMag, r.PredictedMagRate,
             r.FittedAt is { } f ? Utc.From(f) : null)).ToList();
     }
