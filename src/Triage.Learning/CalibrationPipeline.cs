@@ -139,6 +139,7 @@ public static class CalibrationPipeline
             BroadClasses = taxonomy.Classes.Select(c => new BroadClass(c.Name, c.Subtypes.Where(subtypes.Contains).ToArray()))
                 .Where(c => c.Subtypes.Count > 0).ToArray(),
             Summaries = summaries,
+            EqualExposure = EqualExposureView.Build(summaries),
             Baselines = CalibrationScoring.Baselines(spectra.Select(s => s.Subtype).ToArray(), subtypes, taxonomy),
             MinimumResolution = MinimumResolutionTable.Build(
                 settings.SnrLevels.SelectMany((snr, si) => CalibrationScoring.Paired(spectra.Select(s => (s.ObjectId, s.Subtype)).ToArray(),

@@ -81,6 +81,12 @@ public sealed record AccuracyModelDocument(
     /// <summary>Where the numbers came from: library fingerprint, settings, code version.</summary>
     public CalibrationProvenance? Provenance { get; init; }
 
+    /// <summary>
+    /// The equal-exposure view: accuracy along curves of fixed photons per Å (S/N per element ∝ √(R_ref/R)), see
+    /// <see cref="EqualExposureView"/>. Empty in documents written before it existed.
+    /// </summary>
+    public IReadOnlyList<EqualExposurePoint> EqualExposure { get; init; } = [];
+
     /// <summary>True when computed from a synthetic (demo) library.</summary>
     public bool Synthetic { get; init; }
 }
