@@ -23,6 +23,7 @@ builder.Services.AddPlans();
 builder.Services.AddCalibrations();
 builder.Services.AddSky();
 builder.Services.AddTriageCompression();
+builder.Services.AddDatabaseNotifications(builder.Configuration);
 
 var app = builder.Build();
 app.UseTriageProblems();

@@ -55,6 +55,9 @@ public sealed class KeyCache(KeyStore keys, TimeProvider clock, KeyCacheOptions 
         return key;
     }
 
+    /// <summary>Forgets every key (the notification listener reconnected and may have missed a revocation).</summary>
+    public void ForgetAll() => _entries.Clear();
+
     /// <summary>Forgets a key at once (after it was revoked here).</summary>
     public void Forget(Guid keyId)
     {
