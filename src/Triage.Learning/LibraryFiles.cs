@@ -3,7 +3,7 @@ using Triage.Core.Spectra;
 
 namespace Triage.Learning;
 
-/// <summary>File-system adapter for spectral libraries: a folder with manifest.csv and text spectra.</summary>
+/// <summary>File-system adapter for spectral libraries: a folder with manifest.csv and text or FITS spectra.</summary>
 public static class LibraryFiles
 {
     /// <summary>Reads and validates the library in <paramref name="folder"/> (all-or-nothing).</summary>
@@ -18,7 +18,7 @@ public static class LibraryFiles
         return LibraryImport.Import(reader, file =>
         {
             string path = Path.GetFullPath(Path.Combine(root, file));
-            return File.Exists(path) ? new StreamReader(path, Encoding.UTF8) : null;
+            return File.Exists(path) ? new FileStream(path, FileMode.Open, FileAccess.Read, FileShare.Read, 1 << 16) : null;
         }, taxonomy, options);
     }
 
