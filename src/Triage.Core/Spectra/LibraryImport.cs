@@ -268,12 +268,19 @@ public static class LibraryImport
     }
 
     /// <summary>Writes a manifest for <paramref name="library"/> with leading comment lines.</summary>
-    public static void WriteManifest(TextWriter writer, SpectralLibrary library, IEnumerable<string> comments)
+    /// <param name="exact">False (default): phases to 0.01 d, redshifts to 5 decimals. True: round-trip values, quoted CSV fields where needed.</param>
+    public static void WriteManifest(TextWriter writer, SpectralLibrary library, IEnumerable<string> comments, bool exact = false)
     {
         foreach (var c in comments) writer.Write("# " + c + "\n");
         writer.Write("file,object_id,subtype,phase_days,redshift,source_resolution\n");
         foreach (var s in library.Spectra)
-            writer.Write(string.Create(CultureInfo.InvariantCulture,
-                $"{s.File},{s.ObjectId},{s.Subtype},{s.PhaseDays:0.##},{s.Redshift:0.#####},{s.SourceResolution}\n"));
+            writer.Write(exact
+                ? string.Create(CultureInfo.InvariantCulture,
+                    $"{Csv(s.File)},{Csv(s.ObjectId)},{Csv(s.Subtype)},{s.PhaseDays:R},{s.Redshift:R},{s.SourceResolution:R}\n")
+                : string.Create(CultureInfo.InvariantCulture,
+                    $"{s.File},{s.ObjectId},{s.Subtype},{s.PhaseDays:0.##},{s.Redshift:0.#####},{s.SourceResolution}\n"));
     }
+
+    private static string Csv(string field) =>
+        field.IndexOfAny([',', '"', '\n', '\r']) >= 0 || field != field.Trim() ? "\"" + field.Replace("\"", "\"\"") + "\"" : field;
 }

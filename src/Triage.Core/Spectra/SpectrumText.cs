@@ -138,17 +138,22 @@ public static class SpectrumText
     }
 
     /// <summary>Writes the plain-text format with optional leading comment lines.</summary>
-    public static void Write(TextWriter writer, Spectrum spectrum, IEnumerable<string>? comments = null)
+    /// <param name="exact">
+    /// False (default): wavelengths to 0.001 Å, flux to 6 and errors to 4 significant digits (compact).
+    /// True: every value in its shortest round-trip form, so that reading the file back gives the same doubles.
+    /// </param>
+    public static void Write(TextWriter writer, Spectrum spectrum, IEnumerable<string>? comments = null, bool exact = false)
     {
         foreach (var c in comments ?? []) writer.Write("# " + c + "\n");
         var sb = new StringBuilder(32);
+        string wf = exact ? "R" : "0.###", ff = exact ? "R" : "G6", ef = exact ? "R" : "G4";
         for (int i = 0; i < spectrum.Count; i++)
         {
             sb.Clear();
-            sb.Append(spectrum.WavelengthAngstrom[i].ToString("0.###", CultureInfo.InvariantCulture)).Append(' ')
-              .Append(spectrum.Flux[i].ToString("G6", CultureInfo.InvariantCulture));
+            sb.Append(spectrum.WavelengthAngstrom[i].ToString(wf, CultureInfo.InvariantCulture)).Append(' ')
+              .Append(spectrum.Flux[i].ToString(ff, CultureInfo.InvariantCulture));
             if (spectrum.FluxError is { } err)
-                sb.Append(' ').Append(err[i].ToString("G4", CultureInfo.InvariantCulture));
+                sb.Append(' ').Append(err[i].ToString(ef, CultureInfo.InvariantCulture));
             sb.Append('\n');
             writer.Write(sb);
         }
