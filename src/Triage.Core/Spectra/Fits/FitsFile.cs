@@ -99,7 +99,8 @@ public static class FitsFile
         {
             string k = "NAXIS" + i.ToString(CultureInfo.InvariantCulture);
             long n = h.RequiredInteger(k, 0, int.MaxValue);
-            product = n == 0 || product > MaxDataBytes ? (n == 0 ? 0 : product) : product * n;
+            // Clamped so that a hostile header cannot overflow the size; anything above the cap is refused anyway.
+            product = Math.Min(product * n, MaxDataBytes + 1);
             sizeKeyword = k;
         }
         if (index == 0 && naxis > 0 && h.Integer("NAXIS1") == 0 && h["GROUPS"] is true)

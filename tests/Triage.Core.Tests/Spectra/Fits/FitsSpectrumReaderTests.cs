@@ -162,6 +162,17 @@ public sealed class FitsSpectrumReaderTests
     }
 
     [Fact]
+    public void Read_HugeAxesInTheHeader_AreRefusedWithoutAllocating()
+    {
+        string[] cards = ["SIMPLE  =                    T", "BITPIX  =                  -64", "NAXIS   =                    2",
+                          "NAXIS1  =           2147483647", "NAXIS2  =           2147483647", "END"];
+        var bytes = System.Text.Encoding.ASCII.GetBytes(string.Concat(cards.Select(c => c.PadRight(80))).PadRight(2880));
+        var ex = Assert.Throws<FitsFormatException>(() => FitsSpectrumReader.Read(new MemoryStream(bytes), null, new SpectrumReadOptions()));
+        Assert.Equal("NAXIS2", ex.Keyword);
+        Assert.Contains("too large", ex.Message, StringComparison.Ordinal);
+    }
+
+    [Fact]
     public void Read_TooLittleCoverage_IsRefusedLikeText()
     {
         var ms = new MemoryStream();
