@@ -40,6 +40,8 @@ public static class OperationsSetup
     {
         o.PropertyNamingPolicy = JsonNamingPolicy.CamelCase;
         o.UnmappedMemberHandling = JsonUnmappedMemberHandling.Disallow;
+        o.AllowDuplicateProperties = false;
+        o.Converters.Add(new Triage.Api.Errors.CleanTextConverter());
         o.NumberHandling = JsonNumberHandling.Strict;
         o.Converters.Add(new JsonStringEnumConverter(JsonNamingPolicy.KebabCaseLower, allowIntegerValues: false));
     }
@@ -49,6 +51,11 @@ public static class OperationsSetup
         app.UseSerilogRequestLogging(o =>
         {
             o.MessageTemplate = "HTTP {RequestMethod} {Route} answered {StatusCode} in {Elapsed:0.0} ms";
+            // Refusals inside a failed-authentication burst are logged by the burst, not one line each.
+            o.GetLevel = (http, _, exception) =>
+                http.Items.ContainsKey(FailedAuthenticationLimit.QuietItem) ? Serilog.Events.LogEventLevel.Verbose
+                : exception is not null || http.Response.StatusCode >= 500 ? Serilog.Events.LogEventLevel.Error
+                : Serilog.Events.LogEventLevel.Information;
             o.EnrichDiagnosticContext = (diag, http) =>
             {
                 diag.Set("RequestId", http.TraceIdentifier);
@@ -65,8 +72,9 @@ public static class OperationsSetup
 
     public static WebApplication MapOperations(this WebApplication app)
     {
-        app.MapHealthChecks("/health/live", new HealthCheckOptions { Predicate = _ => false }).WithTags("Operations");
-        app.MapHealthChecks("/health/ready", new HealthCheckOptions { Predicate = c => c.Tags.Contains("ready") }).WithTags("Operations");
+        // Liveness never touches the database; neither health check ever authenticates (a stray Authorization header is ignored).
+        app.MapHealthChecks("/health/live", new HealthCheckOptions { Predicate = _ => false }).WithTags("Operations").AllowAnonymous();
+        app.MapHealthChecks("/health/ready", new HealthCheckOptions { Predicate = c => c.Tags.Contains("ready") }).WithTags("Operations").AllowAnonymous();
         app.MapOpenApi("/openapi/{documentName}.json");
         return app;
     }

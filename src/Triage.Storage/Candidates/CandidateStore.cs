@@ -611,6 +611,35 @@ public sealed class CandidateStore(NpgsqlDataSource dataSource)
         return (from, true);
     }
 
+    private const string MoveManySql = """
+        WITH old AS (
+            SELECT id FROM candidates WHERE id = ANY(@ids) AND state = @from ORDER BY id FOR UPDATE
+        ), moved AS (
+            UPDATE candidates c SET state = @to, version = c.version + 1, updated_at = @now
+            FROM old WHERE c.id = old.id
+            RETURNING c.id
+        )
+        INSERT INTO candidate_events (candidate_id, at, kind, from_state, to_state, actor, detail)
+        SELECT id, @now, 'transition', @from, @to, @actor, @detail FROM moved
+        """;
+
+    /// <summary>
+    /// Moves the candidates among <paramref name="ids"/> that are in state <paramref name="from"/> to
+    /// <paramref name="to"/> inside the caller's transaction (e.g. the one storing the plan version that
+    /// schedules them), recording one event each. Returns how many moved.
+    /// </summary>
+    public static Task<int> MoveWithinAsync(NpgsqlConnection conn, NpgsqlTransaction tx, IReadOnlyCollection<Guid> ids,
+        CandidateState from, CandidateState to, string actor, string? reason, DateTimeOffset now, CancellationToken ct = default) =>
+        conn.ExecuteAsync(new CommandDefinition(MoveManySql, new
+        {
+            ids = ids.ToArray(),
+            from = CandidateLifecycle.Name(from),
+            to = CandidateLifecycle.Name(to),
+            now = now.UtcDateTime,
+            actor,
+            detail = reason,
+        }, tx, cancellationToken: ct));
+
     private static Task InsertEventAsync(NpgsqlConnection conn, NpgsqlTransaction tx, Guid id, DateTimeOffset now, string kind,
         string from, CandidateState to, string actor, string? detail, CancellationToken ct) =>
         conn.ExecuteAsync(new CommandDefinition(EventSql, new
