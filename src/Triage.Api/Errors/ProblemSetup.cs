@@ -245,7 +245,7 @@ internal static partial class ParameterBinding
 }
 
 /// <summary>Removes .NET type names from messages that reach callers.</summary>
-internal static partial class TypeNames
+public static partial class TypeNames
 {
     [GeneratedRegex(@"\s*(for|of|to) type '[^']*'")]
     private static partial Regex OfType();

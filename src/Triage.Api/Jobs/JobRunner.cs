@@ -25,6 +25,7 @@ public sealed class JobRunner(
             return;
         }
         await Task.Yield();
+        DateTimeOffset? unavailableSince = null;
         while (!stoppingToken.IsCancellationRequested)
         {
             try
@@ -35,6 +36,11 @@ public sealed class JobRunner(
                     log.LogWarning("Recovered {Count} jobs interrupted by a restart", recovered);
                 }
                 var job = await store.ClaimNextAsync(_handlers.Keys, clock.GetUtcNow(), stoppingToken);
+                if (unavailableSince is { } since)
+                {
+                    log.LogInformation("Job worker reached the database again after {Seconds:0.0} s", (clock.GetUtcNow() - since).TotalSeconds);
+                    unavailableSince = null;
+                }
                 if (job is null)
                 {
                     await Task.Delay(o.PollInterval, clock, stoppingToken);
@@ -46,9 +52,20 @@ public sealed class JobRunner(
             {
                 return;
             }
+            catch (Exception e) when (DatabaseFaults.IsUnavailable(e))
+            {
+                // The database is away: one line when it goes, one when it is back, polls backing off to 5 s meanwhile.
+                if (unavailableSince is null)
+                {
+                    unavailableSince = clock.GetUtcNow();
+                    log.LogWarning("Job worker cannot reach the database ({Reason}); retrying", e.Message);
+                }
+                var waited = clock.GetUtcNow() - unavailableSince.Value;
+                await Task.Delay(TimeSpan.FromTicks(Math.Clamp(waited.Ticks, o.PollInterval.Ticks, TimeSpan.FromSeconds(5).Ticks)), clock, stoppingToken);
+                continue;
+            }
             catch (Exception e)
             {
-                // The database may be briefly unreachable; try again shortly.
                 log.LogError(e, "Job worker loop failed; retrying");
                 await Task.Delay(o.PollInterval, clock, stoppingToken);
             }

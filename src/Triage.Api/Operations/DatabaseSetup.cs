@@ -25,8 +25,8 @@ public sealed record DatabaseLimits
     /// <summary>Longest a statement waits for a lock (default 3 s; 0 = no limit), so one held table lock cannot starve the pool.</summary>
     public double LockTimeoutSeconds { get; init; } = 3;
 
-    /// <summary>Longest a request waits for a pooled connection or a new one, unless the connection string sets <c>Timeout</c> (default 5 s).</summary>
-    public int ConnectionWaitSeconds { get; init; } = 5;
+    /// <summary>Longest a request waits for a pooled connection or a new one, unless the connection string sets <c>Timeout</c> (default 15 s, Npgsql's own).</summary>
+    public int ConnectionWaitSeconds { get; init; } = 15;
 
     /// <summary>Longest the readiness check waits for the database before it reports unhealthy (default 2 s).</summary>
     public double ReadyCheckSeconds { get; init; } = 2;

@@ -14,6 +14,7 @@ public static class OperationsSetup
     {
         builder.Services.AddSerilog((services, lc) => lc
             .ReadFrom.Configuration(builder.Configuration)
+            .ReadFrom.Services(services) // extra sinks registered as services (the tests' capture)
             .Enrich.FromLogContext()
             .WriteTo.Console(new CompactJsonFormatter()));
         return builder;
@@ -51,6 +52,8 @@ public static class OperationsSetup
         app.UseSerilogRequestLogging(o =>
         {
             o.MessageTemplate = "HTTP {RequestMethod} {Route} answered {StatusCode} in {Elapsed:0.0} ms";
+            // This host's logger, not the process-wide static one (several hosts share a test process).
+            o.Logger = app.Services.GetService<Serilog.ILogger>()?.ForContext(Serilog.Core.Constants.SourceContextPropertyName, "Serilog.AspNetCore.RequestLoggingMiddleware");
             // Refusals inside a failed-authentication burst are logged by the burst, not one line each.
             o.GetLevel = (http, _, exception) =>
                 http.Items.ContainsKey(FailedAuthenticationLimit.QuietItem) ? Serilog.Events.LogEventLevel.Verbose

@@ -380,12 +380,19 @@ public sealed class CandidateStore(NpgsqlDataSource dataSource)
         }
     }
 
-    /// <summary>Unit vector of an ICRS direction (for cone searches).</summary>
+    /// <summary>
+    /// Unit vector of an ICRS direction (for cone searches). Components smaller than 1e-100 are
+    /// stored as 0: PostgreSQL raises an error when a product in the cone test underflows (a
+    /// declination of 1e-320° once made every cone search over that row fail), and no position
+    /// differs measurably at that scale.
+    /// </summary>
     public static (double X, double Y, double Z) UnitVector(double raDeg, double decDeg)
     {
         double ra = raDeg * Math.PI / 180, dec = decDeg * Math.PI / 180;
-        return (Math.Cos(dec) * Math.Cos(ra), Math.Cos(dec) * Math.Sin(ra), Math.Sin(dec));
+        return (Flush(Math.Cos(dec) * Math.Cos(ra)), Flush(Math.Cos(dec) * Math.Sin(ra)), Flush(Math.Sin(dec)));
     }
+
+    private static double Flush(double component) => Math.Abs(component) < 1e-100 ? 0 : component;
 
     // ---- queries --------------------------------------------------------------------------
 
