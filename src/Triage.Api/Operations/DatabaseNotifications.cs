@@ -152,7 +152,7 @@ public sealed class JobWakeup : IDatabaseNotificationHandler
     public async Task WaitAsync(TimeSpan timeout, CancellationToken ct) => await _signal.WaitAsync(timeout, ct);
 }
 
-/// <summary>A key revoked or changed anywhere (channel <c>triage_keys</c>, payload the key id) is forgotten by this replica's cache at once.</summary>
+/// <summary>A key issued, revoked or changed anywhere (channel <c>triage_keys</c>, payload the key id) is forgotten by this replica's cache at once, with the keys it remembered as unknown.</summary>
 public sealed class KeyChangeListener(Access.KeyCache cache) : IDatabaseNotificationHandler
 {
     public string Channel => "triage_keys";
@@ -162,6 +162,8 @@ public sealed class KeyChangeListener(Access.KeyCache cache) : IDatabaseNotifica
         if (Guid.TryParse(payload, out var id))
         {
             cache.Forget(id);
+            // A key issued elsewhere may be remembered here as unknown.
+            cache.ForgetUnknown();
         }
         else
         {

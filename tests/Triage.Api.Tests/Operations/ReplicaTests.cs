@@ -19,9 +19,9 @@ public sealed class ProbeHandler(string replica, ConcurrentQueue<(Guid Job, stri
 
     public string Kind => JobKind;
 
-    public async Task<string> RunAsync(string inputJson, IProgress<JobProgress> progress, CancellationToken ct)
+    public async Task<string> RunAsync(JobRun run, IProgress<JobProgress> progress, CancellationToken ct)
     {
-        var job = System.Text.Json.JsonDocument.Parse(inputJson).RootElement.GetProperty("probe").GetGuid();
+        var job = System.Text.Json.JsonDocument.Parse(run.InputJson).RootElement.GetProperty("probe").GetGuid();
         runs.Enqueue((job, replica));
         // Long enough that both replicas find work while the other is busy.
         await Task.Delay(100, ct);
