@@ -104,7 +104,7 @@ public sealed class NightScenario
     private static JsonObject SiteBody(string name) => new()
     {
         ["name"] = name, ["observatory"] = "Invented Ridge Observatory",
-        ["latitudeDeg"] = -29.3, ["longitudeDeg"] = -70.7, ["elevationM"] = 2300,
+        ["latitudeDeg"] = -28.5, ["longitudeDeg"] = -68.9, ["elevationM"] = 2300,
         ["minAltitudeDeg"] = 25, ["sunAvoidanceDeg"] = 45, ["moonAvoidanceDeg"] = 20, ["seeingArcsec"] = 1.0,
         ["darkSkyMagArcsec2"] = 21.6, ["skyReferenceWavelengthAngstrom"] = 6000, ["extinctionMagPerAirmass"] = 0.12,
     };
