@@ -13,7 +13,7 @@ builder.AddTriageLogging();
 builder.Services.AddSingleton(TimeProvider.System);
 builder.Services.AddTriageJson();
 builder.Services.AddTriageProblems();
-builder.Services.AddOpenApi();
+builder.Services.AddTriageOpenApi();
 builder.Services.AddDatabase(builder.Configuration);
 builder.Services.AddAccess(builder.Configuration);
 builder.Services.AddRoster();
