@@ -39,15 +39,26 @@ public partial class PlotPaletteTests
     private static AccuracyModelDocument Demo() =>
         CalibrationJson.Deserialize(File.ReadAllText(Path.Combine(RepoRoot(), "demo", "calibration.json")));
 
-    [Fact]
-    public void RecallPlot_UsesNoColourOfAKnownDefaultCycle()
+    [Theory]
+    [InlineData("recall")]
+    [InlineData("equal-exposure")]
+    [InlineData("confusion")]
+    public void Plots_UseNoColourOfAKnownDefaultCycle(string plot)
     {
         var doc = Demo();
         Assert.True(doc.Subtypes.Count >= 14);
-        string svg = CalibrationPlots.RecallCurvesSvg(doc, 10);
+        string svg = plot switch
+        {
+            "recall" => CalibrationPlots.RecallCurvesSvg(doc, 10),
+            "equal-exposure" => CalibrationPlots.EqualExposureSvg(doc),
+            _ => CalibrationPlots.ConfusionSvg(doc, doc.Resolutions[^1], null),
+        };
         var used = ColourRegex().Matches(svg).Select(m => m.Value[..7].ToLowerInvariant()).ToHashSet();
-        // Every series colour of the palette shows up in the figure.
-        Assert.Subset(used, PlotStyle.SeriesHex.Select(h => h.ToLowerInvariant()).ToHashSet());
+        if (plot == "recall")
+        {
+            // Every series colour of the palette shows up in the figure.
+            Assert.Subset(used, PlotStyle.SeriesHex.Select(h => h.ToLowerInvariant()).ToHashSet());
+        }
 
         var cycles = LibraryCycles().Append((Name: "tab10/category10", Colours: Tab10)).Append((Name: "tab20/category20", Colours: Tab20)).ToList();
         Assert.All(cycles, cycle => Assert.True(cycle.Colours.Length >= 10, cycle.Name));
