@@ -64,7 +64,8 @@ public static class CalibrationPlots
         var ticks = doc.Resolutions.Select(r => new Tick(Math.Log10(r), r.ToString("0.#", CultureInfo.InvariantCulture))).ToArray();
         plt.Axes.Bottom.TickGenerator = new ScottPlot.TickGenerators.NumericManual(ticks);
         plt.Axes.SetLimitsY(0, 1.05);
-        plt.ShowLegend(Alignment.LowerRight);
+        // Outside the data area, so that the legend never covers a curve or an error bar.
+        plt.ShowLegend(Edge.Right);
         return plt.GetSvgXml(width, height);
     }
 
@@ -107,9 +108,17 @@ public static class CalibrationPlots
         plt.YLabel("accuracy (thick, filled), mean recall (thin, open)");
         var ticks = doc.Resolutions.Select(r => new Tick(Math.Log10(r), r.ToString("0.#", CultureInfo.InvariantCulture))).ToArray();
         plt.Axes.Bottom.TickGenerator = new ScottPlot.TickGenerators.NumericManual(ticks);
+        if (doc.Resolutions.Count > 0)
+        {
+            // Fixed limits: a table without equal-exposure points still draws its (empty) frame.
+            double lo = Math.Log10(doc.Resolutions.Min()), hi = Math.Log10(doc.Resolutions.Max());
+            double pad = Math.Max(0.05, 0.04 * (hi - lo));
+            plt.Axes.SetLimitsX(lo - pad, hi + pad);
+        }
         plt.Axes.SetLimitsY(0, 1.05);
         // Outside the data area, so that the legend never covers a curve or an error bar.
-        plt.ShowLegend(Edge.Right);
+        if (colour > 0) plt.ShowLegend(Edge.Right);
+        else plt.ShowLegend(Alignment.UpperRight); // nothing to cover (and ScottPlot draws nothing with an edge legend of one line)
         return plt.GetSvgXml(width, height);
     }
 

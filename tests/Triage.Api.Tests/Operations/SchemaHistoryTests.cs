@@ -112,7 +112,24 @@ public sealed class SchemaHistoryTests
             await Data.DisposeAsync();
             await using var admin = new NpgsqlConnection(Admin());
             await admin.OpenAsync();
-            await admin.ExecuteAsync($"DROP DATABASE IF EXISTS {_name} WITH (FORCE)");
+            // A server process (autovacuum) may still be on the new database for a moment, and the
+            // triage role may not end it; try again briefly. deploy/test.sh drops leftovers anyway.
+            for (int attempt = 0; ; attempt++)
+            {
+                try
+                {
+                    await admin.ExecuteAsync($"DROP DATABASE IF EXISTS {_name} WITH (FORCE)");
+                    return;
+                }
+                catch (PostgresException e) when (e.SqlState is PostgresErrorCodes.InsufficientPrivilege or PostgresErrorCodes.ObjectInUse && attempt < 20)
+                {
+                    await Task.Delay(250);
+                }
+                catch (PostgresException e) when (e.SqlState is PostgresErrorCodes.InsufficientPrivilege or PostgresErrorCodes.ObjectInUse)
+                {
+                    return;
+                }
+            }
         }
 
         private static string Admin() =>

@@ -77,11 +77,14 @@ public partial class PlotPaletteTests
     }
 
     [Theory]
-    [InlineData(900, 600)]
-    [InlineData(640, 420)]
-    public void RecallPlot_LegendLiesOutsideTheDataArea(int width, int height)
+    [InlineData("recall", 900, 600)]
+    [InlineData("recall", 640, 420)]
+    [InlineData("equal-exposure", 900, 600)]
+    public void Plot_LegendLiesOutsideTheDataArea(string plot, int width, int height)
     {
-        string svg = CalibrationPlots.RecallCurvesSvg(Demo(), null, width: width, height: height);
+        string svg = plot == "recall"
+            ? CalibrationPlots.RecallCurvesSvg(Demo(), null, width: width, height: height)
+            : CalibrationPlots.EqualExposureSvg(Demo(), width, height);
         var data = Rects(svg, PlotStyle.DataHex).Single();
         // The legend box is the paper-coloured rectangle that is not the whole figure.
         var legend = Rects(svg, PlotStyle.PaperHex).Single(r => r.W < width);
