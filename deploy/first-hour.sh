@@ -100,12 +100,13 @@ declare -A sample=(
   ["exptime"]="--instrument demo/instrument-lowres.json --mag 19.5 --snr 20"
   ["library synth"]="--out $lib --objects 20"
   ["library check"]="$lib"
+  ["library export"]="--library $lib --out $work/lib-fits --format fits"
   ["degrade"]="--in @first-spectrum --resolution 100 --snr 20 --out $work/degraded.txt"
   ["calibrate"]="--library $lib --out $work/cal.json --resolutions 10,100 --snr 10 --folds 2 --plots $work/plots"
   ["plot-calibration"]="--in demo/calibration.json --out $work/demo-plots"
 )
 # Runs that need another verb's output first.
-order=("db advance" "key issue" "demo load" "invent-candidates" "fit" "plan" "sky" "exptime" "library synth" "library check" "degrade" "calibrate" "plot-calibration")
+order=("db advance" "key issue" "demo load" "invent-candidates" "fit" "plan" "sky" "exptime" "library synth" "library check" "library export" "degrade" "calibrate" "plot-calibration")
 
 commands_of() { # the subcommands listed under "Commands:" in a help text
   awk '/^Commands:/ {on = 1; next} on && /^[^ ]/ {on = 0} on && NF {print $1}'
