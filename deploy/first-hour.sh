@@ -175,7 +175,7 @@ script="$work/api-examples.sh"
   echo 'curl() { local out rc; out=$(command curl -w "\n@@%{http_code}" "$@"); rc=$?'
   echo '  printf "%s\n" "${out%$'"'"'\n'"'"'@@*}"; echo "${out##*@@} ${__expect:-2xx} ${__line:-?}" >>'"'$statuses'"'; return $rc; }'
   awk -v url="$TRIAGE_URL" '
-    /^```sh/ {on = 1; block++; next}
+    /^```sh/ {on = 1; block++; print "__expect=2xx"; next}
     /^```/ && on {on = 0; next}
     on {
       gsub("http://127.0.0.1:5080", url)

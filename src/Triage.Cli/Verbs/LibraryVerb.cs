@@ -56,6 +56,12 @@ internal static class LibraryVerb
     private static Command Check()
     {
         var folder = new Argument<DirectoryInfo?>("DIR") { Description = "Library folder with manifest.csv.", Arity = ArgumentArity.ZeroOrOne };
+        // An unknown option must not be taken for the folder's name.
+        folder.Validators.Add(result =>
+        {
+            if (result.Tokens.FirstOrDefault()?.Value is { } token && token.StartsWith('-'))
+                result.AddError($"Unrecognized command or argument '{token}'.");
+        });
         var dir = new Option<DirectoryInfo?>("--library") { Description = "The library folder, as an option (same as DIR)." };
         var taxonomy = new Option<FileInfo?>("--taxonomy") { Description = "Taxonomy file (default: the built-in one)." };
         var cmd = new Command("check", "Validate a library folder (triage library check DIR) and report every problem with file and line.") { folder, dir, taxonomy };
