@@ -41,7 +41,8 @@ public static class OpenApiSetup
 
     public static IServiceCollection AddTriageOpenApi(this IServiceCollection services)
     {
-        services.AddOpenApi(o =>
+        // Configures the document registered by AddOpenApi (Hardening.AddHttpHardening).
+        services.Configure<OpenApiOptions>("v1", o =>
         {
             o.AddDocumentTransformer((document, _, _) =>
             {
