@@ -181,6 +181,12 @@ public sealed class AccuracySurface
         var raw = new (double Recall, double Low, int N)?[recall.Length];
         foreach (var cell in document.Cells)
         {
+            // An unreachable cell was not measured at its label's S/N.
+            if (!cell.Reachable)
+            {
+                continue;
+            }
+
             if (!sIndex.TryGetValue(cell.Subtype, out var si) || !binIndex.TryGetValue(cell.PhaseBin, out var pi))
             {
                 continue;

@@ -31,6 +31,13 @@ public static class Degradation
     /// <summary>σ in ln λ of a line-spread function of FWHM λ/R.</summary>
     public static double SigmaLn(double resolution) => 1.0 / (resolution * FwhmPerSigma);
 
+    /// <summary>σ (ln λ) of the Gaussian kernel taking a source of R₀ (null: unknown, treated as infinite) to R: √(σ(R)² − σ(R₀)²).</summary>
+    public static double KernelSigmaLn(double resolution, double? sourceResolution)
+    {
+        double t = SigmaLn(resolution), s = sourceResolution is double r0 ? SigmaLn(r0) : 0;
+        return Math.Sqrt(Math.Max(0, t * t - s * s));
+    }
+
     /// <summary>
     /// Degrades <paramref name="spectrum"/> to resolving power <paramref name="resolution"/> and bins
     /// it onto a log grid with <see cref="DegradeOptions.PixelsPerElement"/> pixels per element.

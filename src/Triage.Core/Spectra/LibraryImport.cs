@@ -14,7 +14,7 @@ public sealed class LibraryImportException(IReadOnlyList<ImportError> errors)
 /// <summary>
 /// Reads a labelled library: <c>manifest.csv</c> (header row with the columns <c>file</c>,
 /// <c>object_id</c>, <c>subtype</c>, <c>phase_days</c>, <c>redshift</c> and optionally
-/// <c>source_resolution</c>, in any order; <c>#</c> comment lines) plus one plain-text spectrum per row.
+/// <c>source_resolution</c> and <c>noise_free</c> (true: the flux is a noise-free model and its error column states the native noise), in any order; <c>#</c> comment lines) plus one plain-text spectrum per row.
 /// </summary>
 /// <remarks>
 /// All-or-nothing: every row and every spectrum is checked, all problems are returned,
@@ -60,7 +60,8 @@ public static class LibraryImport
             {
                 var s = SpectrumText.Read(reader, row.File, options, errs);
                 if (s is not null)
-                    spectra.Add(new LibrarySpectrum(row.File, row.ObjectId, row.Subtype, row.Phase, row.Redshift, row.SourceR, s));
+                    spectra.Add(new LibrarySpectrum(row.File, row.ObjectId, row.Subtype, row.Phase, row.Redshift, row.SourceR, s)
+                        { NoiseFree = row.NoiseFree });
             }
         }
         if (errs.Count == 0 && spectra.Count == 0)
@@ -70,7 +71,7 @@ public static class LibraryImport
         return library is not null;
     }
 
-    private sealed record Row(int Line, string File, string ObjectId, string Subtype, double Phase, double Redshift, double? SourceR);
+    private sealed record Row(int Line, string File, string ObjectId, string Subtype, double Phase, double Redshift, double? SourceR, bool NoiseFree);
 
     private static List<Row> ReadManifest(TextReader reader, Taxonomy taxonomy, List<ImportError> errs, out bool synthetic)
     {
@@ -133,6 +134,14 @@ public static class LibraryImport
                 double r = Number(Get("source_resolution"), "source_resolution", lineNo, errs, double.Epsilon, 1e7);
                 if (!double.IsNaN(r)) sourceR = r;
             }
+            bool noiseFree = false;
+            if (col.ContainsKey("noise_free") && Get("noise_free").Length > 0)
+            {
+                string v = Get("noise_free").ToLowerInvariant();
+                if (v is "true" or "1" or "yes") noiseFree = true;
+                else if (v is not ("false" or "0" or "no"))
+                    errs.Add(new ImportError(ManifestFileName, lineNo, $"noise_free '{Get("noise_free")}' must be true or false"));
+            }
             if (errs.Count > before) continue;
             if (epochs.TryGetValue((objectId, phase), out int dupLine))
             {
@@ -142,7 +151,7 @@ public static class LibraryImport
             }
             files[file] = lineNo;
             epochs[(objectId, phase)] = lineNo;
-            rows.Add(new Row(lineNo, file, objectId, subtype, phase, z, sourceR));
+            rows.Add(new Row(lineNo, file, objectId, subtype, phase, z, sourceR, noiseFree));
         }
         if (col is null) errs.Add(new ImportError(ManifestFileName, null, "the manifest is empty (no header row)"));
         return rows;
@@ -191,9 +200,10 @@ public static class LibraryImport
     public static void WriteManifest(TextWriter writer, SpectralLibrary library, IEnumerable<string> comments)
     {
         foreach (var c in comments) writer.Write("# " + c + "\n");
-        writer.Write("file,object_id,subtype,phase_days,redshift,source_resolution\n");
+        bool noiseColumn = library.Spectra.Any(s => s.NoiseFree);
+        writer.Write("file,object_id,subtype,phase_days,redshift,source_resolution" + (noiseColumn ? ",noise_free\n" : "\n"));
         foreach (var s in library.Spectra)
             writer.Write(string.Create(CultureInfo.InvariantCulture,
-                $"{s.File},{s.ObjectId},{s.Subtype},{s.PhaseDays:0.##},{s.Redshift:0.#####},{s.SourceResolution}\n"));
+                $"{s.File},{s.ObjectId},{s.Subtype},{s.PhaseDays:0.##},{s.Redshift:0.#####},{s.SourceResolution}{(noiseColumn ? (s.NoiseFree ? ",true" : ",false") : "")}\n"));
     }
 }
