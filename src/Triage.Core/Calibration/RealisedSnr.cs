@@ -2,9 +2,9 @@
 //
 // A cell's achieved S/N is the median over its spectra of the realised S/N per element at the
 // reference wavelength (infinite for noise-free spectra at the native level; an infinite median is
-// reported as null). A numeric level is unreachable for a cell when more than half of its spectra
-// could not reach it (median reachable S/N below the label); the cell then carries Reachable = false
-// and the median reachable S/N, and is not a measurement at its label.
+// reported as null). A numeric level is unreachable for a cell when its median realised S/N is below
+// the label (spectra that reach a level realise it exactly, so: when half or more could not reach it);
+// the cell then carries Reachable = false and the median reachable S/N, and is not a measurement at its label.
 // References:
 //  1. Stoehr, F. et al., ASP Conf. Ser. 394, 505 (2008) (the DER_SNR noise behind the reachable S/N).
 using Triage.Core.Spectra;
@@ -34,7 +34,9 @@ public static class RealisedSnr
                 .ToArray();
             double achieved = Median(members.Select(i => perSpectrum[i].Realised));
             double reachable = Median(members.Select(i => perSpectrum[i].Reachable));
-            bool ok = snrLabel is not double label || reachable >= label * (1 - 1e-9);
+            // Spectra that reached the label realise it exactly, the others realise less: the median reaches the
+            // label exactly when most spectra did.
+            bool ok = snrLabel is not double label || achieved >= label * (1 - 1e-6);
             return c with
             {
                 AchievedSnr = double.IsFinite(achieved) ? achieved : null,
