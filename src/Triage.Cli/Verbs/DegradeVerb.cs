@@ -55,10 +55,13 @@ internal static class DegradeVerb
                     $"degraded from {inFile.Name} to R = {r}, {p} pixels per element{noiseNote}")]);
                 return 0;
             }
-            catch (Exception ex) when (ex is FormatException or ArgumentException)
+            catch (ArgumentException ex)
             {
-                Console.Error.WriteLine(ex.Message);
-                return 1;
+                return VerbParsing.FailArgument(Console.Error, parse, ex);
+            }
+            catch (FormatException ex)
+            {
+                return CliJson.Fail(Console.Error, ex.Message);
             }
         });
         return cmd;
