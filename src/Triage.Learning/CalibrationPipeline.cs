@@ -74,13 +74,13 @@ public static class CalibrationPipeline
         {
             double r = resolutions[ri];
             var sw = Stopwatch.StartNew();
-            var degraded = new (LogWavelengthGrid Grid, double[] W, double[] F)[spectra.Count];
+            var degraded = new (LogWavelengthGrid Grid, double[] W, double[] F, DegradedNoise Noise)[spectra.Count];
             Parallel.For(0, spectra.Count, parallel, i =>
             {
                 var s = spectra[i];
                 var (grid, flux) = Degradation.Degrade(s.Spectrum, r, s.SourceResolution,
                     new DegradeOptions { PixelsPerElement = settings.PixelsPerElement });
-                degraded[i] = (grid, grid.Centres(), flux);
+                degraded[i] = (grid, grid.Centres(), flux, DegradedNoise.Account(s, grid, flux, r));
             });
             degradeTime += sw.Elapsed;
             // Noise and features for every S/N level of this R, then every (S/N, fold) training in one
@@ -88,14 +88,16 @@ public static class CalibrationPipeline
             int levels = settings.SnrLevels.Count;
             sw.Restart();
             var features = new float[levels][][];
-            for (int si = 0; si < levels; si++) features[si] = new float[spectra.Count][];
+            var snrs = new SpectrumSnr[levels][];
+            for (int si = 0; si < levels; si++) { features[si] = new float[spectra.Count][]; snrs[si] = new SpectrumSnr[spectra.Count]; }
             Parallel.For(0, levels * spectra.Count, parallel, j =>
             {
                 int si = j / spectra.Count, i = j % spectra.Count;
-                var (grid, w, f) = degraded[i];
-                if (settings.SnrLevels[si] is double target)
-                    f = SpectrumNoise.AddNoise(grid, f, target, settings.PixelsPerElement, new Random(DerivedSeed(settings.Seed, i, ri, si)));
-                features[si][i] = Preprocessing.Features(w, f, spectra[i].Redshift, r, settings.Preprocess);
+                var (_, w, f, noise) = degraded[i];
+                // Only the shortfall over the noise already present is added (docs/calibration.md, "The S/N convention").
+                var noised = noise.Apply(f, settings.SnrLevels[si], settings.PixelsPerElement, new Random(DerivedSeed(settings.Seed, i, ri, si)));
+                snrs[si][i] = new SpectrumSnr(noised.RealisedSnr ?? double.PositiveInfinity, noised.ReachableSnr);
+                features[si][i] = Preprocessing.Features(w, noised.Flux, spectra[i].Redshift, r, settings.Preprocess);
             });
             featureTime += sw.Elapsed;
             sw.Restart();
@@ -124,7 +126,9 @@ public static class CalibrationPipeline
                 var pr = predicted[si];
                 correct[si][ri] = spectra.Select((s, i) => subtypes[pr[i]] == s.Subtype).ToArray();
                 var predictions = spectra.Select((s, i) => new Prediction(s.ObjectId, s.Subtype, subtypes[pr[i]], s.PhaseDays)).ToArray();
-                var score = CalibrationScoring.Score(predictions, subtypes, taxonomy, settings.PhaseBins, r, settings.SnrLevels[si]);
+                var score = RealisedSnr.Annotate(
+                    CalibrationScoring.Score(predictions, subtypes, taxonomy, settings.PhaseBins, r, settings.SnrLevels[si]),
+                    predictions, snrs[si], settings.PhaseBins, settings.SnrLevels[si]);
                 cells.AddRange(score.Cells);
                 confusions.AddRange(score.Confusions);
                 summaries.Add(score.Summary);

@@ -98,9 +98,10 @@ internal static class CalibrateVerb
             string stem = Path.Combine(Path.GetDirectoryName(outPath)!, Path.GetFileNameWithoutExtension(outPath));
             File.WriteAllText(stem + ".minimum-r.csv", MinimumResolutionTable.ToCsv(doc!.MinimumResolution));
             File.WriteAllText(stem + ".minimum-r.json", CalibrationJson.SerializeMinimumResolution(doc.MinimumResolution));
+            File.WriteAllText(stem + ".cells.csv", AccuracyTableCsv.Write(doc.Cells));
             if (parse.GetValue(plots) is { } plotDir) WritePlots(doc, plotDir.FullName);
             PrintSummary(doc, timings!);
-            Console.WriteLine($"Wrote {outPath}, {stem}.minimum-r.csv and .json");
+            Console.WriteLine($"Wrote {outPath}, {stem}.minimum-r.csv and .json, {stem}.cells.csv");
             return Task.FromResult(0);
         });
         return cmd;

@@ -12,12 +12,13 @@ internal static class DegradeVerb
         var input = new Option<FileInfo>("--in") { Description = "Input spectrum (wavelength Å, flux[, error]).", Required = true };
         var resolution = new Option<double>("--resolution") { Description = "Target resolving power R.", Required = true };
         var source = new Option<double?>("--source-resolution") { Description = "Resolving power of the input, when known." };
-        var snr = new Option<double?>("--snr") { Description = "Target S/N per resolution element at 6000 Å on the continuum (default: no noise)." };
+        var snr = new Option<double?>("--snr") { Description = "Target S/N per resolution element at 6000 Å on the continuum (default: no noise). Noise already in the input (error column, else DER_SNR) is counted: only the shortfall is added, and a target above the reachable S/N is refused." };
+        var noiseFree = new Option<bool>("--noise-free") { Description = "The input flux is a noise-free model (its error column, if any, is not counted as present noise)." };
         var ppe = new Option<double>("--pixels-per-element") { Description = "Output pixels per resolution element (default 2).", DefaultValueFactory = _ => 2 };
         var seed = new Option<int>("--seed") { Description = "Noise seed (default 1).", DefaultValueFactory = _ => 1 };
         var output = new Option<FileInfo>("--out") { Description = "Output spectrum file.", Required = true };
         var cmd = new Command("degrade", "Degrade a spectrum to resolving power R (Gaussian kernel, flux-conserving binning, optional noise).")
-            { input, resolution, source, snr, ppe, seed, output };
+            { input, resolution, source, snr, noiseFree, ppe, seed, output };
         cmd.SetAction(parse =>
         {
             var inFile = parse.GetValue(input)!;
@@ -29,14 +30,29 @@ internal static class DegradeVerb
                 double r = parse.GetValue(resolution);
                 double p = parse.GetValue(ppe);
                 var (grid, flux) = Degradation.Degrade(spectrum, r, parse.GetValue(source), new DegradeOptions { PixelsPerElement = p });
+                string noiseNote = "";
                 if (parse.GetValue(snr) is double s)
-                    flux = SpectrumNoise.AddNoise(grid, flux, s, p, new Random(parse.GetValue(seed)));
+                {
+                    if (!(s > 0)) { Console.Error.WriteLine("--snr: must be positive."); return 2; }
+                    var noise = DegradedNoise.Account(spectrum, parse.GetValue(noiseFree), parse.GetValue(source), grid, flux, r);
+                    if (!noise.Budget.CanReach(s))
+                    {
+                        Console.Error.WriteLine(string.Create(CultureInfo.InvariantCulture,
+                            $"--snr: S/N {s} per element at 6000 Å is not reachable at R = {r}: the input's own noise " +
+                            $"({SpectrumNoise.MeasureInputNoise(spectrum, parse.GetValue(noiseFree)).Source}) already limits it to S/N {noise.Budget.ReachableSnr:0.0} there."));
+                        return 3;
+                    }
+                    var noised = noise.Apply(flux, s, p, new Random(parse.GetValue(seed)));
+                    flux = noised.Flux;
+                    noiseNote = string.Create(CultureInfo.InvariantCulture,
+                        $", S/N {s} per element at 6000 Å (input noise counted: S/N {noise.Budget.ReachableSnr:0.0} reachable)");
+                }
                 var centres = grid.Centres();
                 var keep = Enumerable.Range(0, grid.Count).Where(i => !double.IsNaN(flux[i])).ToArray();
                 var result = new Spectrum(keep.Select(i => centres[i]).ToArray(), keep.Select(i => flux[i]).ToArray());
                 using var w = new StreamWriter(parse.GetValue(output)!.FullName);
                 SpectrumText.Write(w, result, [string.Create(CultureInfo.InvariantCulture,
-                    $"degraded from {inFile.Name} to R = {r}, {p} pixels per element{(parse.GetValue(snr) is double v ? $", S/N {v} per element at 6000 Å" : "")}")]);
+                    $"degraded from {inFile.Name} to R = {r}, {p} pixels per element{noiseNote}")]);
                 return 0;
             }
             catch (ArgumentException ex)

@@ -30,6 +30,22 @@ public sealed record CalibrationCell(
     int Objects)
 {
     /// <summary>
+    /// Realised S/N per resolution element at the reference wavelength: the median over the cell's spectra of
+    /// f_ref/σ_e after degrading and noising, counting the library's own noise (see docs/calibration.md).
+    /// Null when it is infinite (native level of a noise-free library) or unknown (imported tables).
+    /// </summary>
+    public double? AchievedSnr { get; init; }
+
+    /// <summary>
+    /// False when the label's S/N was not reachable for the median spectrum of the cell (the library's own noise
+    /// is already above the target at this R). Such a cell is not a measurement at its label: consumers skip it.
+    /// </summary>
+    public bool Reachable { get; init; } = true;
+
+    /// <summary>When <see cref="Reachable"/> is false: the median S/N per element the cell's spectra could reach.</summary>
+    public double? ReachableSnr { get; init; }
+
+    /// <summary>
     /// n/deff: the number of independent spectra the cell's sample is worth, between <see cref="Objects"/> and
     /// <see cref="Spectra"/> (null in documents written before object-level intervals).
     /// </summary>
@@ -105,7 +121,11 @@ public sealed record AccuracySummary(
     double BroadAccuracyLow,
     double BroadAccuracyHigh,
     double BalancedAccuracy,
-    int Spectra);
+    int Spectra)
+{
+    /// <summary>Median realised S/N per element at the reference wavelength over all spectra of the grid point (null: infinite or unknown).</summary>
+    public double? AchievedSnr { get; init; }
+}
 
 /// <summary>
 /// Baselines: a uniform guess over K subtypes scores 1/K; always answering the commonest subtype

@@ -18,6 +18,20 @@ public static class AccuracyTableCsv
 {
     private static readonly string[] Required = ["subtype", "resolution", "snr", "phase_bin", "recall", "recall_low", "recall_high"];
 
+    /// <summary>
+    /// Writes the cells in this table's format plus <c>achieved_snr</c> (realised S/N per element, empty when infinite or
+    /// unknown), <c>reachable</c> and <c>reachable_snr</c>; <see cref="Parse"/> reads it back (cells marked unreachable are kept
+    /// with their flag).
+    /// </summary>
+    public static string Write(IEnumerable<CalibrationCell> cells)
+    {
+        var inv = CultureInfo.InvariantCulture;
+        var sb = new System.Text.StringBuilder("subtype,resolution,snr,phase_bin,recall,recall_low,recall_high,precision,spectra,objects,achieved_snr,reachable,reachable_snr\n");
+        foreach (var c in cells)
+            sb.Append(string.Create(inv, $"{c.Subtype},{c.Resolution:R},{(c.Snr is double v ? v.ToString("R", inv) : "native")},{c.PhaseBin},{c.Recall:R},{c.RecallLow:R},{c.RecallHigh:R},{c.Precision:R},{c.Spectra},{c.Objects},{c.AchievedSnr?.ToString("R", inv)},{(c.Reachable ? "true" : "false")},{c.ReachableSnr?.ToString("R", inv)}\n"));
+        return sb.ToString();
+    }
+
     public static (AccuracyModelDocument? Document, IReadOnlyList<TableError> Errors) Parse(
         TextReader reader, IReadOnlyCollection<string> knownSubtypes, double snrReferenceWavelengthAngstrom = 6000)
     {
@@ -92,6 +106,9 @@ public static class AccuracyTableCsv
             var precision = Number("precision", 0, 1, optional: true);
             var spectra = Number("spectra", 0, int.MaxValue, optional: true);
             var objects = Number("objects", 0, int.MaxValue, optional: true);
+            var achieved = Number("achieved_snr", 0, 1e9, optional: true);
+            var reachableSnr = Number("reachable_snr", 0, 1e9, optional: true);
+            bool reachable = !Get("reachable").Equals("false", StringComparison.OrdinalIgnoreCase);
             if (resolution is { } res && !seen.Add((subtype, res, snr, bin)))
             {
                 errors.Add(new TableError(lineNo, "subtype", "duplicate (subtype, resolution, snr, phase_bin)"));
@@ -99,7 +116,8 @@ public static class AccuracyTableCsv
             if (errors.Count == 0)
             {
                 cells.Add(new CalibrationCell(subtype, resolution!.Value, snr, bin, recall!.Value, low!.Value, high!.Value,
-                    precision ?? double.NaN, (int)(spectra ?? 0), (int)(objects ?? 0)));
+                    precision ?? double.NaN, (int)(spectra ?? 0), (int)(objects ?? 0))
+                    { AchievedSnr = achieved, Reachable = reachable, ReachableSnr = reachableSnr });
             }
         }
         if (columns is null)

@@ -183,6 +183,12 @@ public sealed class AccuracySurface
         var notes = new List<string>();
         foreach (var cell in document.Cells)
         {
+            // An unreachable cell was not measured at its label's S/N.
+            if (!cell.Reachable)
+            {
+                continue;
+            }
+
             if (!sIndex.TryGetValue(cell.Subtype, out var si) || !binIndex.TryGetValue(cell.PhaseBin, out var pi))
             {
                 continue;

@@ -2,14 +2,23 @@
 //
 // A line-spread function of FWHM λ/R is a Gaussian of constant width in x = ln λ:
 //   σ_x(R) = 1 / (R · 2√(2 ln 2)),  FWHM = 2√(2 ln 2) σ.
-// Gaussians convolve by adding variances, so a source of resolving power R₀ reaches R < R₀
-// with a kernel σ_k² = σ_x(R)² − σ_x(R₀)² (R₀ unknown: σ_x(R₀) = 0). The convolution acts on
-// g = f λ (flux per unit ln λ), which conserves ∫ f dλ; the working grid has step
-// δ ≤ σ_k/4, and the boxcar of width δ introduced by binning onto it (variance δ²/12) is
-// subtracted from σ_k². The result is binned flux-conservingly at P pixels per element λ/R.
+// Input pixels are bins (edges at the geometric midpoints between samples); a bin's value is the
+// mean flux density over it, so binning onto any grid uses the running integral of a piecewise-
+// constant density. Boxcars add variance δ²/12 like any kernel, and Gaussians add variances, so
+// with source resolution R₀ (pixel width δ₀ in ln λ), working grid step δ_w and output pixels
+// (a detector's own boxcar, kept) the kernel applied on the working grid is
+//   σ_k² = σ(R)² − σ(R₀)² − δ₀²/12 − δ_w²/12 − max(0, δ_w² − δ₀²)/12
+// (source pixel, only when R₀ is known; the working grid's bins as they are read back; the
+// coarsening of the input onto the working grid). The working grid is never finer than the input:
+// δ_w = max(δ₀, σ(R)/4); when the input is uniform in ln λ at that step it is used as it is. The
+// convolution acts on g = f λ (flux per unit ln λ), which conserves ∫ f dλ, with a Gaussian
+// sampled at the working pixels (σ ≥ 0.7 px: its variance is σ² to 1e-4) or, for σ < 0.7 px, the
+// three-tap kernel [a, 1 − 2a, a] with a = σ²/2 (the same variance). When R equals R₀ and the input
+// is already on the output grid, the spectrum is returned as it is.
 // References:
 //  1. Robertson, J. G., "Quantifying resolving power in astronomical spectra", PASA 30, e048 (2013), §2.
 //  2. Bracewell, R. N., "The Fourier Transform and Its Applications", 3rd ed., ch. 8 (variances add under convolution).
+//  3. Carnall, A. C., "SpectRes: a fast spectral resampling tool in Python", arXiv:1705.05165 (2017), §2 (pixels as bins).
 namespace Triage.Core.Spectra;
 
 /// <summary>Options of <see cref="Degradation.Degrade"/>.</summary>
@@ -31,11 +40,18 @@ public static class Degradation
     /// <summary>σ in ln λ of a line-spread function of FWHM λ/R.</summary>
     public static double SigmaLn(double resolution) => 1.0 / (resolution * FwhmPerSigma);
 
+    /// <summary>σ (ln λ) of the Gaussian kernel taking a source of R₀ (null: unknown, treated as infinite) to R: √(σ(R)² − σ(R₀)²).</summary>
+    public static double KernelSigmaLn(double resolution, double? sourceResolution)
+    {
+        double t = SigmaLn(resolution), s = sourceResolution is double r0 ? SigmaLn(r0) : 0;
+        return Math.Sqrt(Math.Max(0, t * t - s * s));
+    }
+
     /// <summary>
     /// Degrades <paramref name="spectrum"/> to resolving power <paramref name="resolution"/> and bins
     /// it onto a log grid with <see cref="DegradeOptions.PixelsPerElement"/> pixels per element.
     /// </summary>
-    /// <param name="sourceResolution">Resolving power of the input, when known (then R must not exceed it).</param>
+    /// <param name="sourceResolution">Resolving power of the input, when known (then R must not exceed it, and the input's pixels are taken as integrated bins).</param>
     /// <returns>The degraded spectrum (no noise added) and its grid.</returns>
     /// <exception cref="ArgumentOutOfRangeException">R ≤ 0, or R above the source resolution.</exception>
     public static (LogWavelengthGrid Grid, double[] Flux) Degrade(Spectrum spectrum, double resolution, double? sourceResolution,
@@ -47,55 +63,79 @@ public static class Degradation
         if (sourceResolution is double r0 && resolution > r0 * (1 + 1e-9))
             throw new ArgumentOutOfRangeException(nameof(resolution), resolution,
                 $"Cannot degrade to R = {resolution} above the source resolution R = {r0}.");
-        double sigmaT = SigmaLn(resolution);
-        double sigmaS = sourceResolution is double rs ? SigmaLn(rs) : 0;
-        double sigmaK = Math.Sqrt(Math.Max(0, sigmaT * sigmaT - sigmaS * sigmaS));
-
         var w = spectrum.WavelengthAngstrom;
-        double lnMin = Math.Log(w[0]), lnMax = Math.Log(w[^1]);
-        double nativeStep = (lnMax - lnMin) / (w.Length - 1);
-        double outStep = 1.0 / (resolution * options.PixelsPerElement);
-        // The working grid may be coarser than the input: its boxcar (δ²/12) is subtracted below.
-        double step = outStep / 2;
-        if (sigmaK > 0) step = Math.Min(step, sigmaK / 4);
-        var work = LogWavelengthGrid.WithCount(w[0], w[^1], Math.Max(2, (int)Math.Ceiling((lnMax - lnMin) / step)));
-        double[] g = FluxRebinning.ToGrid(w, spectrum.Flux, work);
+        var outGrid = LogWavelengthGrid.ForResolution(w[0], w[^1], resolution, options.PixelsPerElement);
+        var input = InputBins.Of(w);
 
-        double sigmaConv2 = sigmaK * sigmaK - (work.StepLn > nativeStep ? work.StepLn * work.StepLn / 12 : 0);
-        if (sigmaConv2 > 0)
+        // Same R and the input already on the output grid: nothing to do.
+        if (sourceResolution is double rs && Math.Abs(resolution / rs - 1) < 1e-9 && input.Uniform is { } same
+            && Math.Abs(same.StepLn / outGrid.StepLn - 1) < 1e-6)
+            return (same, (double[])spectrum.Flux.Clone());
+
+        double sigmaT = SigmaLn(resolution);
+        double sourcePixel = sourceResolution is null ? 0 : input.StepLn;
+        double sigmaS = sourceResolution is double rk ? SigmaLn(rk) : 0;
+        double stepW = Math.Max(input.StepLn, sigmaT / 4);
+        LogWavelengthGrid work;
+        double[] g;
+        if (input.Uniform is { } uniform && stepW <= input.StepLn * (1 + 1e-6))
+        {
+            work = uniform;
+            g = (double[])spectrum.Flux.Clone();
+            stepW = work.StepLn;
+        }
+        else
+        {
+            work = LogWavelengthGrid.WithCount(input.FirstEdge, input.LastEdge, Math.Max(2, (int)Math.Floor(Math.Log(input.LastEdge / input.FirstEdge) / stepW)));
+            stepW = work.StepLn;
+            g = FluxRebinning.BinsToGrid(input.Edges, spectrum.Flux, work);
+        }
+        double sigmaK2 = sigmaT * sigmaT - sigmaS * sigmaS - sourcePixel * sourcePixel / 12 - stepW * stepW / 12
+                         - Math.Max(0, stepW * stepW - input.StepLn * input.StepLn) / 12;
+        if (sigmaK2 > 0)
         {
             var centres = work.Centres();
             for (int i = 0; i < g.Length; i++) g[i] *= centres[i];
-            g = Convolve(g, Math.Sqrt(sigmaConv2) / work.StepLn, options.KernelHalfWidthSigma);
+            g = Convolve(g, Math.Sqrt(sigmaK2) / stepW, options.KernelHalfWidthSigma);
             for (int i = 0; i < g.Length; i++) g[i] /= centres[i];
         }
-        var outGrid = LogWavelengthGrid.ForResolution(w[0], w[^1], resolution, options.PixelsPerElement);
-        var centresWork = work.Centres();
-        var outFlux = FluxRebinning.ToGrid(centresWork, g, outGrid);
-        return (outGrid, outFlux);
+        return (outGrid, FluxRebinning.BinsToGrid(work, g, outGrid));
     }
 
     /// <summary>
-    /// Discrete convolution with a sampled Gaussian of σ = <paramref name="sigmaPixels"/> pixels,
-    /// truncated at ± <paramref name="halfWidthSigma"/> σ and normalised to unit sum; near the
-    /// ends the weights are renormalised over the pixels that exist.
+    /// Discrete convolution with a Gaussian of σ = <paramref name="sigmaPixels"/> pixels: sampled and
+    /// truncated at ± <paramref name="halfWidthSigma"/> σ for σ ≥ 0.7, the variance-matched three-tap
+    /// kernel below; normalised to unit sum; near the ends the weights are renormalised over the
+    /// pixels that exist; NaN values are skipped.
     /// </summary>
     public static double[] Convolve(double[] values, double sigmaPixels, double halfWidthSigma = 5)
     {
-        int half = Math.Max(1, (int)Math.Ceiling(halfWidthSigma * sigmaPixels));
-        var kernel = new double[2 * half + 1];
-        double sum = 0;
-        for (int j = -half; j <= half; j++)
+        double[] kernel;
+        if (sigmaPixels < 0.7)
         {
-            // Point-sampled: σ ≥ 4 working pixels here, so the sampled kernel's variance is σ² to < 1e-6.
-            kernel[j + half] = Math.Exp(-0.5 * j * j / (sigmaPixels * sigmaPixels));
-            sum += kernel[j + half];
+            double a = sigmaPixels * sigmaPixels / 2;
+            kernel = [a, 1 - 2 * a, a];
         }
-        for (int j = 0; j < kernel.Length; j++) kernel[j] /= sum;
-        int n = values.Length;
+        else
+        {
+            int h = Math.Max(1, (int)Math.Ceiling(halfWidthSigma * sigmaPixels));
+            kernel = new double[2 * h + 1];
+            double sum = 0;
+            for (int j = -h; j <= h; j++) sum += kernel[j + h] = Math.Exp(-0.5 * j * j / (sigmaPixels * sigmaPixels));
+            for (int j = 0; j < kernel.Length; j++) kernel[j] /= sum;
+        }
+        int half = kernel.Length / 2, n = values.Length;
         var result = new double[n];
+        bool anyNaN = Array.Exists(values, double.IsNaN);
+        // Interior without NaN: a plain dot product the JIT vectorises; edges and NaN take the careful path.
+        var kSpan = kernel.AsSpan();
         for (int i = 0; i < n; i++)
         {
+            if (!anyNaN && i >= half && i < n - half)
+            {
+                result[i] = Dot(values.AsSpan(i - half, kernel.Length), kSpan);
+                continue;
+            }
             int jFrom = Math.Max(-half, -i), jTo = Math.Min(half, n - 1 - i);
             double acc = 0, wsum = 0;
             for (int j = jFrom; j <= jTo; j++)
@@ -109,5 +149,39 @@ public static class Degradation
             result[i] = wsum > 0 ? acc / wsum : double.NaN;
         }
         return result;
+    }
+
+    private static double Dot(ReadOnlySpan<double> a, ReadOnlySpan<double> b)
+    {
+        int width = System.Numerics.Vector<double>.Count, i = 0;
+        var acc = System.Numerics.Vector<double>.Zero;
+        for (; i <= a.Length - width; i += width)
+            acc += new System.Numerics.Vector<double>(a[i..]) * new System.Numerics.Vector<double>(b[i..]);
+        double s = System.Numerics.Vector.Sum(acc);
+        for (; i < a.Length; i++) s += a[i] * b[i];
+        return s;
+    }
+
+    /// <summary>Pixel edges of a sampled spectrum (geometric midpoints; the outer edges mirror the next one).</summary>
+    private sealed record InputBins(double[] Edges, double StepLn, LogWavelengthGrid? Uniform)
+    {
+        public double FirstEdge => Edges[0];
+
+        public double LastEdge => Edges[^1];
+
+        public static InputBins Of(double[] w)
+        {
+            int n = w.Length;
+            var edges = new double[n + 1];
+            for (int i = 1; i < n; i++) edges[i] = Math.Sqrt(w[i - 1] * w[i]);
+            edges[0] = w[0] * w[0] / edges[1];
+            edges[n] = w[n - 1] * w[n - 1] / edges[n - 1];
+            double step = Math.Log(edges[n] / edges[0]) / n;
+            // Uniform in ln λ to 1e-4 of a step (wavelengths written to 0.001 Å are).
+            bool uniform = true;
+            for (int i = 1; i < n && uniform; i++)
+                uniform = Math.Abs(Math.Log(w[i] / w[i - 1]) - step) < 1e-4 * step + 2e-3 / w[i];
+            return new InputBins(edges, step, uniform ? new LogWavelengthGrid(edges[0], step, n) : null);
+        }
     }
 }

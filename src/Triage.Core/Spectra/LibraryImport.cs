@@ -14,7 +14,7 @@ public sealed class LibraryImportException(IReadOnlyList<ImportError> errors)
 /// <summary>
 /// Reads a labelled library: <c>manifest.csv</c> (header row with the columns <c>file</c>,
 /// <c>object_id</c>, <c>subtype</c>, <c>phase_days</c>, <c>redshift</c> and optionally
-/// <c>source_resolution</c> and <c>hdu</c>, in any order; <c>#</c> comment lines) plus one spectrum
+/// <c>source_resolution</c>, <c>hdu</c> and <c>noise_free</c> (true: the flux is a noise-free model and its error column states the native noise), in any order; <c>#</c> comment lines) plus one spectrum
 /// per row: plain text, or FITS when the file name ends in .fits, .fit, .fits.gz or .fit.gz
 /// (<see cref="Fits.FitsSpectrumReader"/>; <c>hdu</c> names the HDU by 0-based index or EXTNAME).
 /// </summary>
@@ -140,7 +140,8 @@ public static class LibraryImport
                 warnings.Add(new ImportError(ManifestFileName, row.Line, string.Create(CultureInfo.InvariantCulture,
                     $"source_resolution {m} differs from the header's {Fits.FitsSpectrumReader.ResolvingPowerKeyword} = {h} in '{row.File}'; the manifest's value is used"))
                     { Keyword = Fits.FitsSpectrumReader.ResolvingPowerKeyword });
-            spectra.Add(new LibrarySpectrum(row.File, row.ObjectId, row.Subtype, row.Phase, row.Redshift, sourceR, result.s));
+            spectra.Add(new LibrarySpectrum(row.File, row.ObjectId, row.Subtype, row.Phase, row.Redshift, sourceR, result.s)
+                { NoiseFree = row.NoiseFree });
         }
         if (errs.Count == 0 && spectra.Count == 0)
             errs.Add(new ImportError(ManifestFileName, null, "the manifest lists no spectra"));
@@ -149,7 +150,7 @@ public static class LibraryImport
         return library is not null;
     }
 
-    private sealed record Row(int Line, string File, string ObjectId, string Subtype, double Phase, double Redshift, double? SourceR, string? Hdu);
+    private sealed record Row(int Line, string File, string ObjectId, string Subtype, double Phase, double Redshift, double? SourceR, string? Hdu, bool NoiseFree);
 
     private static List<Row> ReadManifest(TextReader reader, Taxonomy taxonomy, List<ImportError> errs, out bool synthetic)
     {
@@ -212,6 +213,14 @@ public static class LibraryImport
                 double r = Number(Get("source_resolution"), "source_resolution", lineNo, errs, double.Epsilon, 1e7);
                 if (!double.IsNaN(r)) sourceR = r;
             }
+            bool noiseFree = false;
+            if (col.ContainsKey("noise_free") && Get("noise_free").Length > 0)
+            {
+                string v = Get("noise_free").ToLowerInvariant();
+                if (v is "true" or "1" or "yes") noiseFree = true;
+                else if (v is not ("false" or "0" or "no"))
+                    errs.Add(new ImportError(ManifestFileName, lineNo, $"noise_free '{Get("noise_free")}' must be true or false"));
+            }
             string? hdu = col.ContainsKey("hdu") && Get("hdu").Length > 0 ? Get("hdu") : null;
             if (errs.Count > before) continue;
             if (epochs.TryGetValue((objectId, phase), out int dupLine))
@@ -222,7 +231,7 @@ public static class LibraryImport
             }
             files[file] = lineNo;
             epochs[(objectId, phase)] = lineNo;
-            rows.Add(new Row(lineNo, file, objectId, subtype, phase, z, sourceR, hdu));
+            rows.Add(new Row(lineNo, file, objectId, subtype, phase, z, sourceR, hdu, noiseFree));
         }
         if (col is null) errs.Add(new ImportError(ManifestFileName, null, "the manifest is empty (no header row)"));
         return rows;
@@ -272,13 +281,15 @@ public static class LibraryImport
     public static void WriteManifest(TextWriter writer, SpectralLibrary library, IEnumerable<string> comments, bool exact = false)
     {
         foreach (var c in comments) writer.Write("# " + c + "\n");
-        writer.Write("file,object_id,subtype,phase_days,redshift,source_resolution\n");
+        bool noiseColumn = library.Spectra.Any(s => s.NoiseFree);
+        writer.Write("file,object_id,subtype,phase_days,redshift,source_resolution" + (noiseColumn ? ",noise_free\n" : "\n"));
         foreach (var s in library.Spectra)
-            writer.Write(exact
+            writer.Write((exact
                 ? string.Create(CultureInfo.InvariantCulture,
-                    $"{Csv(s.File)},{Csv(s.ObjectId)},{Csv(s.Subtype)},{s.PhaseDays:R},{s.Redshift:R},{s.SourceResolution:R}\n")
+                    $"{Csv(s.File)},{Csv(s.ObjectId)},{Csv(s.Subtype)},{s.PhaseDays:R},{s.Redshift:R},{s.SourceResolution:R}")
                 : string.Create(CultureInfo.InvariantCulture,
-                    $"{s.File},{s.ObjectId},{s.Subtype},{s.PhaseDays:0.##},{s.Redshift:0.#####},{s.SourceResolution}\n"));
+                    $"{s.File},{s.ObjectId},{s.Subtype},{s.PhaseDays:0.##},{s.Redshift:0.#####},{s.SourceResolution}"))
+                + (noiseColumn ? (s.NoiseFree ? ",true\n" : ",false\n") : "\n"));
     }
 
     private static string Csv(string field) =>

@@ -94,6 +94,45 @@ public static class FluxRebinning
         }
     }
 
+    /// <summary>
+    /// Mean flux density over each bin of <paramref name="grid"/> of a spectrum given as bins: value i is the mean
+    /// density between <paramref name="edgesAngstrom"/>[i] and [i + 1] (piecewise constant). Bins of the grid not
+    /// fully inside the edges are NaN.
+    /// </summary>
+    public static double[] BinsToGrid(double[] edgesAngstrom, double[] flux, LogWavelengthGrid grid)
+    {
+        int n = flux.Length;
+        var cum = new double[n + 1];
+        for (int i = 0; i < n; i++) cum[i + 1] = cum[i] + flux[i] * (edgesAngstrom[i + 1] - edgesAngstrom[i]);
+        var result = new double[grid.Count];
+        int seg = 0;
+        double prevEdge = grid.StartAngstrom, prevC = Cumulative(prevEdge, ref seg);
+        for (int k = 0; k < grid.Count; k++)
+        {
+            double edge = grid.EdgeAngstrom(k + 1);
+            double c = Cumulative(edge, ref seg);
+            result[k] = (c - prevC) / (edge - prevEdge);
+            prevEdge = edge;
+            prevC = c;
+        }
+        return result;
+
+        double Cumulative(double x, ref int s)
+        {
+            if (x < edgesAngstrom[0] * (1 - 1e-12) || x > edgesAngstrom[n] * (1 + 1e-12)) return double.NaN;
+            while (s < n - 1 && edgesAngstrom[s + 1] < x) s++;
+            return cum[s] + flux[s] * (x - edgesAngstrom[s]);
+        }
+    }
+
+    /// <summary>As above for bins on a log grid <paramref name="source"/>.</summary>
+    public static double[] BinsToGrid(LogWavelengthGrid source, double[] flux, LogWavelengthGrid grid)
+    {
+        var edges = new double[source.Count + 1];
+        for (int i = 0; i <= source.Count; i++) edges[i] = source.EdgeAngstrom(i);
+        return BinsToGrid(edges, flux, grid);
+    }
+
     /// <summary>Integral ∫ f dλ of the piecewise-linear interpolant (trapezoid rule, Å × flux units).</summary>
     public static double Integral(ReadOnlySpan<double> wavelengthAngstrom, ReadOnlySpan<double> flux)
     {

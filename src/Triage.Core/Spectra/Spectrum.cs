@@ -33,7 +33,14 @@ public sealed record LibrarySpectrum(
     double PhaseDays,
     double Redshift,
     double? SourceResolution,
-    Spectrum Spectrum);
+    Spectrum Spectrum)
+{
+    /// <summary>
+    /// True when the flux carries no noise (a model spectrum): its error column, when present, states the noise
+    /// a native observation would have, and calibration draws all of the noise itself.
+    /// </summary>
+    public bool NoiseFree { get; init; }
+}
 
 /// <summary>A validated labelled spectral library.</summary>
 /// <param name="Spectra">Every spectrum, in manifest order.</param>
@@ -76,6 +83,7 @@ public sealed record SpectralLibrary(IReadOnlyList<LibrarySpectrum> Spectra, boo
         foreach (var s in Spectra)
         {
             AddString(s.File); AddString(s.ObjectId); AddString(s.Subtype);
+            Add(s.NoiseFree ? 1UL : 0UL);
             Add((ulong)BitConverter.DoubleToInt64Bits(s.PhaseDays));
             Add((ulong)BitConverter.DoubleToInt64Bits(s.Redshift));
             Add((ulong)BitConverter.DoubleToInt64Bits(s.SourceResolution ?? 0));
@@ -83,6 +91,7 @@ public sealed record SpectralLibrary(IReadOnlyList<LibrarySpectrum> Spectra, boo
             {
                 Add((ulong)BitConverter.DoubleToInt64Bits(s.Spectrum.WavelengthAngstrom[i]));
                 Add((ulong)BitConverter.DoubleToInt64Bits(s.Spectrum.Flux[i]));
+                if (s.Spectrum.FluxError is { } e) Add((ulong)BitConverter.DoubleToInt64Bits(e[i]));
             }
         }
         return h.ToString("x16", System.Globalization.CultureInfo.InvariantCulture);

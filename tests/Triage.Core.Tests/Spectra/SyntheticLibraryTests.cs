@@ -74,11 +74,12 @@ public class SyntheticLibraryTests
         Assert.True(lib.Synthetic);
         Assert.Equal(40, objects.Count);
         Assert.Equal(lib.Fingerprint(), again.Fingerprint());
-        Assert.All(lib.Spectra, s => Assert.Equal(1500, s.SourceResolution));
+        Assert.All(lib.Spectra, s => Assert.Equal(6000, s.SourceResolution));
         Assert.All(lib.Spectra, s => Assert.True(Taxonomy.Default.Contains(s.Subtype)));
-        // Native sampling: 2 pixels per element of R = 1500 (N = R ln(λ2/λ1), check-values §6).
+        Assert.All(lib.Spectra, s => Assert.True(s.NoiseFree && s.Spectrum.FluxError is not null));
+        // Native sampling: 2 pixels per element of R = 6000 (N = R ln(λ2/λ1), check-values §6).
         var first = lib.Spectra[0].Spectrum;
-        double elements = LogWavelengthGrid.ResolutionElements(1500, first.MinWavelengthAngstrom, first.MaxWavelengthAngstrom);
+        double elements = LogWavelengthGrid.ResolutionElements(6000, first.MinWavelengthAngstrom, first.MaxWavelengthAngstrom);
         Assert.InRange(first.Count / elements, 1.99, 2.01);
     }
 
@@ -90,5 +91,45 @@ public class SyntheticLibraryTests
         Assert.All(counts.Values, c => Assert.True(c >= 8));
         Assert.Equal("Ia", counts.MaxBy(kv => kv.Value).Key);
         Assert.Equal(Taxonomy.Default.Subtypes.OrderBy(s => s), counts.Keys.OrderBy(s => s));
+    }
+
+    [Fact]
+    public void Knobs_DocumentedTable_EqualsCodeDefaults()
+    {
+        // One source of the knobs: SynthOptions' defaults. docs/synthetic-library.md lists them in a table
+        // "| `Name` | value | meaning |"; every knob must be there with the same value, and nothing else.
+        string docs = File.ReadAllText(Path.Combine(RepoRoot(), "docs", "synthetic-library.md"));
+        var rows = System.Text.RegularExpressions.Regex.Matches(docs, @"^\| `(\w+)` \| ([^|]+) \|", System.Text.RegularExpressions.RegexOptions.Multiline)
+            .ToDictionary(m => m.Groups[1].Value, m => m.Groups[2].Value.Trim());
+        var knobs = SynthOptions.Knobs();
+        Assert.Equal(knobs.Select(k => k.Name).Order(), rows.Keys.Order());
+        foreach (var (name, value) in knobs)
+            Assert.True(string.Equals(Convert.ToString(value, System.Globalization.CultureInfo.InvariantCulture), rows[name], StringComparison.Ordinal),
+                $"{name}: code {value}, docs {rows[name]}");
+    }
+
+    [Fact]
+    public void Generate_NoisyTwin_DiffersFromNoiseFreeByTheStatedNoise()
+    {
+        // The error column states the noise; the noisy library's residual against its noise-free twin must have that σ
+        // (normalised residuals: unit variance within 5 % over ~10^5 pixels; mean 0 within 0.02).
+        var options = new SynthOptions { Objects = 14, MinObjectsPerSubtype = 1, MeanSpectraPerObject = 2, Seed = 4, NativeResolution = 1500 };
+        var clean = SyntheticLibrary.Generate(options).Library.Spectra;
+        var noisy = SyntheticLibrary.Generate(options with { NoiseFree = false }).Library.Spectra;
+        var z = clean.Zip(noisy).Take(10).SelectMany(p => p.First.Spectrum.Flux.Select((f, i) => (p.Second.Spectrum.Flux[i] - f) / p.First.Spectrum.FluxError![i])).ToArray();
+        double mean = z.Average(), variance = z.Select(v => (v - mean) * (v - mean)).Average();
+        Assert.InRange(mean, -0.02, 0.02);
+        Assert.InRange(variance, 0.95, 1.05);
+        // Lower S/N in the blue: the stated error at 4000 Å exceeds that at 6000 Å by (6000/4000)^1.5 ≈ 1.84.
+        var s0 = clean[0].Spectrum;
+        double At(double l) => s0.FluxError![Array.FindIndex(s0.WavelengthAngstrom, w => w >= l)];
+        Assert.InRange(At(4000) / At(6000), 1.80, 1.88);
+    }
+
+    private static string RepoRoot()
+    {
+        var dir = new DirectoryInfo(AppContext.BaseDirectory);
+        while (dir is not null && !File.Exists(Path.Combine(dir.FullName, "Triage.sln"))) dir = dir.Parent;
+        return dir?.FullName ?? throw new DirectoryNotFoundException("Triage.sln not found above the test binaries.");
     }
 }
