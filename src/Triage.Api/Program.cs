@@ -2,7 +2,9 @@ using Triage.Api.Access;
 using Triage.Api.Calibrations;
 using Triage.Api.Candidates;
 using Triage.Api.Errors;
+using Triage.Api.Events;
 using Triage.Api.Jobs;
+using Triage.Api.NightOperations;
 using Triage.Api.Operations;
 using Triage.Api.Plans;
 using Triage.Api.Roster;
@@ -20,6 +22,8 @@ builder.Services.AddRoster();
 builder.Services.AddCandidates(builder.Configuration);
 builder.Services.AddJobs(builder.Configuration);
 builder.Services.AddPlans();
+builder.Services.AddNightOperations(builder.Configuration);
+builder.Services.AddPlanEvents(builder.Configuration);
 builder.Services.AddCalibrations();
 builder.Services.AddSky();
 
@@ -40,6 +44,8 @@ app.MapRoster();
 app.MapCandidates();
 app.MapJobs();
 app.MapPlans();
+app.MapNightOperations();
+app.MapPlanEvents();
 app.MapCalibrations();
 app.MapSky();
 

@@ -55,7 +55,7 @@ public static class PlanEndpoints
         {
             return TypedResults.ValidationProblem(checks.ToDictionary());
         }
-        var input = new PlanJobInput(night, objective, limit, request.FromUtc?.ToUniversalTime());
+        var input = new PlanJobInput(night, objective, limit, request.FromUtc?.ToUniversalTime(), request.Deterministic ?? true);
         var id = await jobs.EnqueueAsync(PlanJobKind, JsonSerializer.Serialize(input, OperationsSetup.JobJson), Caller.From(user).KeyId, clock.GetUtcNow(), ct);
         var body = new PlanJobResponse(id, $"/api/jobs/{id}", $"/api/plans/{night:yyyy-MM-dd}");
         return TypedResults.Accepted($"/api/jobs/{id}", body);
@@ -93,9 +93,9 @@ public static class PlanEndpoints
         {
             return bad;
         }
-        if (format is not null and not "json" and not "csv")
+        if (format is not null and not "json" and not "csv" and not "sheet")
         {
-            return Problems.BadQuery("format", "must be json or csv");
+            return Problems.BadQuery("format", "must be json, csv or sheet (the plain-text night sheet)");
         }
         var found = await store.GetAsync(date, version, ct);
         if (found is null)
@@ -110,10 +110,16 @@ public static class PlanEndpoints
         }
         if (format == "csv")
         {
-            return TypedResults.File(Encoding.UTF8.GetBytes(QueueCsv.Write(queue)), "text/csv", $"queue-{night}-{queue.Name}.csv");
+            return TypedResults.File(Encoding.UTF8.GetBytes(OperatorQueue.Csv(queue)), "text/csv", $"queue-{night}-{queue.Name}.csv");
+        }
+        if (format == "sheet")
+        {
+            var row = found.Value.Row;
+            return TypedResults.File(Encoding.UTF8.GetBytes(OperatorQueue.NightSheet(queue, row.Night, row.Version, row.PlannedFrom)),
+                "text/plain; charset=utf-8", $"night-sheet-{night}-{queue.Name}.txt");
         }
         return TypedResults.Ok(new QueueResponse(PlanVersionResponse.From(found.Value.Row), NightPlan.AdvisoryStatement,
-            queue.SpectrographId, queue.Name, queue.SiteName, queue.ResolvingPower, queue.Queue));
+            queue.SpectrographId, queue.Name, queue.SiteName, queue.ResolvingPower, OperatorQueue.Entries(queue)));
     }
 
     public static async Task<Results<Ok<PlanDiffResponse>, ProblemHttpResult>> DiffVersions(string night, int? from, int? to, PlanStore store, CancellationToken ct)
@@ -157,35 +163,13 @@ public static class PlanEndpoints
     }
 }
 
-/// <summary>A queue as CSV for observers' tools: one row per observation, UTC times, the reason last.</summary>
-public static class QueueCsv
-{
-    public static string Write(SpectrographQueue queue)
-    {
-        var inv = CultureInfo.InvariantCulture;
-        var sb = new StringBuilder();
-        sb.AppendLine("# Advisory plan: the observatory's own interlocks and operators decide what is observed.");
-        sb.AppendLine("position,candidate_id,start_utc,end_utc,exposure_seconds,airmass,predicted_mag_ab,expected_snr,expected_accuracy,value,reason");
-        var i = 0;
-        foreach (var e in queue.Queue)
-        {
-            sb.Append(++i).Append(',')
-              .Append(Quote(e.CandidateId)).Append(',')
-              .Append(e.StartUtc.UtcDateTime.ToString("yyyy-MM-ddTHH:mm:ssZ", inv)).Append(',')
-              .Append(e.EndUtc.UtcDateTime.ToString("yyyy-MM-ddTHH:mm:ssZ", inv)).Append(',')
-              .Append(e.ExposureSeconds.ToString("0", inv)).Append(',')
-              .Append(e.Airmass.ToString("0.000", inv)).Append(',')
-              .Append(e.PredictedMagnitude.ToString("0.00", inv)).Append(',')
-              .Append(e.ExpectedSnr.ToString("0.0", inv)).Append(',')
-              .Append(e.ExpectedAccuracy.ToString("0.000", inv)).Append(',')
-              .Append(e.Value.ToString("0.0000", inv)).Append(',')
-              .Append(Quote(e.Reason)).AppendLine();
-        }
-        return sb.ToString();
-    }
-
-    private static string Quote(string s) => "\"" + s.Replace("\"", "\"\"", StringComparison.Ordinal) + "\"";
-}
-
 /// <summary>Input of a <c>plan</c> job.</summary>
-public sealed record PlanJobInput(DateOnly Night, PlanObjective Objective, double TimeLimitSeconds, DateTimeOffset? FromUtc);
+/// <param name="Night">Local date of the evening the night starts.</param>
+/// <param name="Objective">What to maximise.</param>
+/// <param name="TimeLimitSeconds">Wall-clock limit of a non-deterministic solve, s.</param>
+/// <param name="FromUtc">Replan from this instant; null: the later of now and the night's start.</param>
+/// <param name="Deterministic">Same inputs, same plan (one worker, fixed rounds); the default for every plan job.</param>
+/// <param name="TriggerKind">What asked for the version: manual, closure, report, candidate, schedule.</param>
+/// <param name="TriggerDetail">One sentence on the trigger.</param>
+public sealed record PlanJobInput(DateOnly Night, PlanObjective Objective, double TimeLimitSeconds, DateTimeOffset? FromUtc,
+    bool Deterministic = true, string TriggerKind = "manual", string? TriggerDetail = null);

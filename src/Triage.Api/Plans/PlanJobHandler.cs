@@ -6,6 +6,8 @@ using Triage.Learning;
 using Triage.Scheduling;
 using Triage.Storage.Calibrations;
 using Triage.Storage.Candidates;
+using Triage.Api.Events;
+using Triage.Storage.NightOperations;
 using Triage.Storage.Plans;
 using Triage.Storage.Roster;
 
@@ -22,9 +24,13 @@ public sealed class PlanJobHandler(
     CandidateStore candidates,
     CalibrationStore calibrations,
     PlanStore plans,
+    NightOperationsStore operations,
     TimeProvider clock,
     ILogger<PlanJobHandler> log) : IJobHandler
 {
+    /// <summary>Entries of the previous version starting within this time of the replan instant are kept as they are (acquisition under way).</summary>
+    public static readonly TimeSpan FreezeAhead = TimeSpan.FromMinutes(5);
+
     public string Kind => PlanEndpoints.PlanJobKind;
 
     public async Task<string> RunAsync(string inputJson, IProgress<JobProgress> progress, CancellationToken ct)
@@ -41,16 +47,31 @@ public sealed class PlanJobHandler(
         var sites = (await roster.ListSitesAsync(new SiteFilter(), ct)).Select(v => v.Value).ToList();
         var spectrographs = (await roster.ListSpectrographsAsync(new SpectrographFilter(), ct)).Select(v => v.Value).ToList();
 
-        // Replanning keeps what is executing at the chosen instant.
-        var from = input.FromUtc ?? DateTimeOffset.MinValue;
+        // A replan starts at the later of now and the night's start (the builder clamps to the first dark start);
+        // what is executing at that instant is kept, the previous version's later assignments are anchored.
+        // Whole microseconds: what PostgreSQL stores, so that plannedFrom reads back as the instant used.
+        var now = clock.GetUtcNow();
+        now = new DateTimeOffset(now.UtcTicks - now.UtcTicks % 10, TimeSpan.Zero);
+        var from = input.FromUtc ?? now;
+        var previousVersion = await plans.GetAsync(input.Night, null, ct);
+        var previous = previousVersion is { } pv ? PlanJson.Deserialize(pv.BodyJson) : null;
         var kept = new List<(string SpectrographId, QueueEntry Entry)>();
-        if (input.FromUtc is not null && await plans.GetAsync(input.Night, null, ct) is { } previous)
+        var anchors = new List<PreviousAssignment>();
+        foreach (var q in previous?.Spectrographs ?? [])
         {
-            foreach (var q in PlanJson.Deserialize(previous.BodyJson).Spectrographs)
-            {
-                kept.AddRange(q.Queue.Where(e => e.StartUtc <= from && from < e.EndUtc).Select(e => (q.SpectrographId, e)));
-            }
+            // Executing, or starting so soon that the unit is already acquiring it: kept as it is.
+            kept.AddRange(q.Queue.Where(e => e.StartUtc <= from + FreezeAhead && from < e.EndUtc).Select(e => (q.SpectrographId, e)));
+            anchors.AddRange(q.Queue.Where(e => e.StartUtc > from + FreezeAhead).Select(e => new PreviousAssignment(e.CandidateId, q.SpectrographId, e.StartUtc, e.ExposureSeconds)));
         }
+        var nightStart = new DateTimeOffset(input.Night.ToDateTime(TimeOnly.MinValue), TimeSpan.Zero);
+        var closures = await operations.ClosuresAsync(nightStart.AddHours(-12), nightStart.AddDays(2), null, ct);
+        var conditions = await operations.ConditionsAtAsync(from < nightStart ? nightStart : from, null, ct);
+
+        // A closure is a hard constraint even for work under way: an entry that runs into one is not kept.
+        var siteOf = spectrographs.ToDictionary(s => s.Id.ToString(), s => s.SiteId, StringComparer.OrdinalIgnoreCase);
+        kept.RemoveAll(k => closures.Any(c => siteOf.TryGetValue(k.SpectrographId, out var site) && c.SiteId == site
+            && (c.SpectrographId is null || string.Equals(c.SpectrographId.ToString(), k.SpectrographId, StringComparison.OrdinalIgnoreCase))
+            && k.Entry.StartUtc < c.ToUtc && c.FromUtc < k.Entry.EndUtc));
         var keptIds = kept.Select(k => k.Entry.CandidateId).ToHashSet(StringComparer.Ordinal);
         var busy = kept.GroupBy(k => Guid.Parse(k.SpectrographId)).ToDictionary(g => g.Key, g => g.Max(k => k.Entry.EndUtc));
 
@@ -63,28 +84,59 @@ public sealed class PlanJobHandler(
             .ToList();
 
         progress.Report(new JobProgress(0.4, "building the night"));
-        var night = NightProblemBuilder.Build(sites, spectrographs, targets, surface, input.Night, from,
-            new NightBuildSettings { Objective = input.Objective, BusyUntilUtc = busy });
+        var night = NightProblemBuilder.Build(sites, spectrographs, targets, surface, input.Night, from, new NightBuildSettings
+        {
+            Objective = input.Objective,
+            BusyUntilUtc = busy,
+            Previous = anchors,
+            Closures = NightOperationsStore.ForPlanner(closures),
+            Conditions = NightOperationsStore.ForPlanner(conditions),
+        });
+        var plannedFrom = from > night.Problem.EpochUtc ? from : night.Problem.EpochUtc;
         progress.Report(new JobProgress(0.5, "solving"));
-        var plan = NightPlanning.Plan(night, new SolverSettings { TimeLimitSeconds = input.TimeLimitSeconds }, ct)
-            with { Night = input.Night, GeneratedUtc = clock.GetUtcNow() };
+        var solver = new SolverSettings { TimeLimitSeconds = input.TimeLimitSeconds, Deterministic = input.Deterministic };
+        var plan = NightPlanning.Plan(night, solver, ct) with { Night = input.Night, GeneratedUtc = now };
         plan = KeepExecuting(plan, kept);
+        plan = await WithBrokerIdsAsync(plan, ct);
 
+        var churn = previous is null ? default : PlanChurn.Between(previous, plan, plannedFrom);
+        var churnJson = previous is null ? null : JsonSerializer.Serialize(churn.Churn, PlanJson.Options);
         progress.Report(new JobProgress(0.95, "storing the version"));
+        var ids = plan.Spectrographs.SelectMany(q => q.Queue).Select(e => Guid.TryParse(e.CandidateId, out var g) ? g : Guid.Empty).Where(g => g != Guid.Empty).ToList();
         var row = await plans.AddVersionAsync(new NewPlanVersion(
-            input.Night, input.FromUtc ?? clock.GetUtcNow(), input.Objective.ToString().ToLowerInvariant(), plan.Summary.Status.ToString().ToLowerInvariant(),
-            plan.Summary.ExpectedCorrectIdentifications, plan.Summary.Assigned, null, active.Row.Id, PlanJson.Serialize(plan)), clock.GetUtcNow(), ct);
-        await MarkPlannedAsync(plan, ct);
-        log.LogInformation("Planned {Assigned} of {Candidates} candidates for {Night} as version {Version}",
-            plan.Summary.Assigned, plan.Summary.Candidates, input.Night, row.Version);
+            input.Night, plannedFrom, input.Objective.ToString().ToLowerInvariant(), plan.Summary.Status.ToString().ToLowerInvariant(),
+            plan.Summary.ExpectedCorrectIdentifications, plan.Summary.Assigned, null, active.Row.Id, PlanJson.Serialize(plan))
+        {
+            TriggerKind = input.TriggerKind,
+            TriggerDetail = input.TriggerDetail,
+            ChurnJson = churnJson,
+            CandidateIds = ids,
+            EventBody = version => PlanEventBody.Serialize(input.Night, version, previousVersion?.Row.Version, now, plannedFrom,
+                input.TriggerKind, input.TriggerDetail, previous is null ? null : churn.Churn, churn.Changes ?? [], plan),
+        }, now, ct);
+        log.LogInformation("Planned {Assigned} of {Candidates} candidates for {Night} as version {Version} from {From} (trigger {Trigger}, churn {Churn})",
+            plan.Summary.Assigned, plan.Summary.Candidates, input.Night, row.Version, plannedFrom, input.TriggerKind, churnJson);
         return JsonSerializer.Serialize(new
         {
             night = input.Night.ToString("yyyy-MM-dd", System.Globalization.CultureInfo.InvariantCulture),
             version = row.Version,
             url = $"/api/plans/{input.Night:yyyy-MM-dd}?version={row.Version}",
+            plannedFrom,
             assigned = plan.Summary.Assigned,
             expectedCorrectIdentifications = plan.Summary.ExpectedCorrectIdentifications,
+            churn = previous is null ? null : churn.Churn,
         });
+    }
+
+    /// <summary>Adds the broker and the broker's own id to every entry (operators and brokers think in those ids).</summary>
+    private async Task<NightPlan> WithBrokerIdsAsync(NightPlan plan, CancellationToken ct)
+    {
+        var ids = plan.Spectrographs.SelectMany(q => q.Queue).Select(e => Guid.TryParse(e.CandidateId, out var g) ? g : Guid.Empty).Where(g => g != Guid.Empty).ToList();
+        var known = await candidates.BrokerIdsAsync(ids, ct);
+        QueueEntry With(QueueEntry e) => Guid.TryParse(e.CandidateId, out var g) && known.TryGetValue(g, out var b)
+            ? e with { Broker = b.Broker, BrokerCandidateId = b.BrokerCandidateId }
+            : e;
+        return plan with { Spectrographs = plan.Spectrographs.Select(q => q with { Queue = q.Queue.Select(With).ToList() }).ToList() };
     }
 
     /// <summary>Candidates in state new or planned, with their photometry; the planner's id is the service's candidate id.</summary>
@@ -104,7 +156,7 @@ public sealed class PlanJobHandler(
         {
             return plan;
         }
-        var byUnit = kept.ToLookup(k => k.SpectrographId, k => k.Entry with { Reason = "Executing when the night was replanned; kept as it was. " + k.Entry.Reason });
+        var byUnit = kept.ToLookup(k => k.SpectrographId, k => k.Entry with { Reason = "Executing or about to start when the night was replanned; kept as it was. " + k.Entry.Reason, KeptFromPrevious = true });
         var queues = plan.Spectrographs
             .Select(q => byUnit[q.SpectrographId].Any() ? q with { Queue = byUnit[q.SpectrographId].Concat(q.Queue).OrderBy(e => e.StartUtc).ToList() } : q)
             .ToList();
@@ -113,17 +165,5 @@ public sealed class PlanJobHandler(
             Spectrographs = queues,
             Notes = [.. plan.Notes, $"{kept.Count} observation(s) executing at the replanning instant were kept."],
         };
-    }
-
-    /// <summary>Candidates in the new version move from new to planned (the lifecycle's own rules decide).</summary>
-    private async Task MarkPlannedAsync(NightPlan plan, CancellationToken ct)
-    {
-        foreach (var id in plan.Spectrographs.SelectMany(q => q.Queue).Select(e => e.CandidateId))
-        {
-            if (Guid.TryParse(id, out var guid))
-            {
-                await candidates.TransitionAsync(guid, CandidateState.Planned, s => s == CandidateState.New, "planner", "in a plan version", clock.GetUtcNow(), ct);
-            }
-        }
     }
 }

@@ -51,23 +51,7 @@ public sealed class PlanJobTests(IsolatedDatabaseFactory api) : IClassFixture<Is
         return (api.ClientWith(await api.KeyAsync(Scope.Scheduler)), observatoryKeys);
     }
 
-    private static async Task<JsonElement> RunJobAsync(HttpClient client, HttpResponseMessage accepted)
-    {
-        Assert.Equal(HttpStatusCode.Accepted, accepted.StatusCode);
-        var jobUrl = JsonDocument.Parse(await accepted.Content.ReadAsStringAsync()).RootElement.GetProperty("jobUrl").GetString();
-        for (var i = 0; i < 600; i++)
-        {
-            var job = JsonDocument.Parse(await client.GetStringAsync(jobUrl)).RootElement;
-            var status = job.GetProperty("status").GetString();
-            if (status == "succeeded")
-            {
-                return job.GetProperty("result");
-            }
-            Assert.True(status != "failed", job.GetProperty("error").GetString());
-            await Task.Delay(200);
-        }
-        throw new TimeoutException("the plan job did not finish");
-    }
+    private static Task<JsonElement> RunJobAsync(HttpClient client, HttpResponseMessage accepted) => JobPolling.RunToEndAsync(client, accepted, 600);
 
     [Fact]
     public async Task WaitingCandidates_OneBulkRead_MatchesTheOneByOneReads()
