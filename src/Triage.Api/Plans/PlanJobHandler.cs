@@ -28,9 +28,6 @@ public sealed class PlanJobHandler(
     TimeProvider clock,
     ILogger<PlanJobHandler> log) : IJobHandler
 {
-    /// <summary>Entries of the previous version starting within this time of the replan instant are kept as they are (acquisition under way).</summary>
-    public static readonly TimeSpan FreezeAhead = TimeSpan.FromMinutes(5);
-
     public string Kind => PlanEndpoints.PlanJobKind;
 
     public async Task<string> RunAsync(string inputJson, IProgress<JobProgress> progress, CancellationToken ct)
@@ -55,28 +52,19 @@ public sealed class PlanJobHandler(
         var from = input.FromUtc ?? now;
         var previousVersion = await plans.GetAsync(input.Night, null, ct);
         var previous = previousVersion is { } pv ? PlanJson.Deserialize(pv.BodyJson) : null;
-        var kept = new List<(string SpectrographId, QueueEntry Entry)>();
-        var anchors = new List<PreviousAssignment>();
-        foreach (var q in previous?.Spectrographs ?? [])
-        {
-            // Executing, or starting so soon that the unit is already acquiring it: kept as it is.
-            kept.AddRange(q.Queue.Where(e => e.StartUtc <= from + FreezeAhead && from < e.EndUtc).Select(e => (q.SpectrographId, e)));
-            anchors.AddRange(q.Queue.Where(e => e.StartUtc > from + FreezeAhead).Select(e => new PreviousAssignment(e.CandidateId, q.SpectrographId, e.StartUtc, e.ExposureSeconds)));
-        }
         var nightStart = new DateTimeOffset(input.Night.ToDateTime(TimeOnly.MinValue), TimeSpan.Zero);
         var closures = await operations.ClosuresAsync(nightStart.AddHours(-12), nightStart.AddDays(2), null, ct);
         var conditions = await operations.ConditionsAtAsync(from < nightStart ? nightStart : from, null, ct);
 
         // A closure is a hard constraint even for work under way: an entry that runs into one is not kept.
         var siteOf = spectrographs.ToDictionary(s => s.Id.ToString(), s => s.SiteId, StringComparer.OrdinalIgnoreCase);
-        kept.RemoveAll(k => closures.Any(c => siteOf.TryGetValue(k.SpectrographId, out var site) && c.SiteId == site
+        var start = NightReplan.Split(previous, from, NightReplan.DefaultFreeze, k => !closures.Any(c =>
+            siteOf.TryGetValue(k.SpectrographId, out var site) && c.SiteId == site
             && (c.SpectrographId is null || string.Equals(c.SpectrographId.ToString(), k.SpectrographId, StringComparison.OrdinalIgnoreCase))
             && k.Entry.StartUtc < c.ToUtc && c.FromUtc < k.Entry.EndUtc));
-        var keptIds = kept.Select(k => k.Entry.CandidateId).ToHashSet(StringComparer.Ordinal);
-        var busy = kept.GroupBy(k => Guid.Parse(k.SpectrographId)).ToDictionary(g => g.Key, g => g.Max(k => k.Entry.EndUtc));
 
         progress.Report(new JobProgress(0.08, "reading candidates"));
-        var waiting = await WaitingCandidatesAsync(keptIds, ct);
+        var waiting = await WaitingCandidatesAsync(start.KeptIds, ct);
         progress.Report(new JobProgress(0.25, $"fitting {waiting.Count} light curves"));
         var labels = document.Subtypes.Concat(DefaultSubtypeLabels.All).Distinct(StringComparer.Ordinal).ToArray();
         var targets = waiting.AsParallel().AsOrdered().WithCancellation(ct)
@@ -87,8 +75,8 @@ public sealed class PlanJobHandler(
         var night = NightProblemBuilder.Build(sites, spectrographs, targets, surface, input.Night, from, new NightBuildSettings
         {
             Objective = input.Objective,
-            BusyUntilUtc = busy,
-            Previous = anchors,
+            BusyUntilUtc = start.BusyUntilUtc,
+            Previous = start.Anchors,
             Closures = NightOperationsStore.ForPlanner(closures),
             Conditions = NightOperationsStore.ForPlanner(conditions),
         });
@@ -96,7 +84,7 @@ public sealed class PlanJobHandler(
         progress.Report(new JobProgress(0.5, "solving"));
         var solver = new SolverSettings { TimeLimitSeconds = input.TimeLimitSeconds, Deterministic = input.Deterministic };
         var plan = NightPlanning.Plan(night, solver, ct) with { Night = input.Night, GeneratedUtc = now };
-        plan = KeepExecuting(plan, kept);
+        plan = NightReplan.WithKept(plan, start.Kept);
         plan = await WithBrokerIdsAsync(plan, ct);
 
         var churn = previous is null ? default : PlanChurn.Between(previous, plan, plannedFrom);
@@ -148,22 +136,5 @@ public sealed class PlanJobHandler(
             .Where(w => !exclude.Contains(w.Id.ToString()))
             .Select(w => w.Candidate with { Id = w.Id.ToString() })
             .ToList();
-    }
-
-    private static NightPlan KeepExecuting(NightPlan plan, List<(string SpectrographId, QueueEntry Entry)> kept)
-    {
-        if (kept.Count == 0)
-        {
-            return plan;
-        }
-        var byUnit = kept.ToLookup(k => k.SpectrographId, k => k.Entry with { Reason = "Executing or about to start when the night was replanned; kept as it was. " + k.Entry.Reason, KeptFromPrevious = true });
-        var queues = plan.Spectrographs
-            .Select(q => byUnit[q.SpectrographId].Any() ? q with { Queue = byUnit[q.SpectrographId].Concat(q.Queue).OrderBy(e => e.StartUtc).ToList() } : q)
-            .ToList();
-        return plan with
-        {
-            Spectrographs = queues,
-            Notes = [.. plan.Notes, $"{kept.Count} observation(s) executing at the replanning instant were kept."],
-        };
     }
 }
