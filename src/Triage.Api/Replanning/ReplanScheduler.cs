@@ -46,8 +46,7 @@ public sealed class ReplanScheduler(
     private sealed record Pending(string Kind, string Detail, DateTimeOffset FirstAt, DateTimeOffset LastAt, int Events);
 
     /// <summary>The local date of the evening of the night containing <paramref name="utc"/> at a site of longitude <paramref name="longitudeDeg"/> (east positive).</summary>
-    public static DateOnly NightOf(DateTimeOffset utc, double longitudeDeg) =>
-        DateOnly.FromDateTime((utc + TimeSpan.FromHours(longitudeDeg / 15.0) - TimeSpan.FromHours(12)).UtcDateTime);
+    public static DateOnly NightOf(DateTimeOffset utc, double longitudeDeg) => Triage.Core.Sky.DarkTime.NightOf(utc, longitudeDeg);
 
     /// <summary>Asks for a replan of <paramref name="night"/> because of <paramref name="kind"/> (closure, report, candidate).</summary>
     public void Request(DateOnly night, string kind, string detail)

@@ -51,7 +51,9 @@ public sealed class NightScenario
         var byBroker = page!["items"]!.AsArray().ToDictionary(i => (string)i!["brokerCandidateId"]!, i => (string)i!["id"]!);
         var ids = brokerIds.Select(b => byBroker[b]).ToArray();
 
-        var observedUtc = DateTimeOffset.UtcNow.AddMinutes(-30).ToString("O");
+        // A done report must lie in the site's dark window: the latest dark minute at most 30 minutes ago.
+        var siteRecord = (await host.Services.GetRequiredService<Triage.Storage.Roster.RosterStore>().GetSiteAsync(Guid.Parse(siteId)))!.Value;
+        var observedUtc = Triage.Core.Sky.DarkTime.LatestDarkInstant(siteRecord, DateTimeOffset.UtcNow.AddMinutes(-30))!.Value.ToString("O");
         await PostAsync(client, $"/api/candidates/{ids[0]}/observations", new JsonObject
         {
             ["spectrographId"] = spectrographs[0], ["outcome"] = "done", ["achievedSnr"] = 18.0, ["observedUtc"] = observedUtc,
