@@ -26,6 +26,8 @@ public static class PlanEndpoints
     {
         services.AddSingleton<PlanStore>();
         services.AddSingleton<IJobHandler, PlanJobHandler>();
+        services.AddOptions<PlannerOptions>().BindConfiguration("Triage:Planner")
+            .Validate(o => o.MaxPoolCandidates >= 1, "Triage:Planner:MaxPoolCandidates must be at least 1.");
         return services;
     }
 
@@ -37,6 +39,7 @@ public static class PlanEndpoints
         g.MapGet("/{night}/versions", ListVersions).RequireAuthorization(Policies.AnyKey).WithName("ListPlanVersions");
         g.MapGet("/{night}/queues/{spectrographId}", GetQueue).RequireAuthorization(Policies.AnyKey).WithName("GetQueue");
         g.MapGet("/{night}/diff", DiffVersions).RequireAuthorization(Policies.AnyKey).WithName("DiffPlanVersions");
+        g.MapPlanPages();
         return app;
     }
 
@@ -45,9 +48,13 @@ public static class PlanEndpoints
     {
         var checks = new FieldChecks();
         DateOnly night = default;
-        if (request.Night is null || !DateOnly.TryParseExact(request.Night, "yyyy-MM-dd", CultureInfo.InvariantCulture, DateTimeStyles.None, out night))
+        if (request.Night is null || !Ranges.TryParseNight(request.Night, out night))
         {
-            checks.Fail("night", "is required as YYYY-MM-DD (the local date of the evening the night starts)");
+            checks.Fail("night", $"is required as {Ranges.DateRule} (the local date of the evening the night starts)");
+        }
+        else if (request.FromUtc is { } fromUtc && (fromUtc < Ranges.NightSpan(night).From || fromUtc >= Ranges.NightSpan(night).To))
+        {
+            checks.Fail("fromUtc", $"must fall inside the night of {night:yyyy-MM-dd}: from {Ranges.NightSpan(night).From:yyyy-MM-dd'T'HH:mm'Z'} to before {Ranges.NightSpan(night).To:yyyy-MM-dd'T'HH:mm'Z'}");
         }
         var objective = checks.Choice("objective", request.Objective, Objectives, PlanObjective.Accuracy);
         var limit = request.TimeLimitSeconds is null ? 5 : checks.Number("timeLimitSeconds", request.TimeLimitSeconds, 0, 300, minExclusive: true);
@@ -97,13 +104,13 @@ public static class PlanEndpoints
         {
             return Problems.BadQuery("format", "must be json, csv or sheet (the plain-text night sheet)");
         }
-        var found = await store.GetAsync(date, version, ct);
+        // Only this queue travels from the database, not the whole plan document.
+        var found = await store.GetQueueAsync(date, version, spectrographId, ct);
         if (found is null)
         {
             return Problems.NotFound("night", $"No plan for the night of {night}.");
         }
-        var plan = PlanJson.Deserialize(found.Value.BodyJson);
-        var queue = plan.Spectrographs.FirstOrDefault(q => string.Equals(q.SpectrographId, spectrographId, StringComparison.OrdinalIgnoreCase));
+        var queue = found.Value.QueueJson is { } json ? JsonSerializer.Deserialize<SpectrographQueue>(json, PlanJson.Options) : null;
         if (queue is null)
         {
             return Problems.NotFound("spectrographId", $"Spectrograph {spectrographId} has no queue in this plan.");
@@ -151,14 +158,14 @@ public static class PlanEndpoints
     internal static readonly IReadOnlyDictionary<string, PlanObjective> Objectives =
         new Dictionary<string, PlanObjective> { ["accuracy"] = PlanObjective.Accuracy, ["information"] = PlanObjective.Information };
 
-    private static bool TryNight(string text, out DateOnly night, out ProblemHttpResult problem)
+    internal static bool TryNight(string text, out DateOnly night, out ProblemHttpResult problem)
     {
         problem = null!;
-        if (DateOnly.TryParseExact(text, "yyyy-MM-dd", CultureInfo.InvariantCulture, DateTimeStyles.None, out night))
+        if (Ranges.TryParseNight(text, out night))
         {
             return true;
         }
-        problem = Problems.BadQuery("night", $"must be a date as YYYY-MM-DD; got '{text}'");
+        problem = Problems.BadQuery("night", $"must be {Ranges.DateRule}; got '{text}'");
         return false;
     }
 }

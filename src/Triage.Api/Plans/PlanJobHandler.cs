@@ -1,12 +1,14 @@
 using System.Text.Json;
+using Triage.Api.Events;
 using Triage.Api.Jobs;
 using Triage.Core.Candidates;
 using Triage.Core.Planning;
+using Triage.Core.Roster;
 using Triage.Learning;
 using Triage.Scheduling;
 using Triage.Storage.Calibrations;
 using Triage.Storage.Candidates;
-using Triage.Api.Events;
+using Triage.Storage.Jobs;
 using Triage.Storage.NightOperations;
 using Triage.Storage.Plans;
 using Triage.Storage.Roster;
@@ -15,9 +17,11 @@ namespace Triage.Api.Plans;
 
 /// <summary>
 /// Computes a new plan version for a night from what the database holds now: the open roster,
-/// the candidates still waiting for a spectrum (new or planned), the active calibration. When
-/// replanning from an instant during the night, observations executing at that instant are kept
-/// and their spectrographs stay busy until they end. The version is stored whole or not at all.
+/// the candidates still waiting for a spectrum (new or planned), the active calibration, closures and
+/// reported conditions. A plan starts at the later of now (or <c>fromUtc</c>) and the night's start;
+/// observations of the previous version executing then (or about to start) are kept, later ones are
+/// anchored (kept unless a change gains more than the stability share). The version, the candidates'
+/// state moves, its event and the job's completion are stored whole or not at all.
 /// </summary>
 public sealed class PlanJobHandler(
     RosterStore roster,
@@ -26,14 +30,23 @@ public sealed class PlanJobHandler(
     PlanStore plans,
     NightOperationsStore operations,
     TimeProvider clock,
+    Microsoft.Extensions.Options.IOptions<PlannerOptions> options,
     ILogger<PlanJobHandler> log) : IJobHandler
 {
     public string Kind => PlanEndpoints.PlanJobKind;
 
-    public async Task<string> RunAsync(string inputJson, IProgress<JobProgress> progress, CancellationToken ct)
+    public async Task<string> RunAsync(JobRun run, IProgress<JobProgress> progress, CancellationToken ct)
     {
-        var input = JsonSerializer.Deserialize<PlanJobInput>(inputJson, Triage.Api.Operations.OperationsSetup.JobJson)
+        var input = JsonSerializer.Deserialize<PlanJobInput>(run.InputJson, Triage.Api.Operations.OperationsSetup.JobJson)
             ?? throw new JobInputException("The job input is empty.");
+        if (await plans.FindByJobAsync(run.JobId, ct) is { } stored)
+        {
+            // An earlier run of this job stored its version (and completed the job in that transaction, unless it ran before that rule).
+            log.LogInformation("Job {JobId} already stored version {Version} of {Night}; not planned again", run.JobId, stored.Version, stored.Night);
+            return ResultJson(stored);
+        }
+        var phases = new PhaseTimer(progress, clock);
+        progress = phases;
         progress.Report(new JobProgress(0.02, "reading the active calibration"));
         var active = await calibrations.GetAsync(null, ct)
             ?? throw new JobInputException("No calibration is active: request one (POST /api/calibrations) or import a table first.");
@@ -44,8 +57,7 @@ public sealed class PlanJobHandler(
         var sites = (await roster.ListSitesAsync(new SiteFilter(), ct)).Select(v => v.Value).ToList();
         var spectrographs = (await roster.ListSpectrographsAsync(new SpectrographFilter(), ct)).Select(v => v.Value).ToList();
 
-        // A replan starts at the later of now and the night's start (the builder clamps to the first dark start);
-        // what is executing at that instant is kept, the previous version's later assignments are anchored.
+        // A replan starts at the later of now and the night's start (the builder clamps to the first dark start).
         // Whole microseconds: what PostgreSQL stores, so that plannedFrom reads back as the instant used.
         var now = clock.GetUtcNow();
         now = new DateTimeOffset(now.UtcTicks - now.UtcTicks % 10, TimeSpan.Zero);
@@ -63,8 +75,13 @@ public sealed class PlanJobHandler(
             && (c.SpectrographId is null || string.Equals(c.SpectrographId.ToString(), k.SpectrographId, StringComparison.OrdinalIgnoreCase))
             && k.Entry.StartUtc < c.ToUtc && c.FromUtc < k.Entry.EndUtc));
 
-        progress.Report(new JobProgress(0.08, "reading candidates"));
-        var waiting = await WaitingCandidatesAsync(start.KeptIds, ct);
+        progress.Report(new JobProgress(0.08, "choosing the candidate pool"));
+        var mustKeep = PreviouslyAssigned(previousVersion?.BodyJson, start.KeptIds);
+        var pool = await PoolAsync(sites, spectrographs, surface, input, from, mustKeep, start.KeptIds, ct);
+        progress.Report(new JobProgress(0.15, "reading the pool's photometry"));
+        var waiting = (await candidates.WithPhotometryAsync(pool.Kept.Select(Guid.Parse).ToList(), ct))
+            .Select(w => w.Candidate with { Id = w.Id.ToString() })
+            .ToList();
         progress.Report(new JobProgress(0.25, $"fitting {waiting.Count} light curves"));
         var labels = document.Subtypes.Concat(DefaultSubtypeLabels.All).Distinct(StringComparer.Ordinal).ToArray();
         var targets = waiting.AsParallel().AsOrdered().WithCancellation(ct)
@@ -83,37 +100,93 @@ public sealed class PlanJobHandler(
         var plannedFrom = from > night.Problem.EpochUtc ? from : night.Problem.EpochUtc;
         progress.Report(new JobProgress(0.5, "solving"));
         var solver = new SolverSettings { TimeLimitSeconds = input.TimeLimitSeconds, Deterministic = input.Deterministic };
-        var plan = NightPlanning.Plan(night, solver, ct) with { Night = input.Night, GeneratedUtc = now };
+        var plan = NightPlanning.Plan(night, solver, ct) with { Night = input.Night, GeneratedUtc = now, Pool = pool.Report };
         plan = NightReplan.WithKept(plan, start.Kept);
         plan = await WithBrokerIdsAsync(plan, ct);
-
         var churn = previous is null ? default : PlanChurn.Between(previous, plan, plannedFrom);
         var churnJson = previous is null ? null : JsonSerializer.Serialize(churn.Churn, PlanJson.Options);
+
         progress.Report(new JobProgress(0.95, "storing the version"));
-        var ids = plan.Spectrographs.SelectMany(q => q.Queue).Select(e => Guid.TryParse(e.CandidateId, out var g) ? g : Guid.Empty).Where(g => g != Guid.Empty).ToList();
-        var row = await plans.AddVersionAsync(new NewPlanVersion(
-            input.Night, plannedFrom, input.Objective.ToString().ToLowerInvariant(), plan.Summary.Status.ToString().ToLowerInvariant(),
-            plan.Summary.ExpectedCorrectIdentifications, plan.Summary.Assigned, null, active.Row.Id, PlanJson.Serialize(plan))
+        var scheduled = plan.Spectrographs.SelectMany(q => q.Queue)
+            .Select(e => Guid.TryParse(e.CandidateId, out var g) ? g : Guid.Empty).Where(g => g != Guid.Empty).Distinct().ToList();
+        PlanVersionRow row;
+        try
         {
-            TriggerKind = input.TriggerKind,
-            TriggerDetail = input.TriggerDetail,
-            ChurnJson = churnJson,
-            CandidateIds = ids,
-            EventBody = version => PlanEventBody.Serialize(input.Night, version, previousVersion?.Row.Version, now, plannedFrom,
-                input.TriggerKind, input.TriggerDetail, previous is null ? null : churn.Churn, churn.Changes ?? [], plan),
-        }, now, ct);
-        log.LogInformation("Planned {Assigned} of {Candidates} candidates for {Night} as version {Version} from {From} (trigger {Trigger}, churn {Churn})",
-            plan.Summary.Assigned, plan.Summary.Candidates, input.Night, row.Version, plannedFrom, input.TriggerKind, churnJson);
-        return JsonSerializer.Serialize(new
+            // The version, the candidates it schedules moving to planned, and the job's completion commit together.
+            row = await plans.AddVersionAsync(new NewPlanVersion(
+                input.Night, plannedFrom, input.Objective.ToString().ToLowerInvariant(), plan.Summary.Status.ToString().ToLowerInvariant(),
+                plan.Summary.ExpectedCorrectIdentifications, plan.Summary.Assigned, run.JobId, active.Row.Id, PlanJson.Serialize(plan))
+            {
+                TriggerKind = input.TriggerKind,
+                TriggerDetail = input.TriggerDetail,
+                ChurnJson = churnJson,
+                CandidateIds = scheduled,
+                EventBody = version => PlanEventBody.Serialize(input.Night, version, previousVersion?.Row.Version, now, plannedFrom,
+                    input.TriggerKind, input.TriggerDetail, previous is null ? null : churn.Churn, churn.Changes ?? [], plan),
+            }, now,
+                async (conn, tx, version, token) => await JobStore.CompleteWithinAsync(conn, tx, run.JobId, ResultJson(version), clock.GetUtcNow(), token),
+                ct);
+        }
+        catch (Npgsql.PostgresException e) when (e.ConstraintName == PlanStore.OnePerJobConstraint)
         {
-            night = input.Night.ToString("yyyy-MM-dd", System.Globalization.CultureInfo.InvariantCulture),
-            version = row.Version,
-            url = $"/api/plans/{input.Night:yyyy-MM-dd}?version={row.Version}",
-            plannedFrom,
-            assigned = plan.Summary.Assigned,
-            expectedCorrectIdentifications = plan.Summary.ExpectedCorrectIdentifications,
-            churn = previous is null ? null : churn.Churn,
-        });
+            // Another run of the same job (its heartbeat went stale) stored first: that version is the result.
+            if (await plans.FindByJobAsync(run.JobId, CancellationToken.None) is not { } raced)
+            {
+                throw;
+            }
+            return ResultJson(raced);
+        }
+        log.LogInformation("Planned {Assigned} of {Candidates} candidates for {Night} as version {Version} from {From} (trigger {Trigger}, churn {Churn}); seconds per step: {Steps}",
+            plan.Summary.Assigned, plan.Summary.Candidates, input.Night, row.Version, plannedFrom, input.TriggerKind, churnJson, phases.Summary());
+        return ResultJson(row);
+    }
+
+    private static string ResultJson(PlanVersionRow row) => JsonSerializer.Serialize(new
+    {
+        night = row.Night.ToString("yyyy-MM-dd", System.Globalization.CultureInfo.InvariantCulture),
+        version = row.Version,
+        url = $"/api/plans/{row.Night:yyyy-MM-dd}?version={row.Version}",
+        plannedFrom = row.PlannedFrom,
+        assigned = row.Assigned,
+        expectedCorrectIdentifications = row.ExpectedIdentifications,
+    });
+
+    /// <summary>
+    /// The bounded pool: a light row per waiting candidate (new or planned; those executing at the
+    /// replanning instant are kept apart), ranked by an upper bound of value per hour; the latest
+    /// version's assignments always stay, so a replan can keep what it planned.
+    /// </summary>
+    private async Task<CandidatePoolSelection> PoolAsync(
+        IReadOnlyList<Site> sites, IReadOnlyList<Spectrograph> spectrographs, AccuracySurface surface, PlanJobInput input, DateTimeOffset from,
+        IReadOnlySet<string> mustKeep, IReadOnlySet<string> exclude, CancellationToken ct)
+    {
+        var rows = await candidates.PoolRowsAsync([CandidateState.New, CandidateState.Planned], ct);
+        var night = NightStartUtc(input.Night);
+        var pool = rows
+            .Where(r => !exclude.Contains(r.Id.ToString()))
+            .Select(r => new PoolCandidate(r.Id.ToString(), r.RaDeg, r.DecDeg, r.ScienceWeight, r.BrightestMagnitudeAB(night)))
+            .ToList();
+        var waitingIds = pool.Select(p => p.Id).ToHashSet(StringComparer.Ordinal);
+        var selection = CandidatePool.Select(sites, spectrographs, surface, input.Night, from, pool,
+            mustKeep.Where(waitingIds.Contains).ToHashSet(StringComparer.Ordinal), input.Objective,
+            new NightBuildSettings { Objective = input.Objective },
+            new CandidatePoolSettings { MaxCandidates = options.Value.MaxPoolCandidates });
+        log.LogInformation("Candidate pool for {Night}: {Kept} of {Waiting} waiting candidates", input.Night, selection.Report.Kept, selection.Report.Waiting);
+        return selection;
+    }
+
+    /// <summary>Midnight UTC after the evening of the night: where the brightest magnitude is predicted.</summary>
+    private static DateTimeOffset NightStartUtc(DateOnly night) => new(night.AddDays(1).ToDateTime(TimeOnly.MinValue), TimeSpan.Zero);
+
+    /// <summary>Candidates in the queues of a plan body (except those kept as executing).</summary>
+    private static HashSet<string> PreviouslyAssigned(string? bodyJson, IReadOnlySet<string> exclude)
+    {
+        if (bodyJson is null)
+        {
+            return new HashSet<string>(StringComparer.Ordinal);
+        }
+        return PlanJson.Deserialize(bodyJson).Spectrographs.SelectMany(q => q.Queue).Select(e => e.CandidateId)
+            .Where(id => !exclude.Contains(id)).ToHashSet(StringComparer.Ordinal);
     }
 
     /// <summary>Adds the broker and the broker's own id to every entry (operators and brokers think in those ids).</summary>
@@ -126,15 +199,39 @@ public sealed class PlanJobHandler(
             : e;
         return plan with { Spectrographs = plan.Spectrographs.Select(q => q with { Queue = q.Queue.Select(With).ToList() }).ToList() };
     }
+}
 
-    /// <summary>Candidates in state new or planned, with their photometry; the planner's id is the service's candidate id.</summary>
-    private async Task<List<Candidate>> WaitingCandidatesAsync(IReadOnlySet<string> exclude, CancellationToken ct)
+/// <summary>Settings of the plan job (<c>Triage:Planner</c>).</summary>
+public sealed class PlannerOptions
+{
+    /// <summary>Most candidates fitted and handed to the solver per plan (see <see cref="CandidatePool"/>). Default 2,000.</summary>
+    public int MaxPoolCandidates { get; set; } = 2000;
+}
+
+/// <summary>Passes progress on and remembers how long each step (the time between two reports) took, for the log.</summary>
+internal sealed class PhaseTimer(IProgress<JobProgress> inner, TimeProvider clock) : IProgress<JobProgress>
+{
+    private readonly long _started = clock.GetTimestamp();
+    private readonly List<(string Note, long At)> _marks = [];
+
+    public void Report(JobProgress value)
     {
-        // One bulk read of the whole waiting set (rows and photometry), not one query per candidate.
-        var waiting = await candidates.InStatesWithPhotometryAsync([CandidateState.New, CandidateState.Planned], ct);
-        return waiting
-            .Where(w => !exclude.Contains(w.Id.ToString()))
-            .Select(w => w.Candidate with { Id = w.Id.ToString() })
-            .ToList();
+        lock (_marks)
+        {
+            _marks.Add((value.Note ?? "", clock.GetTimestamp()));
+        }
+        inner.Report(value);
+    }
+
+    /// <summary>"step: seconds; …" up to now.</summary>
+    public string Summary()
+    {
+        lock (_marks)
+        {
+            var now = clock.GetTimestamp();
+            return string.Join("; ", _marks.Select((m, i) => string.Create(System.Globalization.CultureInfo.InvariantCulture,
+                $"{m.Note}: {clock.GetElapsedTime(m.At, i + 1 < _marks.Count ? _marks[i + 1].At : now).TotalSeconds:F2}")))
+                + string.Create(System.Globalization.CultureInfo.InvariantCulture, $" (total {clock.GetElapsedTime(_started, now).TotalSeconds:F2})");
+        }
     }
 }

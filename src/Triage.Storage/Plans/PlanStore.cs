@@ -60,7 +60,7 @@ public sealed record NewPlanVersion(
 }
 
 /// <summary>Night plans, versioned per night. The active plan of a night is its highest version.</summary>
-public sealed class PlanStore(NpgsqlDataSource dataSource)
+public sealed partial class PlanStore(NpgsqlDataSource dataSource)
 {
     private const string Columns = """
         id AS Id, night AS Night, version AS Version, created_at AS CreatedAt, planned_from AS PlannedFrom,
@@ -125,7 +125,15 @@ public sealed class PlanStore(NpgsqlDataSource dataSource)
         """;
 
     /// <summary>Stores a new version atomically; versions of one night are numbered 1, 2, 3… without gaps.</summary>
-    public async Task<PlanVersionRow> AddVersionAsync(NewPlanVersion plan, DateTimeOffset now, CancellationToken ct = default)
+    public Task<PlanVersionRow> AddVersionAsync(NewPlanVersion plan, DateTimeOffset now, CancellationToken ct = default) =>
+        AddVersionAsync(plan, now, null, ct);
+
+    /// <summary>
+    /// Stores a new version and runs <paramref name="within"/> in the same transaction. A version
+    /// carrying a job id that already has one fails with a unique violation on
+    /// <see cref="OnePerJobConstraint"/> (see <see cref="FindByJobAsync"/>).
+    /// </summary>
+    public async Task<PlanVersionRow> AddVersionAsync(NewPlanVersion plan, DateTimeOffset now, WithinTransaction<PlanVersionRow>? within, CancellationToken ct = default)
     {
         await using var conn = await dataSource.OpenConnectionAsync(ct);
         await using var tx = await conn.BeginTransactionAsync(ct);
@@ -166,14 +174,31 @@ public sealed class PlanStore(NpgsqlDataSource dataSource)
             await conn.ExecuteAsync(new CommandDefinition(EventSql, new { night = plan.Night, version, now = now.UtcDateTime, body = body(version) }, tx, cancellationToken: ct));
         }
 
-        await tx.CommitAsync(ct);
-        return new PlanVersionRow(id, plan.Night, version, now, plan.PlannedFrom, plan.Objective, plan.SolverStatus,
+        var row = new PlanVersionRow(id, plan.Night, version, now, plan.PlannedFrom, plan.Objective, plan.SolverStatus,
             plan.ExpectedIdentifications, plan.Assigned, plan.JobId, plan.CalibrationId)
         {
             TriggerKind = plan.TriggerKind,
             TriggerDetail = plan.TriggerDetail,
             ChurnJson = plan.ChurnJson,
         };
+        if (within is not null)
+        {
+            await within(conn, tx, row, ct);
+        }
+        await tx.CommitAsync(ct);
+        return row;
+    }
+
+    /// <summary>The unique index that keeps one version per job.</summary>
+    public const string OnePerJobConstraint = "plans_one_per_job";
+
+    /// <summary>The version a job stored, if it stored one.</summary>
+    public async Task<PlanVersionRow?> FindByJobAsync(Guid jobId, CancellationToken ct = default)
+    {
+        await using var conn = await dataSource.OpenConnectionAsync(ct);
+        var r = await conn.QuerySingleOrDefaultAsync<Record>(new CommandDefinition(
+            $"SELECT {Columns} FROM plans WHERE job_id = @jobId", new { jobId }, cancellationToken: ct));
+        return r?.ToRow();
     }
 
     public async Task<IReadOnlyList<PlanVersionRow>> ListVersionsAsync(DateOnly night, CancellationToken ct = default)
@@ -197,7 +222,7 @@ public sealed class PlanStore(NpgsqlDataSource dataSource)
         return r is null ? null : (r.ToRow(), r.Body!);
     }
 
-    private sealed class Record
+    private class Record
     {
         public Guid Id { get; init; }
         public DateTime Night { get; init; }

@@ -122,7 +122,12 @@ public class NightClockFactory : IsolatedDatabaseFactory
     }
 
     /// <summary>Runs a job to its end and returns its result.</summary>
-    public static Task<JsonElement> RunJobAsync(HttpClient client, HttpResponseMessage accepted) => JobPolling.RunToEndAsync(client, accepted, 1500);
+    public static async Task<JsonElement> RunJobAsync(HttpClient client, HttpResponseMessage accepted)
+    {
+        Assert.Equal(HttpStatusCode.Accepted, accepted.StatusCode);
+        var jobUrl = JsonDocument.Parse(await accepted.Content.ReadAsStringAsync()).RootElement.GetProperty("jobUrl").GetString()!;
+        return (await DemoNetwork.WaitForJobAsync(client, jobUrl, 300)).GetProperty("result");
+    }
 
     /// <summary>Waits until the night has at least <paramref name="version"/> versions; returns their metadata.</summary>
     public static async Task<JsonElement> WaitForVersionAsync(HttpClient client, DateOnly night, int version, TimeSpan timeout)
