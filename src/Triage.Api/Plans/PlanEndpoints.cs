@@ -94,7 +94,7 @@ public static class PlanEndpoints
     }
 
     public static async Task<Results<Ok<QueueResponse>, FileContentHttpResult, ProblemHttpResult>> GetQueue(
-        string night, string spectrographId, int? version, string? format, PlanStore store, CancellationToken ct)
+        string night, string spectrographId, int? version, string? format, PlanStore store, Triage.Storage.Candidates.CandidateStore candidates, CancellationToken ct)
     {
         if (!TryNight(night, out var date, out var bad))
         {
@@ -114,6 +114,17 @@ public static class PlanEndpoints
         if (queue is null)
         {
             return Problems.NotFound("spectrographId", $"Spectrograph {spectrographId} has no queue in this plan.");
+        }
+        // Versions stored without the brokers' ids (older versions, plans written by other tools) get them from the candidates.
+        if (queue.Queue.Any(e => e.BrokerCandidateId is null))
+        {
+            var known = await candidates.BrokerIdsAsync(queue.Queue.Select(e => Guid.TryParse(e.CandidateId, out var g) ? g : Guid.Empty).Where(g => g != Guid.Empty).ToList(), ct);
+            queue = queue with
+            {
+                Queue = queue.Queue.Select(e => e.BrokerCandidateId is null && Guid.TryParse(e.CandidateId, out var g) && known.TryGetValue(g, out var b)
+                    ? e with { Broker = b.Broker, BrokerCandidateId = b.BrokerCandidateId }
+                    : e).ToList(),
+            };
         }
         if (format == "csv")
         {

@@ -531,6 +531,20 @@ public sealed partial class CandidateStore(NpgsqlDataSource dataSource)
         return rows.Select(r => (r.Id, r.ToCandidate(photometry[r.Id].ToList()))).ToList();
     }
 
+    /// <summary>Deletes every candidate of one broker with its photometry, events and reports (the demo loader's reset); returns how many.</summary>
+    public async Task<int> DeleteBrokerCandidatesAsync(string broker, CancellationToken ct = default)
+    {
+        await using var conn = await dataSource.OpenConnectionAsync(ct);
+        await using var tx = await conn.BeginTransactionAsync(ct);
+        await conn.ExecuteAsync(new CommandDefinition("""
+            DELETE FROM candidate_photometry WHERE candidate_id IN (SELECT id FROM candidates WHERE broker = @broker);
+            DELETE FROM candidate_events WHERE candidate_id IN (SELECT id FROM candidates WHERE broker = @broker);
+            """, new { broker }, tx, cancellationToken: ct));
+        var count = await conn.ExecuteAsync(new CommandDefinition("DELETE FROM candidates WHERE broker = @broker", new { broker }, tx, cancellationToken: ct));
+        await tx.CommitAsync(ct);
+        return count;
+    }
+
     /// <summary>The broker and the broker's own id of each of <paramref name="ids"/> that exists.</summary>
     public async Task<IReadOnlyDictionary<Guid, (string Broker, string BrokerCandidateId)>> BrokerIdsAsync(IReadOnlyCollection<Guid> ids, CancellationToken ct = default)
     {
