@@ -15,9 +15,11 @@ dotnet build src/Triage.Cli/Triage.Cli.csproj -c Release -v quiet -nologo >/dev/
 triage() { dotnet src/Triage.Cli/bin/Release/net10.0/linux-x64/triage.dll "$@"; }
 
 triage db advance
-demo_night="${TRIAGE_DEMO_NIGHT:-2026-12-02}"
+# The demo night is tonight (the UTC date twelve hours ago, the evening the night starts): the invented
+# scenario's times are shifted to it at load. TRIAGE_DEMO_NIGHT=YYYY-MM-DD keeps a fixed date (tests).
+demo_night="${TRIAGE_DEMO_NIGHT:-$(date -u -d '12 hours ago' +%F)}"
 triage demo load --roster demo/roster.json --keys-file var/demo-keys.json \
-  --calibration demo/calibration.json --candidates demo/candidates.json --plan-night "$demo_night"
+  --calibration demo/calibration.json --candidates demo/candidates.json --night "$demo_night" --plan-night "$demo_night"
 
 cat <<INFO
 

@@ -10,6 +10,7 @@ Command[] verbs =
     FitVerb.Create(),
     InventCandidatesVerb.Create(),
     PlanVerb.Create(),
+    RehearseVerb.Create(),
     SkyVerb.Create(),
     ExptimeVerb.Create(),
     LibraryVerb.Create(),

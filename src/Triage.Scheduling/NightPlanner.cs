@@ -82,12 +82,13 @@ public static class NightPlanner
 
         var clock = Stopwatch.StartNew();
         var notes = new List<string>();
-        var full = PlanningModel.Compile(problem, settings.Planning with
+        var unpruned = settings.Planning with
         {
             UnitsKeptByValue = int.MaxValue,
             UnitsKeptByDensity = 0,
             LevelsKeptPerOption = int.MaxValue,
-        });
+        };
+        var full = PlanningModel.Compile(problem, unpruned);
         var model = PlanningModel.Compile(problem, settings.Planning);
         if (model.Choices.Count == 0)
         {
@@ -95,7 +96,9 @@ public static class NightPlanner
         }
 
         var compiled = clock.Elapsed.TotalSeconds;
-        var relaxation = CapacityRelaxation.Solve(full);
+        // With anchors (replanning) the choices carry a stability bonus: the bound and the marginal values are
+        // computed on the plain values, so that they stay honest.
+        var relaxation = CapacityRelaxation.Solve(problem.Anchors.Count == 0 ? full : PlanningModel.Compile(problem with { Anchors = [] }, unpruned));
         if (!relaxation.Solved)
         {
             notes.Add("The LP relaxation did not solve; the bound is the sum of each candidate's best value and no marginal values are given.");
@@ -133,7 +136,7 @@ public static class NightPlanner
                 status = cpStatus == CpSolverStatus.Optimal ? PlanStatus.Optimal : PlanStatus.Feasible;
             }
 
-            if (cpBound is { } cb && model.Choices.Count == full.Choices.Count)
+            if (cpBound is { } cb && model.Choices.Count == full.Choices.Count && problem.Anchors.Count == 0)
             {
                 bound = Math.Min(bound ?? double.PositiveInfinity, cb);
             }

@@ -30,6 +30,6 @@ public static class NightPlanning
             };
         }
 
-        return PlanReport.Build(night.Problem, outcome, night.AirmassAt, rejected, night.Notes);
+        return PlanReport.Build(night.Problem, outcome, night.AirmassAt, rejected, night.Notes, night);
     }
 }

@@ -4,6 +4,9 @@ import { loadNetwork, loadPlan, loadVersions, loadDetails } from './data.js';
 import { el, utc, local, offsetLabel, num, percent, utcDateTime } from './format.js';
 import { axisRow, layoutAxes, followWidth } from './timeaxis.js';
 import { STATES, observationState, fitBlockLabels } from './blocklook.js';
+import { loadClosures, closuresOfLane, closureSpans } from './closures.js';
+import { connectLive } from './live.js';
+import { printControls } from './print-queue.js';
 
 const HOUR = 3600 * 1000;
 
@@ -57,12 +60,13 @@ export function createTonight(root, night, { pollSeconds = 20 } = {}) {
   let timer = null;
   let unfollow = () => {};
   const live = el('p', { class: 'live', role: 'status', 'aria-live': 'polite' });
+  let stream = null;
 
   async function render() {
     const [plan, network] = await Promise.all([loadPlan(night), loadNetwork()]);
     unfollow();
     root.replaceChildren();
-    root.append(el('h2', {}, `Tonight · night of ${night}`), live);
+    root.append(el('h2', {}, `Tonight · night of ${night}`), live, ...(stream ? [stream.element] : []));
     if (!plan) {
       shownVersion = 0;
       root.append(el('p', { class: 'empty' }, `No plan has been stored for the night of ${night} yet. This page checks for one every ${pollSeconds} s.`));
@@ -98,6 +102,10 @@ export function createTonight(root, night, { pollSeconds = 20 } = {}) {
       root.append(el('p', { class: 'empty' }, 'This plan version has no observations.'));
       return;
     }
+    const closures = await loadClosures(range.lo, range.hi);
+    for (const lane of lanes) lane.closures = closuresOfLane(closures, lane.site?.id, lane.queue.spectrographId);
+    const printHost = el('div', { class: 'print-host' });
+    root.append(printControls(night, lanes, printHost), printHost);
     const panel = el('aside', { class: 'block-detail', 'aria-live': 'polite' }, el('p', { class: 'hint' }, 'Select a block (click, or Tab to it and press Enter) to see why it was planned.'));
     const board = el('div', { class: 'board', role: 'group', 'aria-label': 'Planned observations per spectrograph, UTC time axis' });
     board.append(axisRow(range));
@@ -118,6 +126,7 @@ export function createTonight(root, night, { pollSeconds = 20 } = {}) {
   function legend(anySky) {
     return el('ul', { class: 'legend', 'aria-label': 'Legend' },
       STATES.map(([state, meaning]) => el('li', {}, el('span', { class: `swatch block state-${state}` }, el('span', { class: 'block-text' })), meaning)),
+      el('li', {}, el('span', { class: 'swatch closure' }), 'closed (site or unit)'),
       anySky ? el('li', {}, el('span', { class: 'swatch sky-twilight' }), 'twilight') : null,
       anySky ? el('li', {}, el('span', { class: 'swatch sky-dark' }), 'dark window') : el('li', {}, el('span', { class: 'swatch sky-span' }), 'span used by the plan'));
   }
@@ -131,6 +140,7 @@ export function createTonight(root, night, { pollSeconds = 20 } = {}) {
     if (lane.dark) {
       track.append(el('div', { class: 'sky sky-dark', style: span(lane.dark.start, lane.dark.end, range), title: `Dark window ${utc(new Date(lane.dark.start))} – ${utc(new Date(lane.dark.end))}` }));
     }
+    track.append(...closureSpans(lane.closures ?? [], (a, b) => span(a, b, range)));
     if (!lane.sky && queue.queue.length) {
       const first = Math.min(...queue.queue.map((e) => ms(e.startUtc)));
       const last = Math.max(...queue.queue.map((e) => ms(e.endUtc)));
@@ -218,10 +228,19 @@ export function createTonight(root, night, { pollSeconds = 20 } = {}) {
 
   return {
     async start() {
+      // Live plan changes re-render at once; the periodic check stays as a fallback.
+      stream = connectLive(night, (event) => {
+        if (event.version !== shownVersion) {
+          render().then(() => { live.textContent = `Plan version ${event.version} arrived at ${utc(new Date())}; the lanes now show it.`; }).catch(() => {});
+        }
+      });
       await render();
       timer = setTimeout(poll, pollSeconds * 1000);
     },
-    stop() { clearTimeout(timer); },
+    stop() {
+      clearTimeout(timer);
+      stream?.stop();
+    },
   };
 }
 

@@ -84,4 +84,8 @@ public sealed record TransitionResponse(Guid Id, string From, string To);
 public sealed record ObservationReportRequest(Guid? SpectrographId, string? Outcome, double? AchievedSnr, string? ClassifiedLabel, DateTimeOffset? ObservedUtc);
 
 /// <summary>Answer to an observation report.</summary>
-public sealed record ObservationReportResponse(Guid ReportId, Guid CandidateId, string State);
+public sealed record ObservationReportResponse(Guid ReportId, Guid CandidateId, string State)
+{
+    /// <summary>Why the report looks odd although it was accepted (far from its planned slot, not in the plan, another unit); empty when none.</summary>
+    public IReadOnlyList<string> Warnings { get; init; } = [];
+}

@@ -5,6 +5,9 @@ using Microsoft.AspNetCore.Http.HttpResults;
 using Microsoft.Extensions.Options;
 using Triage.Api.Access;
 using Triage.Api.Errors;
+using Triage.Api.NightOperations;
+using Triage.Api.Replanning;
+using Triage.Storage.Plans;
 using Triage.Core.Candidates;
 using Triage.Storage.Candidates;
 using Triage.Storage.Roster;
@@ -40,6 +43,7 @@ public static class CandidateEndpoints
             .Accepts<BrokerBatch>("application/json").WithName("PostCandidateBatch");
         group.MapGet("/", ListCandidates).RequireAuthorization(Policies.AnyKey).WithName("ListCandidates");
         group.MapGet("/{id:guid}", GetCandidate).RequireAuthorization(Policies.AnyKey).WithName("GetCandidate");
+        group.MapGet("/by-broker-id/{brokerId}", GetCandidateByBrokerId).RequireAuthorization(Policies.AnyKey).WithName("GetCandidateByBrokerId");
         group.MapPost("/{id:guid}/transitions", Transition).RequireAuthorization(Policies.Scheduler).WithBodyLimit(16 * 1024).WithName("TransitionCandidate");
         group.MapPost("/{id:guid}/observations", ReportObservation).RequireAuthorization(Policies.Observatory).WithBodyLimit(16 * 1024).WithName("ReportObservation");
         return app;
@@ -112,8 +116,16 @@ public static class CandidateEndpoints
 
     public static async Task<Results<Ok<CandidatePageResponse>, ProblemHttpResult>> ListCandidates(
         CandidateStore store, TimeProvider clock, string? state, double? raDeg, double? decDeg, double? radiusDeg,
-        double? brighterThanMagAb, DateTimeOffset? at, DateTimeOffset? updatedSince, int? limit, string? cursor, CancellationToken ct)
+        double? brighterThanMagAb, DateTimeOffset? at, DateTimeOffset? updatedSince, int? limit, string? cursor, string? brokerId, string? broker, CancellationToken ct)
     {
+        if (brokerId is not null && (brokerId.Length is 0 or > 200))
+        {
+            return Problems.BadQuery("brokerId", "must be 1 to 200 characters: the broker's own candidate id");
+        }
+        if (broker is not null && (broker.Length is 0 or > 200))
+        {
+            return Problems.BadQuery("broker", "must be 1 to 200 characters: the broker key's public id");
+        }
         CandidateState? s = null;
         if (state is not null)
         {
@@ -166,7 +178,11 @@ public static class CandidateEndpoints
             return Problems.BadQuery("updatedSince", $"must be {Ranges.InstantRule}");
         }
         var when = at?.ToUniversalTime() ?? clock.GetUtcNow();
-        var rows = await store.ListAsync(new CandidateQuery(s, raDeg, decDeg, radiusDeg, brighterThanMagAb, when, updatedSince?.ToUniversalTime(), after, size + 1), ct);
+        var rows = await store.ListAsync(new CandidateQuery(s, raDeg, decDeg, radiusDeg, brighterThanMagAb, when, updatedSince?.ToUniversalTime(), after, size + 1)
+        {
+            BrokerCandidateId = brokerId,
+            Broker = broker,
+        }, ct);
         var page = rows.Take(size).Select(r => CandidateSummaryResponse.From(r, when)).ToList();
         string? next = rows.Count > size ? EncodeCursor(page[^1].Id) : null;
         return TypedResults.Ok(new CandidatePageResponse(page, next));
@@ -215,6 +231,26 @@ public static class CandidateEndpoints
             detail.Observations));
     }
 
+    /// <summary>
+    /// A candidate by the broker's own id: the one candidate with that id (of <paramref name="broker"/> when given);
+    /// 404 when none, 409 naming the brokers when several brokers use the same id.
+    /// </summary>
+    public static async Task<Results<Ok<CandidateDetailResponse>, ProblemHttpResult>> GetCandidateByBrokerId(
+        string brokerId, string? broker, CandidateStore store, CandidateFitting fitting, TimeProvider clock, DateTimeOffset? at, CancellationToken ct)
+    {
+        var rows = await store.ListAsync(new CandidateQuery(null, null, null, null, null, clock.GetUtcNow(), null, null, 10)
+        {
+            BrokerCandidateId = brokerId,
+            Broker = broker,
+        }, ct);
+        return rows.Count switch
+        {
+            0 => Problems.NotFound("brokerId", $"No candidate with broker id '{brokerId}'{(broker is null ? "" : $" from broker '{broker}'")}."),
+            1 => await GetCandidate(rows[0].Id, store, fitting, clock, at, ct),
+            _ => Problems.Conflict("brokerId", $"Several brokers use the id '{brokerId}' ({string.Join(", ", rows.Select(r => r.Broker).Distinct())}); add ?broker= to choose."),
+        };
+    }
+
     // ---- lifecycle --------------------------------------------------------------------------
 
     public static async Task<Results<Ok<TransitionResponse>, ValidationProblem, ProblemHttpResult>> Transition(
@@ -256,7 +292,7 @@ public static class CandidateEndpoints
 
     public static async Task<Results<Ok<ObservationReportResponse>, ValidationProblem, ProblemHttpResult>> ReportObservation(
         Guid id, ObservationReportRequest request, CandidateStore store, RosterStore roster, IOptions<CandidateOptions> options,
-        ClaimsPrincipal user, TimeProvider clock, CancellationToken ct)
+        PlanStore plans, ReplanScheduler replans, ClaimsPrincipal user, TimeProvider clock, CancellationToken ct)
     {
         var now = clock.GetUtcNow();
         var checks = new FieldChecks();
@@ -317,13 +353,23 @@ public static class CandidateEndpoints
         {
             return Problems.Forbidden("spectrographId", "This spectrograph belongs to another observatory.");
         }
+        var (refusal, warnings, night) = await ReportSanity.CheckAsync(site.Value, id, spectrograph.Value.Id, outcome, request.ObservedUtc!.Value.ToUniversalTime(), plans, ct);
+        if (refusal is not null)
+        {
+            return TypedResults.ValidationProblem(new Dictionary<string, string[]> { ["observedUtc"] = [refusal] });
+        }
         var (result, state, reportId) = await store.ReportObservationAsync(id, spectrograph.Value.Id, outcome, request.AchievedSnr,
             request.ClassifiedLabel, request.ObservedUtc!.Value.ToUniversalTime(), Caller.From(user).PublicId, now, ct);
+        if (result == ReportOutcome.Recorded && outcome != ObservationOutcome.Done)
+        {
+            // A lost observation frees its slot and puts the candidate back in the waiting set: replan from now.
+            replans.Request(night, "report", $"observation lost ({request.Outcome}) on {spectrograph.Value.Name}");
+        }
         return result switch
         {
             ReportOutcome.UnknownCandidate => Problems.NotFound("id", $"No candidate {id}."),
             ReportOutcome.RefusedInState => Problems.Conflict("id", $"The candidate is {CandidateLifecycle.Name(state!.Value)}; reports are not accepted."),
-            _ => TypedResults.Ok(new ObservationReportResponse(reportId, id, CandidateLifecycle.Name(state!.Value))),
+            _ => TypedResults.Ok(new ObservationReportResponse(reportId, id, CandidateLifecycle.Name(state!.Value)) { Warnings = warnings }),
         };
     }
 }

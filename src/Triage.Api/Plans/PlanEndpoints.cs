@@ -62,7 +62,7 @@ public static class PlanEndpoints
         {
             return TypedResults.ValidationProblem(checks.ToDictionary());
         }
-        var input = new PlanJobInput(night, objective, limit, request.FromUtc?.ToUniversalTime());
+        var input = new PlanJobInput(night, objective, limit, request.FromUtc?.ToUniversalTime(), request.Deterministic ?? true);
         var id = await jobs.EnqueueAsync(PlanJobKind, JsonSerializer.Serialize(input, OperationsSetup.JobJson), Caller.From(user).KeyId, clock.GetUtcNow(), ct);
         var body = new PlanJobResponse(id, $"/api/jobs/{id}", $"/api/plans/{night:yyyy-MM-dd}");
         return TypedResults.Accepted($"/api/jobs/{id}", body);
@@ -94,15 +94,15 @@ public static class PlanEndpoints
     }
 
     public static async Task<Results<Ok<QueueResponse>, FileContentHttpResult, ProblemHttpResult>> GetQueue(
-        string night, string spectrographId, int? version, string? format, PlanStore store, CancellationToken ct)
+        string night, string spectrographId, int? version, string? format, PlanStore store, Triage.Storage.Candidates.CandidateStore candidates, CancellationToken ct)
     {
         if (!TryNight(night, out var date, out var bad))
         {
             return bad;
         }
-        if (format is not null and not "json" and not "csv")
+        if (format is not null and not "json" and not "csv" and not "sheet")
         {
-            return Problems.BadQuery("format", "must be json or csv");
+            return Problems.BadQuery("format", "must be json, csv or sheet (the plain-text night sheet)");
         }
         // Only this queue travels from the database, not the whole plan document.
         var found = await store.GetQueueAsync(date, version, spectrographId, ct);
@@ -115,12 +115,29 @@ public static class PlanEndpoints
         {
             return Problems.NotFound("spectrographId", $"Spectrograph {spectrographId} has no queue in this plan.");
         }
+        // Versions stored without the brokers' ids (older versions, plans written by other tools) get them from the candidates.
+        if (queue.Queue.Any(e => e.BrokerCandidateId is null))
+        {
+            var known = await candidates.BrokerIdsAsync(queue.Queue.Select(e => Guid.TryParse(e.CandidateId, out var g) ? g : Guid.Empty).Where(g => g != Guid.Empty).ToList(), ct);
+            queue = queue with
+            {
+                Queue = queue.Queue.Select(e => e.BrokerCandidateId is null && Guid.TryParse(e.CandidateId, out var g) && known.TryGetValue(g, out var b)
+                    ? e with { Broker = b.Broker, BrokerCandidateId = b.BrokerCandidateId }
+                    : e).ToList(),
+            };
+        }
         if (format == "csv")
         {
-            return TypedResults.File(Encoding.UTF8.GetBytes(QueueCsv.Write(queue)), "text/csv", $"queue-{night}-{queue.Name}.csv");
+            return TypedResults.File(Encoding.UTF8.GetBytes(OperatorQueue.Csv(queue)), "text/csv", $"queue-{night}-{queue.Name}.csv");
+        }
+        if (format == "sheet")
+        {
+            var row = found.Value.Row;
+            return TypedResults.File(Encoding.UTF8.GetBytes(OperatorQueue.NightSheet(queue, row.Night, row.Version, row.PlannedFrom)),
+                "text/plain; charset=utf-8", $"night-sheet-{night}-{queue.Name}.txt");
         }
         return TypedResults.Ok(new QueueResponse(PlanVersionResponse.From(found.Value.Row), NightPlan.AdvisoryStatement,
-            queue.SpectrographId, queue.Name, queue.SiteName, queue.ResolvingPower, queue.Queue));
+            queue.SpectrographId, queue.Name, queue.SiteName, queue.ResolvingPower, OperatorQueue.Entries(queue)));
     }
 
     public static async Task<Results<Ok<PlanDiffResponse>, ProblemHttpResult>> DiffVersions(string night, int? from, int? to, PlanStore store, CancellationToken ct)
@@ -164,35 +181,13 @@ public static class PlanEndpoints
     }
 }
 
-/// <summary>A queue as CSV for observers' tools: one row per observation, UTC times, the reason last.</summary>
-public static class QueueCsv
-{
-    public static string Write(SpectrographQueue queue)
-    {
-        var inv = CultureInfo.InvariantCulture;
-        var sb = new StringBuilder();
-        sb.AppendLine("# Advisory plan: the observatory's own interlocks and operators decide what is observed.");
-        sb.AppendLine("position,candidate_id,start_utc,end_utc,exposure_seconds,airmass,predicted_mag_ab,expected_snr,expected_accuracy,value,reason");
-        var i = 0;
-        foreach (var e in queue.Queue)
-        {
-            sb.Append(++i).Append(',')
-              .Append(Quote(e.CandidateId)).Append(',')
-              .Append(e.StartUtc.UtcDateTime.ToString("yyyy-MM-ddTHH:mm:ssZ", inv)).Append(',')
-              .Append(e.EndUtc.UtcDateTime.ToString("yyyy-MM-ddTHH:mm:ssZ", inv)).Append(',')
-              .Append(e.ExposureSeconds.ToString("0", inv)).Append(',')
-              .Append(e.Airmass.ToString("0.000", inv)).Append(',')
-              .Append(e.PredictedMagnitude.ToString("0.00", inv)).Append(',')
-              .Append(e.ExpectedSnr.ToString("0.0", inv)).Append(',')
-              .Append(e.ExpectedAccuracy.ToString("0.000", inv)).Append(',')
-              .Append(e.Value.ToString("0.0000", inv)).Append(',')
-              .Append(Quote(e.Reason)).AppendLine();
-        }
-        return sb.ToString();
-    }
-
-    private static string Quote(string s) => "\"" + s.Replace("\"", "\"\"", StringComparison.Ordinal) + "\"";
-}
-
 /// <summary>Input of a <c>plan</c> job.</summary>
-public sealed record PlanJobInput(DateOnly Night, PlanObjective Objective, double TimeLimitSeconds, DateTimeOffset? FromUtc);
+/// <param name="Night">Local date of the evening the night starts.</param>
+/// <param name="Objective">What to maximise.</param>
+/// <param name="TimeLimitSeconds">Wall-clock limit of a non-deterministic solve, s.</param>
+/// <param name="FromUtc">Replan from this instant; null: the later of now and the night's start.</param>
+/// <param name="Deterministic">Same inputs, same plan (one worker, fixed rounds); the default for every plan job.</param>
+/// <param name="TriggerKind">What asked for the version: manual, closure, report, candidate, schedule.</param>
+/// <param name="TriggerDetail">One sentence on the trigger.</param>
+public sealed record PlanJobInput(DateOnly Night, PlanObjective Objective, double TimeLimitSeconds, DateTimeOffset? FromUtc,
+    bool Deterministic = true, string TriggerKind = "manual", string? TriggerDetail = null);

@@ -1,4 +1,5 @@
 using System.Text.Json;
+using Triage.Api.Events;
 using Triage.Api.Jobs;
 using Triage.Core.Candidates;
 using Triage.Core.Planning;
@@ -8,6 +9,7 @@ using Triage.Scheduling;
 using Triage.Storage.Calibrations;
 using Triage.Storage.Candidates;
 using Triage.Storage.Jobs;
+using Triage.Storage.NightOperations;
 using Triage.Storage.Plans;
 using Triage.Storage.Roster;
 
@@ -15,15 +17,18 @@ namespace Triage.Api.Plans;
 
 /// <summary>
 /// Computes a new plan version for a night from what the database holds now: the open roster,
-/// the candidates still waiting for a spectrum (new or planned), the active calibration. When
-/// replanning from an instant during the night, observations executing at that instant are kept
-/// and their spectrographs stay busy until they end. The version is stored whole or not at all.
+/// the candidates still waiting for a spectrum (new or planned), the active calibration, closures and
+/// reported conditions. A plan starts at the later of now (or <c>fromUtc</c>) and the night's start;
+/// observations of the previous version executing then (or about to start) are kept, later ones are
+/// anchored (kept unless a change gains more than the stability share). The version, the candidates'
+/// state moves, its event and the job's completion are stored whole or not at all.
 /// </summary>
 public sealed class PlanJobHandler(
     RosterStore roster,
     CandidateStore candidates,
     CalibrationStore calibrations,
     PlanStore plans,
+    NightOperationsStore operations,
     TimeProvider clock,
     Microsoft.Extensions.Options.IOptions<PlannerOptions> options,
     ILogger<PlanJobHandler> log) : IJobHandler
@@ -52,25 +57,27 @@ public sealed class PlanJobHandler(
         var sites = (await roster.ListSitesAsync(new SiteFilter(), ct)).Select(v => v.Value).ToList();
         var spectrographs = (await roster.ListSpectrographsAsync(new SpectrographFilter(), ct)).Select(v => v.Value).ToList();
 
-        // Replanning keeps what is executing at the chosen instant.
-        var from = input.FromUtc ?? DateTimeOffset.MinValue;
-        var kept = new List<(string SpectrographId, QueueEntry Entry)>();
-        string? previousBody = null;
-        if (input.FromUtc is not null && await plans.GetAsync(input.Night, null, ct) is { } previous)
-        {
-            previousBody = previous.BodyJson;
-            foreach (var q in PlanJson.Deserialize(previous.BodyJson).Spectrographs)
-            {
-                kept.AddRange(q.Queue.Where(e => e.StartUtc <= from && from < e.EndUtc).Select(e => (q.SpectrographId, e)));
-            }
-        }
-        var keptIds = kept.Select(k => k.Entry.CandidateId).ToHashSet(StringComparer.Ordinal);
-        var busy = kept.GroupBy(k => Guid.Parse(k.SpectrographId)).ToDictionary(g => g.Key, g => g.Max(k => k.Entry.EndUtc));
+        // A replan starts at the later of now and the night's start (the builder clamps to the first dark start).
+        // Whole microseconds: what PostgreSQL stores, so that plannedFrom reads back as the instant used.
+        var now = clock.GetUtcNow();
+        now = new DateTimeOffset(now.UtcTicks - now.UtcTicks % 10, TimeSpan.Zero);
+        var from = input.FromUtc ?? now;
+        var previousVersion = await plans.GetAsync(input.Night, null, ct);
+        var previous = previousVersion is { } pv ? PlanJson.Deserialize(pv.BodyJson) : null;
+        var nightStart = new DateTimeOffset(input.Night.ToDateTime(TimeOnly.MinValue), TimeSpan.Zero);
+        var closures = await operations.ClosuresAsync(nightStart.AddHours(-12), nightStart.AddDays(2), null, ct);
+        var conditions = await operations.ConditionsAtAsync(from < nightStart ? nightStart : from, null, ct);
+
+        // A closure is a hard constraint even for work under way: an entry that runs into one is not kept.
+        var siteOf = spectrographs.ToDictionary(s => s.Id.ToString(), s => s.SiteId, StringComparer.OrdinalIgnoreCase);
+        var start = NightReplan.Split(previous, from, NightReplan.DefaultFreeze, k => !closures.Any(c =>
+            siteOf.TryGetValue(k.SpectrographId, out var site) && c.SiteId == site
+            && (c.SpectrographId is null || string.Equals(c.SpectrographId.ToString(), k.SpectrographId, StringComparison.OrdinalIgnoreCase))
+            && k.Entry.StartUtc < c.ToUtc && c.FromUtc < k.Entry.EndUtc));
 
         progress.Report(new JobProgress(0.08, "choosing the candidate pool"));
-        var latestVersion = input.FromUtc is not null ? null : await plans.GetAsync(input.Night, null, ct);
-        var mustKeep = PreviouslyAssigned(input.FromUtc is not null ? previousBody : latestVersion?.BodyJson, keptIds);
-        var pool = await PoolAsync(sites, spectrographs, surface, input, from, mustKeep, keptIds, ct);
+        var mustKeep = PreviouslyAssigned(previousVersion?.BodyJson, start.KeptIds);
+        var pool = await PoolAsync(sites, spectrographs, surface, input, from, mustKeep, start.KeptIds, ct);
         progress.Report(new JobProgress(0.15, "reading the pool's photometry"));
         var waiting = (await candidates.WithPhotometryAsync(pool.Kept.Select(Guid.Parse).ToList(), ct))
             .Select(w => w.Candidate with { Id = w.Id.ToString() })
@@ -82,12 +89,22 @@ public sealed class PlanJobHandler(
             .ToList();
 
         progress.Report(new JobProgress(0.4, "building the night"));
-        var night = NightProblemBuilder.Build(sites, spectrographs, targets, surface, input.Night, from,
-            new NightBuildSettings { Objective = input.Objective, BusyUntilUtc = busy });
+        var night = NightProblemBuilder.Build(sites, spectrographs, targets, surface, input.Night, from, new NightBuildSettings
+        {
+            Objective = input.Objective,
+            BusyUntilUtc = start.BusyUntilUtc,
+            Previous = start.Anchors,
+            Closures = NightOperationsStore.ForPlanner(closures),
+            Conditions = NightOperationsStore.ForPlanner(conditions),
+        });
+        var plannedFrom = from > night.Problem.EpochUtc ? from : night.Problem.EpochUtc;
         progress.Report(new JobProgress(0.5, "solving"));
-        var plan = NightPlanning.Plan(night, new SolverSettings { TimeLimitSeconds = input.TimeLimitSeconds }, ct)
-            with { Night = input.Night, GeneratedUtc = clock.GetUtcNow(), Pool = pool.Report };
-        plan = KeepExecuting(plan, kept);
+        var solver = new SolverSettings { TimeLimitSeconds = input.TimeLimitSeconds, Deterministic = input.Deterministic };
+        var plan = NightPlanning.Plan(night, solver, ct) with { Night = input.Night, GeneratedUtc = now, Pool = pool.Report };
+        plan = NightReplan.WithKept(plan, start.Kept);
+        plan = await WithBrokerIdsAsync(plan, ct);
+        var churn = previous is null ? default : PlanChurn.Between(previous, plan, plannedFrom);
+        var churnJson = previous is null ? null : JsonSerializer.Serialize(churn.Churn, PlanJson.Options);
 
         progress.Report(new JobProgress(0.95, "storing the version"));
         var scheduled = plan.Spectrographs.SelectMany(q => q.Queue)
@@ -97,14 +114,18 @@ public sealed class PlanJobHandler(
         {
             // The version, the candidates it schedules moving to planned, and the job's completion commit together.
             row = await plans.AddVersionAsync(new NewPlanVersion(
-                input.Night, input.FromUtc ?? clock.GetUtcNow(), input.Objective.ToString().ToLowerInvariant(), plan.Summary.Status.ToString().ToLowerInvariant(),
-                plan.Summary.ExpectedCorrectIdentifications, plan.Summary.Assigned, run.JobId, active.Row.Id, PlanJson.Serialize(plan)), clock.GetUtcNow(),
-                async (conn, tx, version, token) =>
-                {
-                    await CandidateStore.MoveWithinAsync(conn, tx, scheduled, CandidateState.New, CandidateState.Planned, "planner",
-                        $"in plan version {version.Version} of {version.Night:yyyy-MM-dd}", clock.GetUtcNow(), token);
-                    await JobStore.CompleteWithinAsync(conn, tx, run.JobId, ResultJson(version), clock.GetUtcNow(), token);
-                }, ct);
+                input.Night, plannedFrom, input.Objective.ToString().ToLowerInvariant(), plan.Summary.Status.ToString().ToLowerInvariant(),
+                plan.Summary.ExpectedCorrectIdentifications, plan.Summary.Assigned, run.JobId, active.Row.Id, PlanJson.Serialize(plan))
+            {
+                TriggerKind = input.TriggerKind,
+                TriggerDetail = input.TriggerDetail,
+                ChurnJson = churnJson,
+                CandidateIds = scheduled,
+                EventBody = version => PlanEventBody.Serialize(input.Night, version, previousVersion?.Row.Version, now, plannedFrom,
+                    input.TriggerKind, input.TriggerDetail, previous is null ? null : churn.Churn, churn.Changes ?? [], plan),
+            }, now,
+                async (conn, tx, version, token) => await JobStore.CompleteWithinAsync(conn, tx, run.JobId, ResultJson(version), clock.GetUtcNow(), token),
+                ct);
         }
         catch (Npgsql.PostgresException e) when (e.ConstraintName == PlanStore.OnePerJobConstraint)
         {
@@ -115,8 +136,8 @@ public sealed class PlanJobHandler(
             }
             return ResultJson(raced);
         }
-        log.LogInformation("Planned {Assigned} of {Candidates} candidates for {Night} as version {Version}; seconds per step: {Steps}",
-            plan.Summary.Assigned, plan.Summary.Candidates, input.Night, row.Version, phases.Summary());
+        log.LogInformation("Planned {Assigned} of {Candidates} candidates for {Night} as version {Version} from {From} (trigger {Trigger}, churn {Churn}); seconds per step: {Steps}",
+            plan.Summary.Assigned, plan.Summary.Candidates, input.Night, row.Version, plannedFrom, input.TriggerKind, churnJson, phases.Summary());
         return ResultJson(row);
     }
 
@@ -125,6 +146,7 @@ public sealed class PlanJobHandler(
         night = row.Night.ToString("yyyy-MM-dd", System.Globalization.CultureInfo.InvariantCulture),
         version = row.Version,
         url = $"/api/plans/{row.Night:yyyy-MM-dd}?version={row.Version}",
+        plannedFrom = row.PlannedFrom,
         assigned = row.Assigned,
         expectedCorrectIdentifications = row.ExpectedIdentifications,
     });
@@ -167,21 +189,15 @@ public sealed class PlanJobHandler(
             .Where(id => !exclude.Contains(id)).ToHashSet(StringComparer.Ordinal);
     }
 
-    private static NightPlan KeepExecuting(NightPlan plan, List<(string SpectrographId, QueueEntry Entry)> kept)
+    /// <summary>Adds the broker and the broker's own id to every entry (operators and brokers think in those ids).</summary>
+    private async Task<NightPlan> WithBrokerIdsAsync(NightPlan plan, CancellationToken ct)
     {
-        if (kept.Count == 0)
-        {
-            return plan;
-        }
-        var byUnit = kept.ToLookup(k => k.SpectrographId, k => k.Entry with { Reason = "Executing when the night was replanned; kept as it was. " + k.Entry.Reason });
-        var queues = plan.Spectrographs
-            .Select(q => byUnit[q.SpectrographId].Any() ? q with { Queue = byUnit[q.SpectrographId].Concat(q.Queue).OrderBy(e => e.StartUtc).ToList() } : q)
-            .ToList();
-        return plan with
-        {
-            Spectrographs = queues,
-            Notes = [.. plan.Notes, $"{kept.Count} observation(s) executing at the replanning instant were kept."],
-        };
+        var ids = plan.Spectrographs.SelectMany(q => q.Queue).Select(e => Guid.TryParse(e.CandidateId, out var g) ? g : Guid.Empty).Where(g => g != Guid.Empty).ToList();
+        var known = await candidates.BrokerIdsAsync(ids, ct);
+        QueueEntry With(QueueEntry e) => Guid.TryParse(e.CandidateId, out var g) && known.TryGetValue(g, out var b)
+            ? e with { Broker = b.Broker, BrokerCandidateId = b.BrokerCandidateId }
+            : e;
+        return plan with { Spectrographs = plan.Spectrographs.Select(q => q with { Queue = q.Queue.Select(With).ToList() }).ToList() };
     }
 }
 

@@ -27,7 +27,8 @@ internal static class DemoVerb
         var candidates = new Option<FileInfo?>("--candidates") { Description = "Broker batch of demo candidates to post as the demo broker (optional)." };
         var calibration = new Option<FileInfo?>("--calibration") { Description = "Calibration JSON to store and activate when none is active (optional)." };
         var planNight = new Option<string?>("--plan-night") { Description = "Queue a plan job for this night (YYYY-MM-DD) unless it has a plan already; the service computes it." };
-        var load = new Command("load", "Load the demo scenario into the database (idempotent).") { connection, roster, keysFile, candidates, calibration, planNight };
+        var shiftNight = new Option<string?>("--night") { Description = $"Shift the scenario's times so that its night ({DemoShift.ScenarioNight:yyyy-MM-dd}) becomes this night (YYYY-MM-DD, or 'tonight'); default: no shift." };
+        var load = new Command("load", "Load the demo scenario into the database (idempotent).") { connection, roster, keysFile, candidates, calibration, planNight, shiftNight };
         load.SetAction(async (parse, ct) =>
         {
             var rosterFile = parse.GetValue(roster)!;
@@ -69,7 +70,36 @@ internal static class DemoVerb
             {
                 var secrets = JsonSerializer.Deserialize<Dictionary<string, string>>(await File.ReadAllTextAsync(keysPath.FullName, ct))!;
                 var broker = await new KeyStore(data).AuthenticateAsync(secrets["broker"], ct);
-                var summary = await PostCandidatesAsync(new CandidateStore(data), broker!.PublicId, await File.ReadAllTextAsync(candidatesFile.FullName, ct), ct);
+                var json = await File.ReadAllTextAsync(candidatesFile.FullName, ct);
+                var store = new CandidateStore(data);
+                if (parse.GetValue(shiftNight) is { } target)
+                {
+                    if (!DemoShift.TryParseNight(target, DateTimeOffset.UtcNow, out var night))
+                    {
+                        Console.Error.WriteLine($"--night: '{target}' is not a date YYYY-MM-DD or 'tonight'.");
+                        return 2;
+                    }
+
+                    // The scenario is loaded for one night at a time: when the night changes, the demo broker's
+                    // candidates of the previous night are replaced (their photometry would otherwise mix two shifts).
+                    var marker = new FileInfo(Path.Combine(keysPath.DirectoryName!, "demo-night.txt"));
+                    var loaded = marker.Exists ? (await File.ReadAllTextAsync(marker.FullName, ct)).Trim() : null;
+                    var wanted = night.ToString("yyyy-MM-dd", System.Globalization.CultureInfo.InvariantCulture);
+                    if (loaded != wanted)
+                    {
+                        var removed = await store.DeleteBrokerCandidatesAsync(broker!.PublicId, ct);
+                        if (removed > 0)
+                        {
+                            Console.WriteLine($"Demo candidates of the night of {loaded ?? "an earlier load"} removed: {removed}.");
+                        }
+                    }
+
+                    json = DemoShift.Shift(json, night);
+                    await File.WriteAllTextAsync(marker.FullName, wanted, ct);
+                    Console.WriteLine($"Demo scenario shifted from the night of {DemoShift.ScenarioNight:yyyy-MM-dd} to the night of {wanted} ({night.DayNumber - DemoShift.ScenarioNight.DayNumber:+0;-0;0} days).");
+                }
+
+                var summary = await PostCandidatesAsync(store, broker!.PublicId, json, ct);
                 Console.WriteLine(summary);
             }
             if (parse.GetValue(planNight) is { } nightText)

@@ -115,7 +115,47 @@ public sealed record QueueEntry(
     string Reason,
     IReadOnlyList<UnitAlternative> Alternatives,
     string? RunnerUpSpectrographId,
-    double LossIfMovedToCheapest);
+    double LossIfMovedToCheapest)
+{
+    /// <summary>The broker's own id of the candidate (set by the host from its records; null in file-only runs).</summary>
+    public string? BrokerCandidateId { get; init; }
+
+    /// <summary>The broker (posting key) the candidate came from (set by the host).</summary>
+    public string? Broker { get; init; }
+
+    /// <summary>Right ascension, ICRS, degrees 0…360 (null when the plan was built without a sky model).</summary>
+    public double? RaDeg { get; init; }
+
+    /// <summary>Declination, ICRS, degrees −90…90.</summary>
+    public double? DecDeg { get; init; }
+
+    /// <summary>Airmass at the start of acquisition.</summary>
+    public double? AirmassStart { get; init; }
+
+    /// <summary>Airmass at the end of the last readout (<see cref="Airmass"/> is the one at the middle).</summary>
+    public double? AirmassEnd { get; init; }
+
+    /// <summary>Angular distance to the Moon at mid-observation, degrees.</summary>
+    public double? MoonSeparationDeg { get; init; }
+
+    /// <summary>Sub-exposures the open-shutter time is split into, ≥ 1 (each <see cref="ExposureSeconds"/> / count).</summary>
+    public int ExposureCount { get; init; } = 1;
+
+    /// <summary>What to do if this slot is missed: the best later window tonight, or null when there is none.</summary>
+    public MissedSlotAdvice? IfMissed { get; init; }
+
+    /// <summary>True when the entry is the previous version's assignment kept as it was (replanning).</summary>
+    public bool KeptFromPrevious { get; init; }
+}
+
+/// <summary>The best later window tonight for an observation whose slot was missed (not reserved: other entries may use it).</summary>
+/// <param name="SpectrographId">Unit of that window.</param>
+/// <param name="Name">Its name.</param>
+/// <param name="EarliestStartUtc">Earliest start (not before the missed slot's end).</param>
+/// <param name="LatestStartUtc">Latest start that still fits the whole observation in the window.</param>
+/// <param name="ExposureSeconds">Open-shutter time there, s.</param>
+/// <param name="Value">Its value.</param>
+public sealed record MissedSlotAdvice(string SpectrographId, string Name, DateTimeOffset EarliestStartUtc, DateTimeOffset LatestStartUtc, double ExposureSeconds, double Value);
 
 /// <summary>What a candidate would yield on one unit (its best level there).</summary>
 public sealed record UnitAlternative(
@@ -133,8 +173,11 @@ public enum UnassignedReason
     /// <summary>Never above the limits of any open unit in the dark window.</summary>
     NeverVisible,
 
-    /// <summary>Visible, but too faint for every unit to reach a useful S/N.</summary>
+    /// <summary>Visible, but too faint for every unit to reach the lowest calibrated S/N even in the longest observation allowed.</summary>
     TooFaint,
+
+    /// <summary>Bright enough, but each of its windows is shorter than the observation it needs.</summary>
+    WindowTooShort,
 
     /// <summary>Worth less than the time it needs (others use that time better).</summary>
     Outbid,

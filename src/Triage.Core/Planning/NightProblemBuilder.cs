@@ -46,7 +46,38 @@ public sealed record NightBuildSettings
     /// nothing new starts on them before the given instant. Default none.
     /// </summary>
     public IReadOnlyDictionary<Guid, DateTimeOffset>? BusyUntilUtc { get; init; }
+
+    /// <summary>Spans when a site or one unit is closed (weather, engineering, another programme): hard constraints. Default none.</summary>
+    public IReadOnlyList<UnitClosure> Closures { get; init; } = [];
+
+    /// <summary>Current conditions per site id, used in the exposure model instead of the site's typical values. Default none.</summary>
+    public IReadOnlyDictionary<Guid, SiteConditions> Conditions { get; init; } = new Dictionary<Guid, SiteConditions>();
+
+    /// <summary>Assignments of the previous plan version to keep unless moving them gains more than <see cref="StabilityShare"/> (replanning). Default none.</summary>
+    public IReadOnlyList<PreviousAssignment> Previous { get; init; } = [];
+
+    /// <summary>
+    /// A previous assignment is worth (1 + this) × its value to the solver, so a change must gain more than this share
+    /// of the value of every assignment it undoes. 0…1; default 0.1.
+    /// </summary>
+    public double StabilityShare { get; init; } = 0.1;
 }
+
+/// <summary>A span when a site (all its units) or one spectrograph is closed.</summary>
+/// <param name="SiteId">The site.</param>
+/// <param name="SpectrographId">One unit of it, or null for the whole site.</param>
+/// <param name="FromUtc">Start of the closure.</param>
+/// <param name="ToUtc">End of the closure (after the start).</param>
+public sealed record UnitClosure(Guid SiteId, Guid? SpectrographId, DateTimeOffset FromUtc, DateTimeOffset ToUtc);
+
+/// <summary>Conditions reported by a site for tonight; a null member keeps the site's typical value.</summary>
+/// <param name="SeeingArcsec">Seeing FWHM, arcsec (&gt; 0).</param>
+/// <param name="ExtinctionOffsetMag">Extra grey extinction (clouds, dust) added to every target's magnitude, mag (≥ 0 dims).</param>
+/// <param name="SkyBrightnessMagArcsec2">Measured dark-sky brightness, AB mag/arcsec², replacing the site's value.</param>
+public sealed record SiteConditions(double? SeeingArcsec, double? ExtinctionOffsetMag, double? SkyBrightnessMagArcsec2);
+
+/// <summary>An assignment in the previous plan version (replanning): candidate, unit, start and open-shutter time.</summary>
+public sealed record PreviousAssignment(string CandidateId, string SpectrographId, DateTimeOffset StartUtc, double ExposureSeconds);
 
 /// <summary>The problem built for one night, with what the safety check and the report need.</summary>
 public sealed class PlanningNight
@@ -55,8 +86,11 @@ public sealed class PlanningNight
     private readonly (Site Site, Spectrograph Spectrograph)[] _unitRoster;
     private readonly ITargetForecast[] _targets;
 
-    internal PlanningNight(PlanningProblem problem, Dictionary<Guid, NightModel> nights, (Site, Spectrograph)[] unitRoster, ITargetForecast[] targets, List<string> notes)
+    private readonly SecondsWindow[][] _closed;
+
+    internal PlanningNight(PlanningProblem problem, Dictionary<Guid, NightModel> nights, (Site, Spectrograph)[] unitRoster, ITargetForecast[] targets, List<string> notes, SecondsWindow[][] closed)
     {
+        _closed = closed;
         Problem = problem;
         _nights = nights;
         _unitRoster = unitRoster;
@@ -77,6 +111,16 @@ public sealed class PlanningNight
         var night = _nights[_unitRoster[o.Unit].Site.Id];
         return night.Airmass(_targets[o.Candidate].Position, Problem.EpochUtc.AddSeconds(seconds)) ?? double.PositiveInfinity;
     }
+
+    /// <summary>Angular distance from an option's target to the Moon at <paramref name="seconds"/> from the epoch, degrees.</summary>
+    public double MoonSeparationAt(int option, double seconds)
+    {
+        var o = Problem.Options[option];
+        return _nights[_unitRoster[o.Unit].Site.Id].MoonSeparationDeg(_targets[o.Candidate].Position, Problem.EpochUtc.AddSeconds(seconds));
+    }
+
+    /// <summary>ICRS position of a candidate (index into the problem's candidates).</summary>
+    public SkyTarget PositionOf(int candidate) => _targets[candidate].Position;
 
     /// <summary>
     /// Independent final check of every observation against its site's Sun avoidance, altitude and
@@ -101,6 +145,10 @@ public sealed class PlanningNight
             if (dark is not { } d || start < d.StartUtc || end > d.EndUtc)
             {
                 why = "outside the site's dark window";
+            }
+            else if (_closed[option.Unit].Any(x => obs.StartSeconds < x.ToSeconds && x.FromSeconds < obs.StartSeconds + option.Levels[obs.Level].DurationSeconds))
+            {
+                why = "inside a closure of the site or unit";
             }
 
             for (var t = start; why is null; t = t.AddSeconds(sampleSeconds))
@@ -214,15 +262,15 @@ public static class NightProblemBuilder
         }
 
         var darkStarts = nights.Values.Where(n => n.DarkWindow.Window is not null).Select(n => n.DarkWindow.Window!.Value.StartUtc).ToList();
+        // The epoch is the night's first dark start even when replanning later, so that the start grid of every
+        // version of a night is the same and an unchanged assignment keeps its exact start.
         var epoch = darkStarts.Count > 0 ? darkStarts.Min() : nowUtc;
-        if (nowUtc > epoch)
-        {
-            epoch = nowUtc;
-        }
 
         double Seconds(DateTimeOffset t) => (t - epoch).TotalSeconds;
         var units = new List<PlanningUnit>();
         var unitRoster = new List<(Site, Spectrograph)>();
+        var nightSpans = new List<SecondsWindow>();
+        var closedSpans = new List<SecondsWindow[]>();
         foreach (var (site, sg, _) in roster)
         {
             var dark = nights[site.Id].DarkWindow.Window;
@@ -231,12 +279,14 @@ public static class NightProblemBuilder
                 continue;
             }
 
-            var earliest = Math.Max(Seconds(d.StartUtc), Seconds(nowUtc));
+            // The margin keeps new work off the dark window's edges and off "right now"; after an observation kept from
+            // the previous version the unit is free at once (the previous version had its next entry back to back).
+            var earliest = Math.Max(Seconds(d.StartUtc), Seconds(nowUtc)) + margin;
             if (settings.BusyUntilUtc is { } busy && busy.TryGetValue(sg.Id, out var until))
             {
                 earliest = Math.Max(earliest, Seconds(until));
             }
-            var available = new SecondsWindow(earliest + margin, Seconds(d.EndUtc) - margin);
+            var available = new SecondsWindow(earliest, Seconds(d.EndUtc) - margin);
             if (available.LengthSeconds <= 0)
             {
                 continue;
@@ -245,6 +295,11 @@ public static class NightProblemBuilder
             units.Add(new PlanningUnit(sg.Id.ToString(), sg.Name, site.Name, sg.ResolvingPower, available,
                 Math.Max(0, sg.NightlyBudgetHours * 3600), sg.CostPerHour));
             unitRoster.Add((site, sg));
+            nightSpans.Add(new SecondsWindow(Seconds(d.StartUtc) + margin, Seconds(d.EndUtc) - margin));
+            closedSpans.Add(settings.Closures
+                .Where(x => x.SiteId == site.Id && (x.SpectrographId is null || x.SpectrographId == sg.Id) && x.ToUtc > x.FromUtc)
+                .Select(x => new SecondsWindow(Seconds(x.FromUtc) - margin, Seconds(x.ToUtc) + margin))
+                .OrderBy(x => x.FromSeconds).ToArray());
         }
 
         var slices = unitRoster.Select(u => surface.AtResolution(u.Item2.ResolvingPower)).ToArray();
@@ -253,8 +308,11 @@ public static class NightProblemBuilder
             notes.Add(string.Create(inv, $"Spectrograph '{sg.Name}' has R={sg.ResolvingPower:F0}, outside the calibrated R range {surface.Resolutions[0]:F0}–{surface.Resolutions[^1]:F0}; the edge of the grid is used."));
         }
 
-        var calculators = unitRoster.Select(u => ExposureCalculator.For(u.Item2, u.Item1)).ToArray();
-        var snrLevels = surface.SnrAxis;
+        // Reported conditions replace the site's typical seeing and sky; a transparency loss dims every target.
+        var calculators = unitRoster.Select(u => ExposureCalculator.For(u.Item2, WithConditions(u.Item1, settings.Conditions))).ToArray();
+        var dimming = unitRoster.Select(u => settings.Conditions.TryGetValue(u.Item1.Id, out var sc) ? sc.ExtinctionOffsetMag ?? 0 : 0).ToArray();
+        // Only the measured S/N levels: a noiseless cell is no exposure anyone can take.
+        var snrLevels = surface.FiniteSnrLevels;
 
         // Candidates are independent: built in parallel, gathered in input order.
         (PlanningCandidate Candidate, List<PlanOption> Options, bool Clamped) BuildCandidate(int c)
@@ -264,6 +322,7 @@ public static class NightProblemBuilder
             var prior = surface.AlignPrior(target.SubtypePrior);
             var anyVisible = false;
             var anyLevel = false;
+            var anyWindowTooShort = false;
             var clamped = false;
             var visibilityCache = new Dictionary<(Guid, double), TargetVisibility>();
             var moonCache = new Dictionary<(Guid, DateTimeOffset), MoonlightGeometry>();
@@ -280,18 +339,26 @@ public static class NightProblemBuilder
 
                 foreach (var w in visibility.Windows)
                 {
-                    var window = new SecondsWindow(Seconds(w.StartUtc) + margin, Seconds(w.EndUtc) - margin).Intersect(units[u].Available);
-                    if (window.LengthSeconds <= 0)
+                    // Chunks are cut from the whole night's visibility window (not from "now"), so that every
+                    // version of a night sizes an observation in the same chunk the same way.
+                    var nightWindow = new SecondsWindow(Seconds(w.StartUtc) + margin, Seconds(w.EndUtc) - margin).Intersect(nightSpans[u]);
+                    if (nightWindow.LengthSeconds <= 0 || nightWindow.Intersect(units[u].Available).LengthSeconds <= 0)
                     {
                         continue;
                     }
 
-                    anyVisible = true;
-                    var chunks = Math.Max(1, (int)Math.Ceiling(window.LengthSeconds / (settings.ChunkHours * 3600)));
-                    var chunkLength = window.LengthSeconds / chunks;
+                    var chunks = Math.Max(1, (int)Math.Ceiling(nightWindow.LengthSeconds / (settings.ChunkHours * 3600)));
+                    var chunkLength = nightWindow.LengthSeconds / chunks;
                     for (var k = 0; k < chunks; k++)
                     {
-                        var chunk = new SecondsWindow(window.FromSeconds + k * chunkLength, window.FromSeconds + (k + 1) * chunkLength);
+                        var chunk = new SecondsWindow(nightWindow.FromSeconds + k * chunkLength, nightWindow.FromSeconds + (k + 1) * chunkLength);
+                        var open = OpenPieces(chunk.Intersect(units[u].Available), closedSpans[u]);
+                        if (open.Count == 0)
+                        {
+                            continue;
+                        }
+
+                        anyVisible = true;
                         var from = epoch.AddSeconds(chunk.FromSeconds);
                         var mid = epoch.AddSeconds((chunk.FromSeconds + chunk.ToSeconds) / 2);
                         var to = epoch.AddSeconds(chunk.ToSeconds);
@@ -317,7 +384,7 @@ public static class NightProblemBuilder
                         }
 
                         var magnitude = target.MagnitudeAt(mid);
-                        var planningMagnitude = magnitude.MagnitudeAB + settings.MagnitudeSigmaMargin * magnitude.SigmaMag;
+                        var planningMagnitude = magnitude.MagnitudeAB + settings.MagnitudeSigmaMargin * magnitude.SigmaMag + dimming[u];
                         if (!double.IsFinite(planningMagnitude) || planningMagnitude > MaxPlannableMagnitude)
                         {
                             // No usable light curve (or one extrapolated to nothing): the exposure cannot be sized.
@@ -325,23 +392,23 @@ public static class NightProblemBuilder
                         }
 
                         var phase = target.PhaseAt(mid);
+                        var longest = open.Max(p => p.LengthSeconds);
                         var conditions = new ObservingConditions
                         {
                             Airmass = worstAirmass,
                             Moon = moon,
-                            MaxTotalSeconds = Math.Max(1, Math.Min(settings.MaxObservationSeconds, chunk.LengthSeconds - sg.OverheadSeconds)),
+                            MaxTotalSeconds = Math.Max(1, Math.Min(settings.MaxObservationSeconds, longest - sg.OverheadSeconds)),
                         };
                         var levels = new List<ExposureLevel>();
                         foreach (var snr in snrLevels)
                         {
-                            if (conditions.MaxTotalSeconds <= 1)
+                            var estimate = conditions.MaxTotalSeconds <= 1 ? null : calculators[u].TimeFor(planningMagnitude, snr, conditions);
+                            if (estimate is null || !estimate.Reachable || estimate.ElapsedSeconds > longest)
                             {
-                                break;
-                            }
-
-                            var estimate = calculators[u].TimeFor(planningMagnitude, snr, conditions);
-                            if (!estimate.Reachable || estimate.ElapsedSeconds > chunk.LengthSeconds)
-                            {
+                                // "Too faint" only when the S/N cannot be reached at all within the longest observation allowed;
+                                // otherwise the window is what is too short.
+                                anyWindowTooShort |= levels.Count == 0 && calculators[u].TimeFor(planningMagnitude, snr,
+                                    conditions with { MaxTotalSeconds = settings.MaxObservationSeconds }).Reachable;
                                 break;
                             }
 
@@ -349,19 +416,21 @@ public static class NightProblemBuilder
                             clamped |= value.Clamped && !slices[u].ResolutionClamped;
                             var unweighted = settings.Objective == PlanObjective.Accuracy ? value.ExpectedAccuracy : value.InformationBits;
                             levels.Add(new ExposureLevel(snr, estimate.ExposureSeconds, estimate.ElapsedSeconds, value.ExpectedAccuracy,
-                                value.InformationBits, target.ScienceWeight * unweighted));
+                                value.InformationBits, target.ScienceWeight * unweighted, estimate.ExposureCount));
                         }
 
                         if (levels.Count > 0)
                         {
                             anyLevel = true;
-                            options.Add(new PlanOption(c, u, chunk, levels, worstAirmass, magnitude.MagnitudeAB, clamped));
+                            options.AddRange(open.Select(piece => new PlanOption(c, u, piece, levels, worstAirmass, magnitude.MagnitudeAB, clamped)));
                         }
                     }
                 }
             }
 
-            var standing = anyLevel ? CandidateStanding.Plannable : anyVisible ? CandidateStanding.TooFaint : CandidateStanding.NeverVisible;
+            var standing = anyLevel ? CandidateStanding.Plannable
+                : anyWindowTooShort ? CandidateStanding.WindowTooShort
+                : anyVisible ? CandidateStanding.TooFaint : CandidateStanding.NeverVisible;
             return (new PlanningCandidate(target.Id, target.ScienceWeight, standing), options, clamped);
         }
 
@@ -375,7 +444,50 @@ public static class NightProblemBuilder
             notes.Add($"{clampedCandidates} candidates had a phase or S/N outside the calibration grid; the grid's edge values were used for them.");
         }
 
-        var problem = new PlanningProblem(epoch, units, candidates, options, settings.Objective, settings.PricePerCostUnit, settings.NetworkCostCap);
-        return new PlanningNight(problem, nights, unitRoster.ToArray(), targets.ToArray(), notes);
+        var candidateIndex = candidates.Select((x, i) => (x.Id, i)).ToDictionary(x => x.Id, x => x.i, StringComparer.Ordinal);
+        var unitIndex = units.Select((x, i) => (x.Id, i)).ToDictionary(x => x.Id, x => x.i, StringComparer.OrdinalIgnoreCase);
+        var anchors = settings.Previous
+            .Where(p => candidateIndex.ContainsKey(p.CandidateId) && unitIndex.ContainsKey(p.SpectrographId))
+            .Select(p => new PlanAnchor(candidateIndex[p.CandidateId], unitIndex[p.SpectrographId], Seconds(p.StartUtc), p.ExposureSeconds))
+            .ToArray();
+        var problem = new PlanningProblem(epoch, units, candidates, options, settings.Objective, settings.PricePerCostUnit, settings.NetworkCostCap)
+        {
+            Anchors = anchors,
+            StabilityShare = settings.StabilityShare,
+        };
+        return new PlanningNight(problem, nights, unitRoster.ToArray(), targets.ToArray(), notes, closedSpans.ToArray());
+    }
+
+    private static Site WithConditions(Site site, IReadOnlyDictionary<Guid, SiteConditions> conditions) =>
+        conditions.TryGetValue(site.Id, out var c)
+            ? site with { SeeingArcsec = c.SeeingArcsec ?? site.SeeingArcsec, DarkSkyMagArcsec2 = c.SkyBrightnessMagArcsec2 ?? site.DarkSkyMagArcsec2 }
+            : site;
+
+    /// <summary><paramref name="window"/> minus the (sorted) closed spans: the open pieces, in order.</summary>
+    private static List<SecondsWindow> OpenPieces(SecondsWindow window, IReadOnlyList<SecondsWindow> closed)
+    {
+        var pieces = new List<SecondsWindow>();
+        var from = window.FromSeconds;
+        foreach (var x in closed)
+        {
+            if (x.ToSeconds <= from || x.FromSeconds >= window.ToSeconds)
+            {
+                continue;
+            }
+
+            if (x.FromSeconds > from)
+            {
+                pieces.Add(new SecondsWindow(from, x.FromSeconds));
+            }
+
+            from = Math.Max(from, x.ToSeconds);
+        }
+
+        if (window.ToSeconds > from)
+        {
+            pieces.Add(new SecondsWindow(from, window.ToSeconds));
+        }
+
+        return pieces.Where(p => p.LengthSeconds > 0).ToList();
     }
 }

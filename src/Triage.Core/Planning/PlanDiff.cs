@@ -67,3 +67,39 @@ public static class PlanDiff
             .SelectMany(q => q.Queue.Select(e => (q.SpectrographId, e)))
             .ToDictionary(x => x.e.CandidateId, x => (x.SpectrographId, x.e), StringComparer.Ordinal);
 }
+
+/// <summary>How much a new version changed the part of the previous one that was still ahead.</summary>
+/// <param name="ComparedEntries">Entries of the previous version still ahead (ending after the new version's planned-from instant).</param>
+/// <param name="Moved">Entries now on another spectrograph.</param>
+/// <param name="Retimed">Same spectrograph, start shifted by more than the tolerance.</param>
+/// <param name="Added">Entries new in this version.</param>
+/// <param name="Removed">Entries ahead that this version dropped.</param>
+public sealed record PlanChurn(int ComparedEntries, int Moved, int Retimed, int Added, int Removed)
+{
+    /// <summary>(moved + retimed + added + removed) / compared entries (0 when nothing was compared and nothing added), ≥ 0.</summary>
+    public double Share => (Moved + Retimed + Added + Removed) / (double)Math.Max(1, ComparedEntries);
+
+    /// <summary>Counts the changes of a diff.</summary>
+    public static PlanChurn Of(IReadOnlyList<PlanChange> changes, int comparedEntries) => new(
+        comparedEntries,
+        changes.Count(c => c.Kind == PlanChangeKind.Moved),
+        changes.Count(c => c.Kind == PlanChangeKind.Retimed),
+        changes.Count(c => c.Kind == PlanChangeKind.Added),
+        changes.Count(c => c.Kind == PlanChangeKind.Removed));
+
+    /// <summary>
+    /// The previous version cut to what was still ahead at <paramref name="fromUtc"/> (entries ending after it), compared
+    /// with the new version: the changes and their counts. Entries already over are history, not churn.
+    /// </summary>
+    public static (IReadOnlyList<PlanChange> Changes, PlanChurn Churn) Between(NightPlan previous, NightPlan next, DateTimeOffset fromUtc)
+    {
+        ArgumentNullException.ThrowIfNull(previous);
+        ArgumentNullException.ThrowIfNull(next);
+        var ahead = previous with
+        {
+            Spectrographs = previous.Spectrographs.Select(q => q with { Queue = q.Queue.Where(e => e.EndUtc > fromUtc).ToList() }).ToList(),
+        };
+        var changes = PlanDiff.Compare(ahead, next);
+        return (changes, Of(changes, ahead.Spectrographs.Sum(q => q.Queue.Count)));
+    }
+}

@@ -15,12 +15,14 @@ public static class PlanReport
     /// <param name="airmassAt">Optional: airmass of an option's target at a time (s from epoch); else the option's airmass is shown.</param>
     /// <param name="rejected">Candidates removed by a safety check after solving, with the reason.</param>
     /// <param name="extraNotes">Notes to add (e.g. from the builder).</param>
+    /// <param name="sky">Optional: the built night, for positions, airmass at start and end and the Moon's distance.</param>
     public static NightPlan Build(
         PlanningProblem problem,
         PlanOutcome outcome,
         Func<int, double, double>? airmassAt = null,
         IReadOnlyDictionary<int, string>? rejected = null,
-        IEnumerable<string>? extraNotes = null)
+        IEnumerable<string>? extraNotes = null,
+        PlanningNight? sky = null)
     {
         ArgumentNullException.ThrowIfNull(problem);
         ArgumentNullException.ThrowIfNull(outcome);
@@ -45,7 +47,21 @@ public static class PlanReport
                 bits += level.InformationBits;
                 objective += problem.NetValue(option, level);
                 var airmass = airmassAt?.Invoke(obs.Option, obs.StartSeconds + level.DurationSeconds / 2) ?? option.Airmass;
-                entries.Add(Entry(problem, bestPerCandidateUnit, obs, option, level, airmass));
+                var entry = Entry(problem, outcome, bestPerCandidateUnit, obs, option, level, airmass);
+                if (sky is not null)
+                {
+                    var position = sky.PositionOf(option.Candidate);
+                    entry = entry with
+                    {
+                        RaDeg = position.RaDeg,
+                        DecDeg = position.DecDeg,
+                        AirmassStart = sky.AirmassAt(obs.Option, obs.StartSeconds),
+                        AirmassEnd = sky.AirmassAt(obs.Option, obs.StartSeconds + level.DurationSeconds),
+                        MoonSeparationDeg = sky.MoonSeparationAt(obs.Option, obs.StartSeconds + level.DurationSeconds / 2),
+                    };
+                }
+
+                entries.Add(entry);
             }
 
             var cost = problem.Cost(u, used);
@@ -102,6 +118,7 @@ public static class PlanReport
 
     private static QueueEntry Entry(
         PlanningProblem problem,
+        PlanOutcome outcome,
         Dictionary<int, List<(int Unit, PlanOption Option, ExposureLevel Level, double Net)>> best,
         PlannedObservation obs, PlanOption option, ExposureLevel level, double airmass)
     {
@@ -113,22 +130,89 @@ public static class PlanReport
             .ToList();
         var runnerUp = alternatives.FirstOrDefault(a => a.Unit != option.Unit);
         var cheapest = alternatives.OrderBy(a => a.Alt.CostPerHour).ThenByDescending(a => a.Alt.Value).FirstOrDefault();
-        var loss = cheapest.Alt is null || cheapest.Unit == option.Unit ? 0 : level.Value - cheapest.Alt.Value;
-
-        var inv = CultureInfo.InvariantCulture;
-        var reason = string.Create(inv, $"A={level.ExpectedAccuracy:F2} at S/N {level.Snr:F0} on {here.Name} (R={here.ResolvingPower:F0}), value {level.Value:F3}");
-        reason += runnerUp.Alt is null
-            ? "; no other unit can take it"
-            : string.Create(inv, $"; runner-up {runnerUp.Alt.Name} A={runnerUp.Alt.ExpectedAccuracy:F2} value {runnerUp.Alt.Value:F3}");
-        if (cheapest.Alt is not null && cheapest.Unit != option.Unit)
-        {
-            reason += string.Create(inv, $"; moving it to the cheapest unit that sees it ({cheapest.Alt.Name}) would lose {loss:F3}");
-        }
-
+        var loss = cheapest.Alt is null || cheapest.Unit == option.Unit ? 0 : Math.Max(0, level.Value - cheapest.Alt.Value);
+        var kept = problem.Anchors.Any(a => a.Candidate == option.Candidate && a.Unit == option.Unit && Math.Abs(a.StartSeconds - obs.StartSeconds) < 60);
+        var count = Math.Max(1, level.ExposureCount);
+        var reason = Explain(problem, outcome, option, level, runnerUp.Unit, runnerUp.Alt, cheapest.Unit, cheapest.Alt, loss, kept);
         var start = problem.EpochUtc.AddSeconds(obs.StartSeconds);
         return new QueueEntry(problem.Candidates[option.Candidate].Id, start, start.AddSeconds(level.DurationSeconds), level.ExposureSeconds,
-            airmass, option.PredictedMagnitude, level.Snr, level.ExpectedAccuracy, level.InformationBits, level.Value, reason + ".",
-            alternatives.Select(a => a.Alt).ToArray(), runnerUp.Alt?.SpectrographId, loss);
+            airmass, option.PredictedMagnitude, level.Snr, level.ExpectedAccuracy, level.InformationBits, level.Value, reason,
+            alternatives.Select(a => a.Alt).ToArray(), runnerUp.Alt?.SpectrographId, loss)
+        {
+            ExposureCount = count,
+            IfMissed = IfMissed(problem, option.Candidate, obs.StartSeconds + level.DurationSeconds),
+            KeptFromPrevious = kept,
+        };
+    }
+
+    // One sentence: what the observation buys here, why this unit beat the runner-up (in the runner-up's own terms:
+    // more value but more time, whose worth elsewhere is the LP dual of that unit's time), and what the cheapest unit
+    // would give up. Never a negative loss.
+    private static string Explain(
+        PlanningProblem problem, PlanOutcome outcome, PlanOption option, ExposureLevel level,
+        int runnerUnit, UnitAlternative? runnerUp, int cheapUnit, UnitAlternative? cheapest, double loss, bool kept)
+    {
+        var inv = CultureInfo.InvariantCulture;
+        var here = problem.Units[option.Unit];
+        var text = string.Create(inv,
+            $"A={level.ExpectedAccuracy:F2} at S/N {level.Snr:F0} per resolution element on {here.Name} (R={here.ResolvingPower:F0}) in {level.DurationSeconds / 60:F0} min, value {level.Value:F3}");
+        if (runnerUp is null)
+        {
+            text += "; no other unit can take it tonight";
+        }
+        else if (runnerUp.Value <= level.Value + 1e-9)
+        {
+            text += string.Create(inv, $"; {here.Name} beats the runner-up {runnerUp.Name} (A={runnerUp.ExpectedAccuracy:F2}, value {runnerUp.Value:F3})");
+            if (runnerUp.DurationSeconds < level.DurationSeconds)
+            {
+                text += string.Create(inv, $" although {runnerUp.Name} would need only {runnerUp.DurationSeconds / 60:F0} min");
+            }
+        }
+        else
+        {
+            var gain = runnerUp.Value - level.Value;
+            var lambda = runnerUnit < outcome.MarginalValuePerHour.Count ? outcome.MarginalValuePerHour[runnerUnit] : null;
+            text += string.Create(inv, $"; {runnerUp.Name} would add {runnerUp.ExpectedAccuracy - level.ExpectedAccuracy:F2} accuracy (value +{gain:F3}) but needs {runnerUp.DurationSeconds / 60:F0} min of its time");
+            text += lambda is { } l && l * runnerUp.DurationSeconds / 3600 > 1e-9
+                ? string.Create(inv, $", worth {l * runnerUp.DurationSeconds / 3600:F3} elsewhere tonight ({l:F3} per hour there)")
+                : ", and its time tonight is filled by observations that cannot move";
+        }
+
+        if (cheapest is not null && cheapUnit != option.Unit && cheapUnit != runnerUnit && loss > 0)
+        {
+            text += string.Create(inv, $"; on the cheapest unit that sees it ({cheapest.Name}) it would yield {loss:F3} less");
+        }
+
+        if (kept)
+        {
+            text += "; kept where the previous version had it";
+        }
+
+        return text + ".";
+    }
+
+    // The best observation of the candidate that can still start after the missed slot ends: any unit, any window.
+    private static MissedSlotAdvice? IfMissed(PlanningProblem problem, int candidate, double afterSeconds)
+    {
+        MissedSlotAdvice? best = null;
+        foreach (var option in problem.Options.Where(o => o.Candidate == candidate))
+        {
+            foreach (var level in option.Levels)
+            {
+                var earliest = Math.Max(option.Window.FromSeconds, afterSeconds);
+                var latest = option.Window.ToSeconds - level.DurationSeconds;
+                var net = problem.NetValue(option, level);
+                if (latest < earliest || net <= 0 || (best is not null && net <= best.Value))
+                {
+                    continue;
+                }
+
+                var unit = problem.Units[option.Unit];
+                best = new MissedSlotAdvice(unit.Id, unit.Name, problem.EpochUtc.AddSeconds(earliest), problem.EpochUtc.AddSeconds(latest), level.ExposureSeconds, net);
+            }
+        }
+
+        return best;
     }
 
     private static UnassignedCandidate Unassigned(
@@ -149,7 +233,9 @@ public static class PlanReport
             return candidate.Standing switch
             {
                 CandidateStanding.TooFaint => new UnassignedCandidate(candidate.Id, UnassignedReason.TooFaint,
-                    "Visible, but no unit reaches the lowest calibrated S/N within its exposure limit and visibility window.", null, null, null, null),
+                    "Too faint: visible, but no unit reaches the lowest calibrated S/N even in the longest observation allowed.", null, null, null, null),
+                CandidateStanding.WindowTooShort => new UnassignedCandidate(candidate.Id, UnassignedReason.WindowTooShort,
+                    "Window too short: a unit could reach the lowest calibrated S/N, but not within any of its visibility windows tonight.", null, null, null, null),
                 _ => new UnassignedCandidate(candidate.Id, UnassignedReason.NeverVisible,
                     "Never above the altitude, airmass, Sun and Moon limits of an open unit during its dark window.", null, null, null, null),
             };

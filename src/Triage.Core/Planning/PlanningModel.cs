@@ -150,7 +150,51 @@ public sealed class PlanningModel
             choices.AddRange(list.Where(c => keepUnits.Contains(c.Unit)));
         }
 
+        choices.AddRange(AnchoredChoices(problem, step, budgetTicks));
         return new PlanningModel(problem, settings, choices.ToArray(), budgetTicks, before);
+    }
+
+    // A previous assignment becomes one more choice pinned to its start tick and worth (1 + share) × its net value,
+    // at the level whose open-shutter time is closest to the previous one; it is left out when it no longer fits
+    // its option's window (closure, the night moved on) or is worth nothing.
+    private static IEnumerable<Choice> AnchoredChoices(PlanningProblem problem, double step, long[] budgetTicks)
+    {
+        if (problem.Anchors.Count == 0)
+        {
+            return [];
+        }
+
+        var byPair = new Dictionary<(int, int), List<int>>();
+        for (var o = 0; o < problem.Options.Count; o++)
+        {
+            var key = (problem.Options[o].Candidate, problem.Options[o].Unit);
+            (byPair.TryGetValue(key, out var l) ? l : byPair[key] = []).Add(o);
+        }
+
+        var result = new List<Choice>();
+        foreach (var a in problem.Anchors)
+        {
+            var tick = (long)Math.Round(a.StartSeconds / step);
+            foreach (var o in byPair.GetValueOrDefault((a.Candidate, a.Unit)) ?? [])
+            {
+                var option = problem.Options[o];
+                var l = Enumerable.Range(0, option.Levels.Count).MinBy(i => Math.Abs(option.Levels[i].ExposureSeconds - a.ExposureSeconds));
+                var level = option.Levels[l];
+                var ticks = (int)Math.Ceiling(level.DurationSeconds / step - 1e-9);
+                var earliest = (long)Math.Ceiling(option.Window.FromSeconds / step - 1e-9);
+                var latest = (long)Math.Floor(option.Window.ToSeconds / step + 1e-9) - ticks;
+                var net = problem.NetValue(option, level);
+                if (tick < earliest || tick > latest || net <= 0 || ticks > budgetTicks[a.Unit])
+                {
+                    continue;
+                }
+
+                result.Add(new Choice(o, l, a.Candidate, a.Unit, ticks, tick, tick, net * (1 + problem.StabilityShare), problem.Cost(a.Unit, ticks * step)));
+                break;
+            }
+        }
+
+        return result;
     }
 
     /// <summary>

@@ -47,8 +47,11 @@ public enum CandidateStanding
     /// <summary>Never above the limits of any available unit during its dark window.</summary>
     NeverVisible,
 
-    /// <summary>Visible, but no unit reaches the lowest calibrated S/N within its exposure limit and window.</summary>
+    /// <summary>Visible, but no unit reaches the lowest calibrated S/N even in the longest observation allowed.</summary>
     TooFaint,
+
+    /// <summary>Bright enough, but every window it has is shorter than the observation the lowest S/N needs.</summary>
+    WindowTooShort,
 }
 
 /// <summary>A candidate as the planner sees it.</summary>
@@ -64,13 +67,15 @@ public sealed record PlanningCandidate(string Id, double ScienceWeight, Candidat
 /// <param name="ExpectedAccuracy">A at this S/N, 0…1 (unweighted).</param>
 /// <param name="InformationBits">I at this S/N, bits (unweighted).</param>
 /// <param name="Value">The objective's value of the spectrum: weight × A or weight × I.</param>
+/// <param name="ExposureCount">Sub-exposures the open-shutter time is split into (each ≤ the unit's longest exposure), ≥ 1.</param>
 public sealed record ExposureLevel(
     double Snr,
     double ExposureSeconds,
     double DurationSeconds,
     double ExpectedAccuracy,
     double InformationBits,
-    double Value);
+    double Value,
+    int ExposureCount = 1);
 
 /// <summary>
 /// A way to observe one candidate on one unit: any start such that the whole observation lies
@@ -112,6 +117,12 @@ public sealed record PlanningProblem(
     double PricePerCostUnit = 0,
     double? NetworkCostCap = null)
 {
+    /// <summary>Assignments of the previous plan version (replanning): the solver keeps each unless a change gains more than <see cref="StabilityShare"/> of its value.</summary>
+    public IReadOnlyList<PlanAnchor> Anchors { get; init; } = [];
+
+    /// <summary>An anchored assignment is worth (1 + this) × its net value to the solver, 0…1. Default 0.1.</summary>
+    public double StabilityShare { get; init; } = 0.1;
+
     /// <summary>Cost of keeping <paramref name="unit"/> busy for <paramref name="seconds"/>.</summary>
     public double Cost(int unit, double seconds) => Units[unit].CostPerHour * seconds / 3600.0;
 
@@ -173,3 +184,6 @@ public sealed record PlanningProblem(
         }
     }
 }
+
+/// <summary>An assignment of the previous plan version: candidate, unit, start (s from the epoch) and open-shutter time, s.</summary>
+public sealed record PlanAnchor(int Candidate, int Unit, double StartSeconds, double ExposureSeconds);

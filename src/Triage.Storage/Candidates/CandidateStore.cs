@@ -29,7 +29,14 @@ public sealed record IntakeSummary(int Received, int Created, int Updated, int U
 /// <param name="Limit">Page size.</param>
 public sealed record CandidateQuery(
     CandidateState? State, double? ConeRaDeg, double? ConeDecDeg, double? ConeRadiusDeg,
-    double? BrighterThanMagAb, DateTimeOffset At, DateTimeOffset? UpdatedSince, Guid? After, int Limit);
+    double? BrighterThanMagAb, DateTimeOffset At, DateTimeOffset? UpdatedSince, Guid? After, int Limit)
+{
+    /// <summary>Only the candidate(s) with this broker's own id.</summary>
+    public string? BrokerCandidateId { get; init; }
+
+    /// <summary>Only candidates of this broker (the posting key's public id).</summary>
+    public string? Broker { get; init; }
+}
 
 /// <summary>A candidate as listed.</summary>
 public sealed record CandidateListRow(
@@ -437,6 +444,8 @@ public sealed partial class CandidateStore(NpgsqlDataSource dataSource)
           AND (@brighterThan::float8 IS NULL OR (predicted_mag IS NOT NULL
                AND predicted_mag + predicted_mag_rate * (extract(epoch FROM (@at::timestamptz - fitted_at)) / 86400.0) <= @brighterThan))
           AND (@after::uuid IS NULL OR id > @after)
+          AND (@brokerId::text IS NULL OR broker_candidate_id = @brokerId)
+          AND (@broker::text IS NULL OR broker = @broker)
         ORDER BY id
         LIMIT @limit
         """;
@@ -463,6 +472,8 @@ public sealed partial class CandidateStore(NpgsqlDataSource dataSource)
             at = q.At.UtcDateTime,
             after = q.After,
             limit = q.Limit,
+            brokerId = q.BrokerCandidateId,
+            broker = q.Broker,
         }, cancellationToken: ct));
         return rows.Select(r => r.ToRow()).ToList();
     }
@@ -526,6 +537,29 @@ public sealed partial class CandidateStore(NpgsqlDataSource dataSource)
         var rows = (await grid.ReadAsync<DetailRowData>()).ToList();
         var photometry = (await grid.ReadAsync<OwnedPhotometryRowData>()).ToLookup(p => p.CandidateId, p => p.Point.ToPoint());
         return rows.Select(r => (r.Id, r.ToCandidate(photometry[r.Id].ToList()))).ToList();
+    }
+
+    /// <summary>Deletes every candidate of one broker with its photometry, events and reports (the demo loader's reset); returns how many.</summary>
+    public async Task<int> DeleteBrokerCandidatesAsync(string broker, CancellationToken ct = default)
+    {
+        await using var conn = await dataSource.OpenConnectionAsync(ct);
+        await using var tx = await conn.BeginTransactionAsync(ct);
+        await conn.ExecuteAsync(new CommandDefinition("""
+            DELETE FROM candidate_photometry WHERE candidate_id IN (SELECT id FROM candidates WHERE broker = @broker);
+            DELETE FROM candidate_events WHERE candidate_id IN (SELECT id FROM candidates WHERE broker = @broker);
+            """, new { broker }, tx, cancellationToken: ct));
+        var count = await conn.ExecuteAsync(new CommandDefinition("DELETE FROM candidates WHERE broker = @broker", new { broker }, tx, cancellationToken: ct));
+        await tx.CommitAsync(ct);
+        return count;
+    }
+
+    /// <summary>The broker and the broker's own id of each of <paramref name="ids"/> that exists.</summary>
+    public async Task<IReadOnlyDictionary<Guid, (string Broker, string BrokerCandidateId)>> BrokerIdsAsync(IReadOnlyCollection<Guid> ids, CancellationToken ct = default)
+    {
+        await using var conn = await dataSource.OpenConnectionAsync(ct);
+        var rows = await conn.QueryAsync<(Guid Id, string Broker, string BrokerCandidateId)>(new CommandDefinition(
+            "SELECT id, broker, broker_candidate_id FROM candidates WHERE id = ANY(@ids)", new { ids = ids.ToArray() }, cancellationToken: ct));
+        return rows.ToDictionary(r => r.Id, r => (r.Broker, r.BrokerCandidateId));
     }
 
     private const string PendingSql = $"""

@@ -73,7 +73,8 @@ public sealed class PlanJobTests(IsolatedDatabaseFactory api) : IClassFixture<Is
         var report = await observatory.PostAsync($"/api/candidates/{candidateId}/observations", Bodies.Raw(JsonSerializer.Serialize(new
         {
             spectrographId = unit, outcome = "done", achievedSnr = 18.0, classifiedLabel = "Ia",
-            observedUtc = DateTimeOffset.UtcNow.AddMinutes(-1),
+            // A done report must lie in the site's dark window (and not in the future): the latest dark minute so far.
+            observedUtc = Triage.Core.Sky.DarkTime.LatestDarkInstant((await api.Services.GetRequiredService<RosterStore>().GetSiteAsync(site))!.Value, DateTimeOffset.UtcNow)!.Value,
         })));
         Assert.True(report.IsSuccessStatusCode, await report.Content.ReadAsStringAsync());
 

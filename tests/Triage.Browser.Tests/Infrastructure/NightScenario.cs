@@ -62,7 +62,9 @@ public sealed class NightScenario
             [Entry(ids[0], t0, 18.4), Entry(ids[2], t0.AddMinutes(40), 19.1)],
             [Entry(ids[1], t0.AddMinutes(10), 20.2), Entry(ids[3], t0.AddMinutes(90), 20.8)]);
         // Reported after the version was computed, so the reports are about its entries.
-        var observedUtc = DateTimeOffset.UtcNow.AddMinutes(-30).ToString("O");
+        // A done report must lie in the site's dark window: the latest dark minute at most 30 minutes ago.
+        var siteRecord = (await host.Services.GetRequiredService<Triage.Storage.Roster.RosterStore>().GetSiteAsync(Guid.Parse(siteId)))!.Value;
+        var observedUtc = Triage.Core.Sky.DarkTime.LatestDarkInstant(siteRecord, DateTimeOffset.UtcNow.AddMinutes(-30))!.Value.ToString("O");
         await PostAsync(client, $"/api/candidates/{ids[0]}/observations", new JsonObject
         {
             ["spectrographId"] = spectrographs[0], ["outcome"] = "done", ["achievedSnr"] = 18.0, ["observedUtc"] = observedUtc,

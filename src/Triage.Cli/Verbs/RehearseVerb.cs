@@ -1,0 +1,150 @@
+using System.CommandLine;
+using System.Globalization;
+using System.Text.Json;
+using Triage.Core.Candidates;
+using Triage.Core.Planning;
+using Triage.Core.Roster;
+using Triage.Scheduling;
+
+namespace Triage.Cli.Verbs;
+
+/// <summary>
+/// Rehearses a night without a database: plans it from its first dark start, then every N minutes replans from that
+/// instant the way the service does (entries under way kept, later ones anchored, deterministic solve) after
+/// simulating the reports since the last replan: entries that ended were observed, a seeded few of them were lost
+/// to weather (their candidates wait again), and held-back candidates arrive. Prints the churn of every replan.
+/// </summary>
+internal static class RehearseVerb
+{
+    public static Command Create()
+    {
+        var roster = new Option<FileInfo>("--roster") { Description = "Sites with their spectrographs (JSON array of { site, spectrographs }).", Required = true };
+        var candidates = new Option<FileInfo>("--candidates") { Description = "Broker batch JSON (the intake API's body).", Required = true };
+        var calibration = new Option<FileInfo>("--calibration") { Description = "Calibration JSON as written by `calibrate`.", Required = true };
+        var night = new Option<string>("--night") { Description = "Local date of the evening the night starts, YYYY-MM-DD.", Required = true };
+        var every = new Option<double>("--every") { Description = "Minutes between replans (default 30).", DefaultValueFactory = _ => 30 };
+        var lost = new Option<int>("--lost") { Description = "Observations lost to weather per replan, drawn from those that ended since the last one (default 1).", DefaultValueFactory = _ => 1 };
+        var arrivals = new Option<int>("--arrivals") { Description = "Candidates held back from the file and arriving per replan (default 2).", DefaultValueFactory = _ => 2 };
+        var seed = new Option<int>("--seed") { Description = "Seed of the simulated reports (default 1).", DefaultValueFactory = _ => 1 };
+        var output = new Option<FileInfo?>("--out") { Description = "Optional: write the per-replan churn as JSON." };
+        var command = new Command("rehearse", "Replan a night every N minutes with simulated reports and print the churn of each replan.")
+            { roster, candidates, calibration, night, every, lost, arrivals, seed, output };
+        command.SetAction((parse, cancellationToken) => Task.FromResult(Run(
+            parse.GetValue(roster)!, parse.GetValue(candidates)!, parse.GetValue(calibration)!, parse.GetValue(night)!, parse.GetValue(every),
+            parse.GetValue(lost), parse.GetValue(arrivals), parse.GetValue(seed), parse.GetValue(output), cancellationToken)));
+        return command;
+    }
+
+    /// <summary>One replan of the rehearsal.</summary>
+    public sealed record Step(DateTimeOffset FromUtc, int Observed, int Lost, int Arrived, int Assigned, PlanChurn Churn);
+
+    private static int Run(FileInfo rosterFile, FileInfo candidatesFile, FileInfo calibrationFile, string nightText, double everyMinutes,
+        int lostPerStep, int arrivalsPerStep, int seed, FileInfo? outFile, CancellationToken ct)
+    {
+        if (!DateOnly.TryParseExact(nightText, "yyyy-MM-dd", CultureInfo.InvariantCulture, DateTimeStyles.None, out var night))
+        {
+            Console.Error.WriteLine($"--night: '{nightText}' is not a date YYYY-MM-DD.");
+            return 2;
+        }
+
+        if (!(everyMinutes >= 5 && everyMinutes <= 600) || lostPerStep < 0 || arrivalsPerStep < 0)
+        {
+            Console.Error.WriteLine("--every must be in [5, 600] minutes; --lost and --arrivals ≥ 0.");
+            return 2;
+        }
+
+        try
+        {
+            var (sites, spectrographs) = RosterJson.Parse(File.ReadAllText(rosterFile.FullName));
+            var document = PlanJson.ReadCalibration(File.ReadAllText(calibrationFile.FullName));
+            var surface = AccuracySurface.FromDocument(document);
+            var labels = new HashSet<string>(DefaultSubtypeLabels.All.Concat(document.Subtypes), StringComparer.Ordinal);
+            var batch = CandidateAssessment.ReadBatch(File.ReadAllText(candidatesFile.FullName), labels);
+            if (!batch.IsValid)
+            {
+                Console.Error.WriteLine(JsonSerializer.Serialize(new { errors = batch.Errors }, BrokerBatchJson.Options));
+                return 2;
+            }
+
+            var labelList = labels.ToArray();
+            var all = batch.Candidates.AsParallel().AsOrdered()
+                .Select(c => (ITargetForecast)new AssessedTargetForecast(CandidateAssessment.Assess(c, labelList), document.SnrReferenceWavelengthAngstrom))
+                .ToList();
+            var steps = Rehearse(sites, spectrographs, all, surface, night, TimeSpan.FromMinutes(everyMinutes), lostPerStep, arrivalsPerStep, seed, ct);
+            var inv = CultureInfo.InvariantCulture;
+            Console.WriteLine("from_utc              observed lost arrived assigned compared moved retimed added removed churn");
+            foreach (var s in steps)
+            {
+                var c = s.Churn;
+                Console.WriteLine(string.Create(inv,
+                    $"{s.FromUtc:yyyy-MM-ddTHH:mm}Z  {s.Observed,8} {s.Lost,4} {s.Arrived,7} {s.Assigned,8} {c.ComparedEntries,8} {c.Moved,5} {c.Retimed,7} {c.Added,5} {c.Removed,7} {c.Share,6:P1}"));
+            }
+
+            var replans = steps.Skip(1).ToList();
+            if (replans.Count > 0)
+            {
+                Console.WriteLine(string.Create(inv,
+                    $"{replans.Count} replans: churn mean {replans.Average(s => s.Churn.Share):P1}, max {replans.Max(s => s.Churn.Share):P1}; moved in all {replans.Sum(s => s.Churn.Moved)}."));
+            }
+
+            if (outFile is not null)
+            {
+                File.WriteAllText(outFile.FullName, JsonSerializer.Serialize(steps, PlanJson.Options));
+            }
+
+            return 0;
+        }
+        catch (Exception ex) when (ex is FormatException or ArgumentException or JsonException)
+        {
+            Console.Error.WriteLine(ex.Message);
+            return 2;
+        }
+    }
+
+    /// <summary>The rehearsal itself (the first step is the initial plan, with no churn).</summary>
+    public static IReadOnlyList<Step> Rehearse(
+        IReadOnlyList<Site> sites, IReadOnlyList<Spectrograph> spectrographs, IReadOnlyList<ITargetForecast> all, AccuracySurface surface,
+        DateOnly night, TimeSpan every, int lostPerStep, int arrivalsPerStep, int seed, CancellationToken ct)
+    {
+        var random = new Random(seed);
+        var heldBack = new Queue<ITargetForecast>(all.Skip(Math.Max(0, all.Count - 10 * arrivalsPerStep)));
+        var waiting = all.Take(all.Count - heldBack.Count).ToDictionary(t => t.Id, StringComparer.Ordinal);
+        var solver = new SolverSettings { Deterministic = true };
+        var first = NightProblemBuilder.Build(sites, spectrographs, waiting.Values.ToList(), surface, night, DateTimeOffset.MinValue);
+        var from = first.Problem.EpochUtc;
+        var end = first.Problem.Units.Count == 0 ? from : from.AddSeconds(first.Problem.Units.Max(u => u.Available.ToSeconds));
+        var plan = NightPlanning.Plan(first, solver, ct);
+        var steps = new List<Step> { new(from, 0, 0, 0, plan.Summary.Assigned, new PlanChurn(0, 0, 0, plan.Summary.Assigned, 0)) };
+        for (var t = from + every; t < end && !ct.IsCancellationRequested; t += every)
+        {
+            // Reports since the last replan: what ended was observed, except a few lost to weather.
+            var ended = plan.Spectrographs.SelectMany(q => q.Queue).Where(e => e.EndUtc <= t && waiting.ContainsKey(e.CandidateId)).ToList();
+            var lost = ended.OrderBy(_ => random.Next()).Take(lostPerStep).Select(e => e.CandidateId).ToHashSet(StringComparer.Ordinal);
+            foreach (var e in ended.Where(e => !lost.Contains(e.CandidateId)))
+            {
+                waiting.Remove(e.CandidateId);
+            }
+
+            var arrived = 0;
+            for (; arrived < arrivalsPerStep && heldBack.Count > 0; arrived++)
+            {
+                var next = heldBack.Dequeue();
+                waiting[next.Id] = next;
+            }
+
+            var split = NightReplan.Split(plan, t, NightReplan.DefaultFreeze);
+            var targets = waiting.Values.Where(x => !split.KeptIds.Contains(x.Id)).ToList();
+            var built = NightProblemBuilder.Build(sites, spectrographs, targets, surface, night, t, new NightBuildSettings
+            {
+                BusyUntilUtc = split.BusyUntilUtc,
+                Previous = split.Anchors,
+            });
+            var next2 = NightReplan.WithKept(NightPlanning.Plan(built, solver, ct), split.Kept);
+            var (_, churn) = PlanChurn.Between(plan, next2, t);
+            steps.Add(new Step(t, ended.Count - lost.Count, lost.Count, arrived, next2.Summary.Assigned, churn));
+            plan = next2;
+        }
+
+        return steps;
+    }
+}

@@ -1,0 +1,84 @@
+namespace Triage.Core.Planning;
+
+/// <summary>A queue entry of a plan version with its spectrograph.</summary>
+/// <param name="SpectrographId">The unit.</param>
+/// <param name="Entry">The entry.</param>
+public sealed record UnitEntry(string SpectrographId, QueueEntry Entry);
+
+/// <summary>What a replan takes from the previous version of the night.</summary>
+/// <param name="Kept">Entries executing at the replan instant or starting within the freeze time after it: kept as they are.</param>
+/// <param name="Anchors">Later entries: anchored (kept unless a change gains more than the stability share).</param>
+/// <param name="BusyUntilUtc">Per unit, the end of its last kept entry.</param>
+public sealed record ReplanStart(IReadOnlyList<UnitEntry> Kept, IReadOnlyList<PreviousAssignment> Anchors, IReadOnlyDictionary<Guid, DateTimeOffset> BusyUntilUtc)
+{
+    /// <summary>Candidate ids of the kept entries (not planned again).</summary>
+    public IReadOnlySet<string> KeptIds { get; } = Kept.Select(k => k.Entry.CandidateId).ToHashSet(StringComparer.Ordinal);
+}
+
+/// <summary>
+/// Replanning a night from an instant t: entries of the previous version with start ≤ t + freeze &lt; … &lt; end are kept
+/// (executing, or the unit is already acquiring them), entries starting later become anchors of the new solve, and
+/// entries over before t are history (neither kept nor compared).
+/// </summary>
+public static class NightReplan
+{
+    /// <summary>Default freeze time: entries starting within 5 minutes of the replan instant are kept as they are.</summary>
+    public static readonly TimeSpan DefaultFreeze = TimeSpan.FromMinutes(5);
+
+    /// <summary>Splits the previous version at <paramref name="fromUtc"/>.</summary>
+    /// <param name="previous">The night's latest version (null for a first plan).</param>
+    /// <param name="fromUtc">The replan instant.</param>
+    /// <param name="freeze">Entries starting within this time after the instant are kept.</param>
+    /// <param name="mayKeep">Optional: false for an entry that must not be kept (e.g. it runs into a closure).</param>
+    public static ReplanStart Split(NightPlan? previous, DateTimeOffset fromUtc, TimeSpan freeze, Func<UnitEntry, bool>? mayKeep = null)
+    {
+        var kept = new List<UnitEntry>();
+        var anchors = new List<PreviousAssignment>();
+        foreach (var q in previous?.Spectrographs ?? [])
+        {
+            foreach (var e in q.Queue)
+            {
+                var item = new UnitEntry(q.SpectrographId, e);
+                if (e.StartUtc <= fromUtc + freeze && fromUtc < e.EndUtc)
+                {
+                    if (mayKeep?.Invoke(item) ?? true)
+                    {
+                        kept.Add(item);
+                    }
+                }
+                else if (e.StartUtc > fromUtc + freeze)
+                {
+                    anchors.Add(new PreviousAssignment(e.CandidateId, q.SpectrographId, e.StartUtc, e.ExposureSeconds));
+                }
+            }
+        }
+
+        var busy = kept.Where(k => Guid.TryParse(k.SpectrographId, out _))
+            .GroupBy(k => Guid.Parse(k.SpectrographId)).ToDictionary(g => g.Key, g => g.Max(k => k.Entry.EndUtc));
+        return new ReplanStart(kept, anchors, busy);
+    }
+
+    /// <summary>The new plan with the kept entries put back in their queues (marked as kept).</summary>
+    public static NightPlan WithKept(NightPlan plan, IReadOnlyList<UnitEntry> kept)
+    {
+        ArgumentNullException.ThrowIfNull(plan);
+        if (kept.Count == 0)
+        {
+            return plan;
+        }
+
+        var byUnit = kept.ToLookup(k => k.SpectrographId, k => k.Entry with
+        {
+            Reason = "Executing or about to start when the night was replanned; kept as it was. " + k.Entry.Reason,
+            KeptFromPrevious = true,
+        }, StringComparer.OrdinalIgnoreCase);
+        var queues = plan.Spectrographs
+            .Select(q => byUnit[q.SpectrographId].Any() ? q with { Queue = byUnit[q.SpectrographId].Concat(q.Queue).OrderBy(e => e.StartUtc).ToList() } : q)
+            .ToList();
+        return plan with
+        {
+            Spectrographs = queues,
+            Notes = [.. plan.Notes, $"{kept.Count} observation(s) executing or about to start at the replanning instant were kept."],
+        };
+    }
+}
