@@ -14,6 +14,7 @@ builder.Services.AddSingleton(TimeProvider.System);
 builder.Services.AddTriageJson();
 builder.Services.AddTriageProblems();
 builder.AddHttpHardening();
+builder.Services.AddTriageOpenApi();
 builder.Services.AddDatabase(builder.Configuration);
 builder.Services.AddAccess(builder.Configuration);
 builder.Services.AddRoster();

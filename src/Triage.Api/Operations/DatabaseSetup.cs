@@ -9,7 +9,7 @@ namespace Triage.Api.Operations;
 /// <summary>Service options (section <c>Triage</c>).</summary>
 public sealed record TriageOptions
 {
-    /// <summary>Apply pending migrations when the service starts (default false: the run script and <c>triage db migrate</c> do it).</summary>
+    /// <summary>Apply pending migrations when the service starts (default false: the run script and <c>triage db advance</c> do it).</summary>
     public bool MigrateOnStart { get; init; }
 }
 
@@ -121,10 +121,10 @@ internal sealed class DatabaseReadyCheck(NpgsqlDataSource data, DatabaseLimits l
         bounded.CancelAfter(TimeSpan.FromSeconds(limits.ReadyCheckSeconds));
         try
         {
-            var version = await MigrationRunner.CurrentVersionAsync(data, bounded.Token);
-            return version >= MigrationRunner.LatestVersion
-                ? HealthCheckResult.Healthy($"migration {version}")
-                : HealthCheckResult.Unhealthy($"database at migration {version}, this build needs {MigrationRunner.LatestVersion}; run 'triage db migrate'");
+            var pending = await MigrationRunner.PendingVersionsAsync(data, bounded.Token);
+            return pending.Count == 0
+                ? HealthCheckResult.Healthy($"schema step {MigrationRunner.LatestVersion}")
+                : HealthCheckResult.Unhealthy($"database lacks schema step(s) {string.Join(", ", pending)} of this build; run 'triage db advance'");
         }
         catch (OperationCanceledException) when (bounded.IsCancellationRequested && !ct.IsCancellationRequested)
         {
