@@ -56,6 +56,8 @@ public static class DatabaseFaults
         return null;
     }
 
+    private static readonly string[] BrokenConnectionWords = ["connection", "reader is closed", "broken"];
+
     private static DatabaseFault ClassifyOne(Exception e) => e switch
     {
         PostgresException pg => ByState(pg.SqlState),
@@ -64,8 +66,9 @@ public static class DatabaseFaults
         NpgsqlException { InnerException: TimeoutException } => DatabaseFault.Unavailable,
         // A connection broken mid-statement surfaces as an NpgsqlException around an I/O error.
         NpgsqlException { InnerException: IOException or SocketException or EndOfStreamException } => DatabaseFault.Unavailable,
-        // Npgsql refuses to use a connection that broke earlier in the same operation.
-        InvalidOperationException io when io.Source == "Npgsql" && io.Message.Contains("connection", StringComparison.OrdinalIgnoreCase) => DatabaseFault.Unavailable,
+        // Npgsql refuses to use a connection (or a reader on it) that broke earlier in the same operation:
+        // found by the long fault run, a multi-result read cut mid-way ends in "The reader is closed".
+        InvalidOperationException io when io.Source == "Npgsql" && BrokenConnectionWords.Any(w => io.Message.Contains(w, StringComparison.OrdinalIgnoreCase)) => DatabaseFault.Unavailable,
         _ => DatabaseFault.None,
     };
 

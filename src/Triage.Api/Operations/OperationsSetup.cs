@@ -57,6 +57,7 @@ public static class OperationsSetup
             // Refusals inside a failed-authentication burst are logged by the burst, not one line each.
             o.GetLevel = (http, _, exception) =>
                 http.Items.ContainsKey(FailedAuthenticationLimit.QuietItem) ? Serilog.Events.LogEventLevel.Verbose
+                : http.Response.StatusCode == StatusCodes.Status503ServiceUnavailable && exception is null ? Serilog.Events.LogEventLevel.Warning
                 : exception is not null || http.Response.StatusCode >= 500 ? Serilog.Events.LogEventLevel.Error
                 : Serilog.Events.LogEventLevel.Information;
             o.EnrichDiagnosticContext = (diag, http) =>

@@ -99,7 +99,8 @@ public sealed class InputHygieneTests(TriageApiFactory api)
         var posted = await broker.PostAsync("/api/candidates/batches", Bodies.Json(CandidateBodies.Batch(candidate)));
         Assert.Equal(HttpStatusCode.OK, posted.StatusCode);
         // The stored row must not poison cone searches that reach it (PostgreSQL refuses underflowing products).
-        var cone = await client.GetAsync("/api/candidates?raDeg=0&decDeg=0&radiusDeg=0.5&limit=1000");
+        // At (1e-5°, 1e-5°) the product of the stored and queried z components (≈1e-322 × 1e-7) underflows.
+        var cone = await client.GetAsync("/api/candidates?raDeg=0.00001&decDeg=0.00001&radiusDeg=0.5&limit=1000");
         Assert.True(cone.StatusCode == HttpStatusCode.OK, await cone.Content.ReadAsStringAsync());
         Assert.Contains(candidate["id"]!.GetValue<string>(), await cone.Content.ReadAsStringAsync(), StringComparison.Ordinal);
     }
