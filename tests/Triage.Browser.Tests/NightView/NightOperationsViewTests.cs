@@ -85,7 +85,7 @@ public sealed class NightOperationsViewTests(NightViewHost host)
         await view.Page.WaitForSelectorAsync(".meta:has-text('Plan version 2')", new PageWaitForSelectorOptions { Timeout = 15000 });
         Assert.Contains("version 2", await view.Page.InnerTextAsync(".live-indicator"), StringComparison.Ordinal);
         Assert.Equal("live", await view.Page.GetAttributeAsync(".live-indicator", "data-live"));
-        Assert.Equal([s.CandidateIds[3]], await view.Page.EvalOnSelectorAllAsync<string[]>(".block", "bs => bs.map(b => b.dataset.candidate)"));
+        Assert.Equal([s.CandidateIds[3]], await view.Page.EvalOnSelectorAllAsync<string[]>(".board .block[data-candidate]", "bs => bs.map(b => b.dataset.candidate)"));
         await ShootAsync(view, "tonight-live");
         Assert.Empty(view.ConsoleErrors);
     }
