@@ -24,6 +24,7 @@ builder.Services.AddPlans();
 builder.Services.AddCalibrations();
 builder.Services.AddSky();
 builder.Services.AddTriageCompression();
+builder.Services.AddDatabaseNotifications(builder.Configuration);
 
 var app = builder.Build();
 // Outermost, so that the logged status is the one the exception handler actually sent.

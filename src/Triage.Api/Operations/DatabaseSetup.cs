@@ -70,15 +70,19 @@ public static class DatabaseSetup
     /// <summary>The one data source, from <c>ConnectionStrings:Triage</c> or <c>TRIAGE_CONNECTION</c>.</summary>
     public static IServiceCollection AddDatabase(this IServiceCollection services, IConfiguration config)
     {
-        var cs = config.GetConnectionString("Triage")
-            ?? Environment.GetEnvironmentVariable(TriageDataSource.EnvironmentVariable)
-            ?? TriageDataSource.LocalDefault;
+        var cs = ConnectionString(config);
         var limits = config.GetSection("Triage:Database").Get<DatabaseLimits>() ?? new DatabaseLimits();
         services.AddSingleton(limits);
         services.AddSingleton(_ => TriageDataSource.Create(limits.Apply(cs)));
         services.AddHealthChecks().AddCheck<DatabaseReadyCheck>("database", tags: ["ready"]);
         return services;
     }
+
+    /// <summary>The configured connection string: <c>ConnectionStrings:Triage</c>, else <c>TRIAGE_CONNECTION</c>, else the local default.</summary>
+    internal static string ConnectionString(IConfiguration config) =>
+        config.GetConnectionString("Triage")
+        ?? Environment.GetEnvironmentVariable(TriageDataSource.EnvironmentVariable)
+        ?? TriageDataSource.LocalDefault;
 
     /// <summary>Migrations (when configured) and the first admin key, before the first request.</summary>
     public static async Task PrepareDatabaseAsync(this WebApplication app)
