@@ -2,6 +2,7 @@ using System.Security.Claims;
 using System.Security.Cryptography;
 using System.Text.Json;
 using Microsoft.AspNetCore.Http.HttpResults;
+using Microsoft.Extensions.DependencyInjection.Extensions;
 using Microsoft.Extensions.Options;
 using Triage.Api.Access;
 using Triage.Api.Errors;
@@ -25,6 +26,8 @@ public static class CandidateEndpoints
         services.Configure<CandidateOptions>(config.GetSection("Triage:Candidates"));
         services.AddSingleton<CandidateStore>();
         services.AddSingleton<CandidateFitting>();
+        services.AddSingleton<IdentificationModel>();
+        services.TryAddSingleton<IObservationFollowUp, NoObservationFollowUp>();
         if (config.GetSection("Triage:Candidates").Get<CandidateOptions>()?.FitInBackground ?? true)
         {
             services.AddHostedService<CandidateFitWorker>();
@@ -190,7 +193,7 @@ public static class CandidateEndpoints
             SubtypePriorResponse.From(assessment.Prior),
             c.SubtypeProbabilities,
             detail.History,
-            detail.Observations));
+            detail.Observations) { Posterior = detail.Posterior });
     }
 
     // ---- lifecycle --------------------------------------------------------------------------
@@ -234,6 +237,7 @@ public static class CandidateEndpoints
 
     public static async Task<Results<Ok<ObservationReportResponse>, ValidationProblem, ProblemHttpResult>> ReportObservation(
         Guid id, ObservationReportRequest request, CandidateStore store, RosterStore roster, IOptions<CandidateOptions> options,
+        IdentificationModel identification, CandidateFitting fitting, IObservationFollowUp followUp, ILogger<IObservationFollowUp> log,
         ClaimsPrincipal user, TimeProvider clock, CancellationToken ct)
     {
         var now = clock.GetUtcNow();
@@ -252,7 +256,7 @@ public static class CandidateEndpoints
         }
         if (outcome == ObservationOutcome.Done && request.Outcome == "done")
         {
-            checks.Number("achievedSnr", request.AchievedSnr, 0, 100000);
+            checks.Number("achievedSnr", request.AchievedSnr, 0, 100000, minExclusive: true);
         }
         else if (request.AchievedSnr is { } snr && (!double.IsFinite(snr) || snr < 0))
         {
@@ -264,11 +268,9 @@ public static class CandidateEndpoints
             {
                 checks.Fail("classifiedLabel", "is only accepted with outcome 'done'");
             }
-            else if (!options.Value.SubtypeLabels.Contains(label, StringComparer.Ordinal))
-            {
-                checks.Fail("classifiedLabel", $"'{label}' is not a subtype of the active taxonomy");
-            }
         }
+        var channel = request.ClassifiedLabel is null && request.ClassProbabilities is null ? null : await identification.GetAsync(ct);
+        ReportWeighing.Check(request, checks, options.Value.SubtypeLabels, channel);
         if (request.ObservedUtc is not { } observed)
         {
             checks.Fail("observedUtc", "is required");
@@ -291,13 +293,51 @@ public static class CandidateEndpoints
         {
             return Problems.Forbidden("spectrographId", "This spectrograph belongs to another observatory.");
         }
-        var (result, state, reportId) = await store.ReportObservationAsync(id, spectrograph.Value.Id, outcome, request.AchievedSnr,
-            request.ClassifiedLabel, request.ObservedUtc!.Value.ToUniversalTime(), Caller.From(user).PublicId, now, ct);
+        LabelEvidence? evidence = null;
+        if (request.ClassifiedLabel is not null)
+        {
+            if (await store.GetAsync(id, ct) is not { } detail)
+            {
+                return Problems.NotFound("id", $"No candidate {id}.");
+            }
+            var assessment = await fitting.AssessAsync(detail, ct);
+            evidence = ReportWeighing.Evidence(request, channel, assessment, spectrograph.Value.ResolvingPower, spectrograph.Value.Name,
+                options.Value.IdentificationConfidence);
+        }
+        ReportOutcome result;
+        CandidateState? state;
+        Guid reportId;
+        WeighedLabel? weighed;
+        try
+        {
+            (result, state, reportId, weighed) = await store.ReportObservationAsync(id, spectrograph.Value.Id, outcome, request.AchievedSnr,
+                request.ClassifiedLabel, request.ObservedUtc!.Value.ToUniversalTime(), Caller.From(user).PublicId, now, evidence, ct);
+        }
+        catch (ArgumentException e)
+        {
+            checks.Fail("classifiedLabel", e.Message);
+            return TypedResults.ValidationProblem(checks.ToDictionary());
+        }
+        if (result == ReportOutcome.Recorded)
+        {
+            try
+            {
+                await followUp.ReportedAsync(new ObservationFollowUp(id, spectrograph.Value.Id, request.ObservedUtc!.Value.ToUniversalTime(), state!.Value), ct);
+            }
+            catch (Exception e) when (e is not OperationCanceledException)
+            {
+                log.LogWarning(e, "Follow-up of the report on candidate {CandidateId} failed", id);
+            }
+        }
         return result switch
         {
             ReportOutcome.UnknownCandidate => Problems.NotFound("id", $"No candidate {id}."),
             ReportOutcome.RefusedInState => Problems.Conflict("id", $"The candidate is {CandidateLifecycle.Name(state!.Value)}; reports are not accepted."),
-            _ => TypedResults.Ok(new ObservationReportResponse(reportId, id, CandidateLifecycle.Name(state!.Value))),
+            _ => TypedResults.Ok(new ObservationReportResponse(reportId, id, CandidateLifecycle.Name(state!.Value))
+            {
+                Posterior = weighed?.PosteriorJson is { } p ? JsonSerializer.Deserialize<Dictionary<string, double>>(p) : null,
+                Detail = weighed?.Detail,
+            }),
         };
     }
 }

@@ -87,11 +87,15 @@ public sealed class PlanJobHandler(
         });
     }
 
-    /// <summary>Candidates in state new or planned, with their photometry; the planner's id is the service's candidate id.</summary>
+    /// <summary>
+    /// Candidates in state new, planned or unsettled, with their photometry; the planner's id is the
+    /// service's candidate id. A candidate with labelled reports is valued from its posterior.
+    /// </summary>
     private async Task<List<Candidate>> WaitingCandidatesAsync(IReadOnlySet<string> exclude, CancellationToken ct)
     {
         // One bulk read of the whole waiting set (rows and photometry), not one query per candidate.
-        var waiting = await candidates.InStatesWithPhotometryAsync([CandidateState.New, CandidateState.Planned], ct);
+        var waiting = await candidates.InStatesWithPhotometryAsync(
+            [CandidateState.New, CandidateState.Planned, CandidateState.Unsettled], ct, posteriorAsPrior: true);
         return waiting
             .Where(w => !exclude.Contains(w.Id.ToString()))
             .Select(w => w.Candidate with { Id = w.Id.ToString() })
@@ -115,14 +119,14 @@ public sealed class PlanJobHandler(
         };
     }
 
-    /// <summary>Candidates in the new version move from new to planned (the lifecycle's own rules decide).</summary>
+    /// <summary>Candidates in the new version move from new or unsettled to planned (the lifecycle's own rules decide).</summary>
     private async Task MarkPlannedAsync(NightPlan plan, CancellationToken ct)
     {
         foreach (var id in plan.Spectrographs.SelectMany(q => q.Queue).Select(e => e.CandidateId))
         {
             if (Guid.TryParse(id, out var guid))
             {
-                await candidates.TransitionAsync(guid, CandidateState.Planned, s => s == CandidateState.New, "planner", "in a plan version", clock.GetUtcNow(), ct);
+                await candidates.TransitionAsync(guid, CandidateState.Planned, s => s is CandidateState.New or CandidateState.Unsettled, "planner", "in a plan version", clock.GetUtcNow(), ct);
             }
         }
     }

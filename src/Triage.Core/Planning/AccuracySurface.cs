@@ -458,7 +458,7 @@ public sealed class AccuracySurface
             channel[i] = (1 - t) * _channel[lo * channel.Length + i] + t * _channel[hi * channel.Length + i];
         }
 
-        return new ResolutionSlice(this, resolvingPower, clamped, recall, channel);
+        return new ResolutionSlice(this, resolvingPower, clamped, recall, channel, Resolutions[lo], Resolutions[hi]);
     }
 
     /// <summary>Expected accuracy and information of one spectrum (convenience over <see cref="AtResolution"/>).</summary>
@@ -506,9 +506,14 @@ public sealed class ResolutionSlice
     private readonly double[] _recall;
     private readonly double[] _channel;
 
-    internal ResolutionSlice(AccuracySurface surface, double resolvingPower, bool clamped, double[] recall, double[] channel)
+    private readonly double _gridRLow;
+    private readonly double _gridRHigh;
+
+    internal ResolutionSlice(AccuracySurface surface, double resolvingPower, bool clamped, double[] recall, double[] channel, double gridRLow, double gridRHigh)
     {
         _surface = surface;
+        _gridRLow = gridRLow;
+        _gridRHigh = gridRHigh;
         ResolvingPower = resolvingPower;
         ResolutionClamped = clamped;
         _recall = recall;
@@ -576,12 +581,7 @@ public sealed class ResolutionSlice
                 accuracy += alignedPrior[s] * (wl * _recall[rl + s] + wh * _recall[rh + s]);
             }
 
-            var cl = (lo * nP + b) * kk;
-            var ch = (hi * nP + b) * kk;
-            for (var i = 0; i < kk; i++)
-            {
-                chan[i] += wl * _channel[cl + i] + wh * _channel[ch + i];
-            }
+            AddChannel(chan, lo, hi, b, wl, wh);
         }
 
         double info = 0;
@@ -598,6 +598,68 @@ public sealed class ResolutionSlice
         }
 
         return new ObservationValue(Math.Clamp(accuracy, 0, 1), info, ResolutionClamped || snrClamped || phaseClamped);
+    }
+
+    private void AddChannel(Span<double> chan, int lo, int hi, int bin, double wl, double wh)
+    {
+        int nP = _surface.Bins.Length, kk = chan.Length;
+        var cl = (lo * nP + bin) * kk;
+        var ch = (hi * nP + bin) * kk;
+        for (var i = 0; i < kk; i++)
+        {
+            chan[i] += wl * _channel[cl + i] + wh * _channel[ch + i];
+        }
+    }
+
+    /// <summary>
+    /// The confusion channel C(j|s) a spectrum at S/N <paramref name="snr"/> and phase belief
+    /// <paramref name="phase"/> goes through: interpolated in ln R and ln S/N and averaged over the
+    /// phase bins exactly as <see cref="Evaluate"/> does (same shrinkage, same gap filling).
+    /// </summary>
+    /// <param name="snr">S/N per resolution element, &gt; 0.</param>
+    /// <param name="phase">Phase belief, rest-frame days from peak.</param>
+    /// <param name="channel">Receives K·K values, row-major: row s = answers given true subtype s (order of <see cref="AccuracySurface.Subtypes"/>).</param>
+    /// <returns>Which grid cells were used, with their weights.</returns>
+    /// <exception cref="ArgumentException"><paramref name="channel"/> does not hold K·K values.</exception>
+    /// <exception cref="ArgumentOutOfRangeException">S/N is not positive or the phase is not finite.</exception>
+    public ChannelCell Channel(double snr, PhaseBelief phase, Span<double> channel)
+    {
+        var k = _surface.SubtypeCount;
+        if (channel.Length != k * k)
+        {
+            throw new ArgumentException($"The channel must hold {k}×{k} values.", nameof(channel));
+        }
+
+        if (!(snr > 0) || double.IsInfinity(snr))
+        {
+            throw new ArgumentOutOfRangeException(nameof(snr), snr, "S/N must be positive and finite.");
+        }
+
+        if (!(phase.SigmaDays >= 0) || double.IsInfinity(phase.SigmaDays) || !double.IsFinite(phase.MeanDays))
+        {
+            throw new ArgumentOutOfRangeException(nameof(phase), phase, "Phase mean must be finite and sigma finite and ≥ 0.");
+        }
+
+        var bins = _surface.Bins;
+        Span<double> w = stackalloc double[bins.Length];
+        var phaseClamped = PhaseWeights(bins, phase, w);
+        var (lo, hi, t, snrClamped) = AccuracySurface.Bracket(_surface.LogSnr, Math.Log(snr));
+        channel.Clear();
+        var weights = new List<PhaseBinWeight>();
+        for (var b = 0; b < bins.Length; b++)
+        {
+            if (w[b] == 0)
+            {
+                continue;
+            }
+
+            weights.Add(new PhaseBinWeight(bins[b].Name, w[b]));
+            AddChannel(channel, lo, hi, b, w[b] * (1 - t), w[b] * t);
+        }
+
+        var axis = _surface.SnrAxis;
+        return new ChannelCell(ResolvingPower, _gridRLow, _gridRHigh, snr, axis[lo], axis[hi], weights,
+            ResolutionClamped || snrClamped || phaseClamped);
     }
 
     /// <summary>
@@ -640,3 +702,30 @@ public sealed class ResolutionSlice
 
     internal static double NormalCdf(double z) => 0.5 * MathNet.Numerics.SpecialFunctions.Erfc(-z / Math.Sqrt(2));
 }
+
+/// <summary>Weight of one phase bin in a phase-averaged channel.</summary>
+/// <param name="Bin">Phase bin name of the calibration.</param>
+/// <param name="Weight">Probability of the bin under the phase belief, 0…1.</param>
+public readonly record struct PhaseBinWeight(string Bin, double Weight);
+
+/// <summary>
+/// The calibration cells behind one interpolated confusion channel: the requested R and S/N, the
+/// grid points that bracket them (equal when exact or clamped) and the phase bins with weights.
+/// </summary>
+/// <param name="ResolvingPower">Requested R.</param>
+/// <param name="GridResolutionLow">Grid R at or below the request (the edge when clamped).</param>
+/// <param name="GridResolutionHigh">Grid R at or above the request.</param>
+/// <param name="Snr">Requested S/N per resolution element.</param>
+/// <param name="GridSnrLow">Grid S/N at or below the request (noiseless cells at their documented equivalent).</param>
+/// <param name="GridSnrHigh">Grid S/N at or above the request.</param>
+/// <param name="PhaseBins">Phase bins used, with weights summing to 1.</param>
+/// <param name="Clamped">True when R, S/N or phase lay outside the grid and its edge was used.</param>
+public sealed record ChannelCell(
+    double ResolvingPower,
+    double GridResolutionLow,
+    double GridResolutionHigh,
+    double Snr,
+    double GridSnrLow,
+    double GridSnrHigh,
+    IReadOnlyList<PhaseBinWeight> PhaseBins,
+    bool Clamped);
