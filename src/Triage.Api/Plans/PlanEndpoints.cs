@@ -143,7 +143,7 @@ public static class PlanEndpoints
     }
 
     internal static readonly IReadOnlyDictionary<string, PlanObjective> Objectives =
-        new Dictionary<string, PlanObjective> { ["accuracy"] = PlanObjective.Accuracy, ["information"] = PlanObjective.Information };
+        new Dictionary<string, PlanObjective> { ["accuracy"] = PlanObjective.Accuracy, ["information"] = PlanObjective.Information, ["identification"] = PlanObjective.Identification };
 
     private static bool TryNight(string text, out DateOnly night, out ProblemHttpResult problem)
     {

@@ -642,24 +642,51 @@ public sealed class ResolutionSlice
 
         var bins = _surface.Bins;
         Span<double> w = stackalloc double[bins.Length];
-        var phaseClamped = PhaseWeights(bins, phase, w);
-        var (lo, hi, t, snrClamped) = AccuracySurface.Bracket(_surface.LogSnr, Math.Log(snr));
-        channel.Clear();
+        var (lo, hi, clamped) = FillChannel(snr, phase, channel, w);
         var weights = new List<PhaseBinWeight>();
         for (var b = 0; b < bins.Length; b++)
         {
-            if (w[b] == 0)
+            if (w[b] != 0)
             {
-                continue;
+                weights.Add(new PhaseBinWeight(bins[b].Name, w[b]));
             }
-
-            weights.Add(new PhaseBinWeight(bins[b].Name, w[b]));
-            AddChannel(channel, lo, hi, b, w[b] * (1 - t), w[b] * t);
         }
 
         var axis = _surface.SnrAxis;
-        return new ChannelCell(ResolvingPower, _gridRLow, _gridRHigh, snr, axis[lo], axis[hi], weights,
-            ResolutionClamped || snrClamped || phaseClamped);
+        return new ChannelCell(ResolvingPower, _gridRLow, _gridRHigh, snr, axis[lo], axis[hi], weights, clamped);
+    }
+
+    /// <summary>
+    /// The same channel as <see cref="Channel"/> without describing the cells (no allocation), for
+    /// valuing many options. Arguments are not checked beyond the channel's length.
+    /// </summary>
+    /// <returns>True when R, S/N or phase were clamped to the grid's edge.</returns>
+    public bool FillChannel(double snr, PhaseBelief phase, Span<double> channel)
+    {
+        if (channel.Length != _surface.SubtypeCount * _surface.SubtypeCount)
+        {
+            throw new ArgumentException("The channel must hold K×K values.", nameof(channel));
+        }
+
+        Span<double> w = stackalloc double[_surface.Bins.Length];
+        return FillChannel(snr, phase, channel, w).Clamped;
+    }
+
+    private (int Lo, int Hi, bool Clamped) FillChannel(double snr, PhaseBelief phase, Span<double> channel, Span<double> w)
+    {
+        var bins = _surface.Bins;
+        var phaseClamped = PhaseWeights(bins, phase, w);
+        var (lo, hi, t, snrClamped) = AccuracySurface.Bracket(_surface.LogSnr, Math.Log(snr));
+        channel.Clear();
+        for (var b = 0; b < bins.Length; b++)
+        {
+            if (w[b] != 0)
+            {
+                AddChannel(channel, lo, hi, b, w[b] * (1 - t), w[b] * t);
+            }
+        }
+
+        return (lo, hi, ResolutionClamped || snrClamped || phaseClamped);
     }
 
     /// <summary>

@@ -117,6 +117,10 @@ public static class PlanReport
 
         var inv = CultureInfo.InvariantCulture;
         var reason = string.Create(inv, $"A={level.ExpectedAccuracy:F2} at S/N {level.Snr:F0} on {here.Name} (R={here.ResolvingPower:F0}), value {level.Value:F3}");
+        if (level.Explanation is { } why)
+        {
+            reason += "; " + why;
+        }
         reason += runnerUp.Alt is null
             ? "; no other unit can take it"
             : string.Create(inv, $"; runner-up {runnerUp.Alt.Name} A={runnerUp.Alt.ExpectedAccuracy:F2} value {runnerUp.Alt.Value:F3}");
