@@ -126,7 +126,7 @@ public sealed class PlanJobHandler(
         {
             if (Guid.TryParse(id, out var guid))
             {
-                await candidates.TransitionAsync(guid, CandidateState.Planned, s => s is CandidateState.New or CandidateState.Unsettled, "planner", "in a plan version", clock.GetUtcNow(), ct);
+                await candidates.TransitionAsync(guid, CandidateState.Planned, CandidateLifecycle.Waiting.Contains, "planner", "in a plan version", clock.GetUtcNow(), ct);
             }
         }
     }

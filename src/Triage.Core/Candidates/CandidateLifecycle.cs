@@ -59,6 +59,9 @@ public static class CandidateLifecycle
         [CandidateState.Unsettled] = [CandidateState.Planned, CandidateState.Abandoned, CandidateState.Stale],
     };
 
+    /// <summary>States a plan draws from (and moves to planned): new, and unsettled (a sharper spectrum is wanted).</summary>
+    public static IReadOnlySet<CandidateState> Waiting { get; } = new HashSet<CandidateState> { CandidateState.New, CandidateState.Unsettled };
+
     /// <summary>Whether a scheduler may move a candidate from <paramref name="from"/> to <paramref name="to"/>.</summary>
     /// <param name="force">Asked explicitly: lets a classified candidate be planned again.</param>
     public static bool CanTransition(CandidateState from, CandidateState to, bool force = false) =>

@@ -169,6 +169,32 @@ public static class PosteriorUpdate
         return new PosteriorResult(posterior, likelihood, cell, top.Key, top.Value, top.Value >= confidence - 1e-12);
     }
 
+    /// <summary>
+    /// p(k | j) = p(k) C(j|k) / m(j) into <paramref name="posterior"/> for answer index
+    /// <paramref name="answer"/> of a K·K channel; returns m(j) = Σₖ p(k) C(j|k) (the posterior is
+    /// left unnormalised, all zero, when m(j) = 0).
+    /// </summary>
+    public static double Bayes(ReadOnlySpan<double> prior, ReadOnlySpan<double> channel, int answer, Span<double> posterior)
+    {
+        var k = prior.Length;
+        var m = 0.0;
+        for (var s = 0; s < k; s++)
+        {
+            posterior[s] = prior[s] * channel[s * k + answer];
+            m += posterior[s];
+        }
+
+        if (m > 0)
+        {
+            for (var s = 0; s < k; s++)
+            {
+                posterior[s] /= m;
+            }
+        }
+
+        return m;
+    }
+
     /// <summary>p(k)·L(k) normalised over the prior's labels.</summary>
     /// <exception cref="ArgumentException">The prior is empty, negative or all zero, or the product vanishes everywhere.</exception>
     public static Dictionary<string, double> Bayes(IReadOnlyDictionary<string, double> prior, IReadOnlyDictionary<string, double> likelihood)

@@ -83,7 +83,7 @@ public static class SequentialValuation
         var q = Math.Clamp(capacityShare, 0, 1);
         for (var j = 0; j < k; j++)
         {
-            var m = Posterior(normalised, channel, j, posterior);
+            var m = PosteriorUpdate.Bayes(normalised, channel, j, posterior);
             if (m <= 0)
             {
                 continue;
@@ -121,7 +121,7 @@ public static class SequentialValuation
         double correct = 0, identifies = 0;
         for (var j = 0; j < k; j++)
         {
-            var m = Posterior(prior, channel, j, posterior);
+            var m = PosteriorUpdate.Bayes(prior, channel, j, posterior);
             if (m <= 0)
             {
                 continue;
@@ -138,29 +138,8 @@ public static class SequentialValuation
         return (correct, identifies);
     }
 
-    // p(·|j) into posterior; returns m(j).
-    private static double Posterior(ReadOnlySpan<double> prior, ReadOnlySpan<double> channel, int j, Span<double> posterior)
-    {
-        var k = prior.Length;
-        var m = 0.0;
-        for (var s = 0; s < k; s++)
-        {
-            posterior[s] = prior[s] * channel[s * k + j];
-            m += posterior[s];
-        }
-
-        if (m > 0)
-        {
-            for (var s = 0; s < k; s++)
-            {
-                posterior[s] /= m;
-            }
-        }
-
-        return m;
-    }
-
-    private static double Max(ReadOnlySpan<double> values)
+    /// <summary>Largest value (0 for an empty span).</summary>
+    public static double Max(ReadOnlySpan<double> values)
     {
         var max = 0.0;
         foreach (var v in values)

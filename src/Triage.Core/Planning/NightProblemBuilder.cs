@@ -390,7 +390,7 @@ public static class NightProblemBuilder
                             {
                                 var v = SequentialLevelValue(sequential, units, slices, u, followUnit, prior, snr, phase);
                                 unweighted = v.Total;
-                                explanation = Identification.SequentialValuation.Explain(v, surface.Subtypes, units[followUnit].ResolvingPower);
+                                explanation = followUnit >= 0 ? Identification.SequentialValuation.Explain(v, surface.Subtypes, units[followUnit].ResolvingPower) : null;
                             }
                             else
                             {
