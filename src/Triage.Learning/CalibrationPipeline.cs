@@ -68,6 +68,8 @@ public static class CalibrationPipeline
         var cells = new List<CalibrationCell>();
         var confusions = new List<ConfusionMatrix>();
         var summaries = new List<AccuracySummary>();
+        // correct[si][ri][spectrum]: the paired outcomes of the minimum-R table.
+        var correct = settings.SnrLevels.Select(_ => new bool[resolutions.Length][]).ToArray();
         for (int ri = 0; ri < resolutions.Length; ri++)
         {
             double r = resolutions[ri];
@@ -120,6 +122,7 @@ public static class CalibrationPipeline
             for (int si = 0; si < levels; si++)
             {
                 var pr = predicted[si];
+                correct[si][ri] = spectra.Select((s, i) => subtypes[pr[i]] == s.Subtype).ToArray();
                 var predictions = spectra.Select((s, i) => new Prediction(s.ObjectId, s.Subtype, subtypes[pr[i]], s.PhaseDays)).ToArray();
                 var score = CalibrationScoring.Score(predictions, subtypes, taxonomy, settings.PhaseBins, r, settings.SnrLevels[si]);
                 cells.AddRange(score.Cells);
@@ -136,8 +139,12 @@ public static class CalibrationPipeline
             BroadClasses = taxonomy.Classes.Select(c => new BroadClass(c.Name, c.Subtypes.Where(subtypes.Contains).ToArray()))
                 .Where(c => c.Subtypes.Count > 0).ToArray(),
             Summaries = summaries,
+            EqualExposure = EqualExposureView.Build(summaries),
             Baselines = CalibrationScoring.Baselines(spectra.Select(s => s.Subtype).ToArray(), subtypes, taxonomy),
-            MinimumResolution = MinimumResolutionTable.Build(cells, subtypes.Length, settings.MinimumResolutionTolerance),
+            MinimumResolution = MinimumResolutionTable.Build(
+                settings.SnrLevels.SelectMany((snr, si) => CalibrationScoring.Paired(spectra.Select(s => (s.ObjectId, s.Subtype)).ToArray(),
+                    resolutions, snr, correct[si], subtypes)).ToArray(),
+                subtypes.Length, settings.MinimumResolutionTolerance, settings.Seed),
             Provenance = provenance,
             Synthetic = library.Synthetic,
         };

@@ -11,7 +11,7 @@ public static class CalibrationPlots
 
     /// <summary>
     /// Recall against log R for each subtype (phases pooled) at one S/N level (null: native), with
-    /// Wilson 95 % intervals as error bars, and dashed lines for the uniform-guess chance level and
+    /// object-level 95 % intervals as error bars, and dashed lines for the uniform-guess chance level and
     /// the overall accuracy.
     /// </summary>
     /// <param name="subtypes">Subtypes to draw; null for all.</param>
@@ -53,7 +53,47 @@ public static class CalibrationPlots
         string snrText = snr is double v2 ? v2.ToString(CultureInfo.InvariantCulture) : "native";
         plt.Title($"Recall vs resolving power, S/N {snrText} per element{(doc.Synthetic ? " (SYNTHETIC library)" : "")}");
         plt.XLabel("R (log scale)");
-        plt.YLabel("recall (Wilson 95% interval)");
+        plt.YLabel("recall (object-level 95% interval)");
+        var ticks = doc.Resolutions.Select(r => new Tick(Math.Log10(r), r.ToString("0.#", CultureInfo.InvariantCulture))).ToArray();
+        plt.Axes.Bottom.TickGenerator = new ScottPlot.TickGenerators.NumericManual(ticks);
+        plt.Axes.SetLimitsY(0, 1.05);
+        plt.ShowLegend(Alignment.LowerRight);
+        return plt.GetSvgXml(width, height);
+    }
+
+    /// <summary>
+    /// The equal-exposure view: accuracy (solid) and mean per-subtype recall (dashed) against log R along curves of
+    /// fixed photons per Å, one per reference S/N at the highest grid R (S/N per element ∝ √(R_ref/R)); points
+    /// whose S/N lies outside the measured levels are left out.
+    /// </summary>
+    public static string EqualExposureSvg(AccuracyModelDocument doc, int width = 900, int height = 600)
+    {
+        var points = doc.EqualExposure.Count > 0 ? doc.EqualExposure : EqualExposureView.Build(doc.Summaries);
+        var plt = new Plot();
+        plt.Font.Set(FontName);
+        var palette = new ScottPlot.Palettes.Category10();
+        int colour = 0;
+        foreach (var curve in points.GroupBy(p => p.ReferenceSnr).OrderBy(g => g.Key))
+        {
+            var measured = curve.Where(p => p.Accuracy is not null).OrderBy(p => p.Resolution).ToArray();
+            if (measured.Length == 0) continue;
+            var color = palette.GetColor(colour++);
+            double[] x = measured.Select(p => Math.Log10(p.Resolution)).ToArray();
+            var acc = plt.Add.Scatter(x, measured.Select(p => p.Accuracy!.Value).ToArray(), color);
+            acc.LineWidth = 2.5f;
+            acc.LegendText = string.Create(CultureInfo.InvariantCulture,
+                $"S/N {curve.Key:0.#} at R = {measured[0].ReferenceResolution:0.#} (S/N {measured[^1].Snr:0.#}…{measured[0].Snr:0.#})");
+            var bal = plt.Add.Scatter(x, measured.Select(p => p.BalancedAccuracy!.Value).ToArray(), color);
+            bal.LinePattern = LinePattern.Dashed;
+        }
+        if (doc.Baselines is { } b)
+        {
+            var chance = plt.Add.HorizontalLine(b.UniformGuess, 1.5f, Colors.Gray, LinePattern.Dotted);
+            chance.LegendText = "chance (uniform guess)";
+        }
+        plt.Title($"Equal exposure: accuracy vs R at fixed photons per Å{(doc.Synthetic ? " (SYNTHETIC library)" : "")}");
+        plt.XLabel("R (log scale); S/N per element = S/N_ref·√(R_ref/R)");
+        plt.YLabel("accuracy (solid), mean recall (dashed)");
         var ticks = doc.Resolutions.Select(r => new Tick(Math.Log10(r), r.ToString("0.#", CultureInfo.InvariantCulture))).ToArray();
         plt.Axes.Bottom.TickGenerator = new ScottPlot.TickGenerators.NumericManual(ticks);
         plt.Axes.SetLimitsY(0, 1.05);

@@ -38,6 +38,7 @@ public static class CalibrationEndpoints
         g.MapPost("/{id:guid}/activation", Activate).RequireAuthorization(Policies.Admin).WithName("ActivateCalibration");
         g.MapGet("/{id:guid}/plots/recall.svg", RecallPlot).RequireAuthorization(Policies.AnyKey).WithName("RecallPlot");
         g.MapGet("/{id:guid}/plots/confusion.svg", ConfusionPlot).RequireAuthorization(Policies.AnyKey).WithName("ConfusionPlot");
+        g.MapGet("/{id:guid}/plots/equal-exposure.svg", EqualExposurePlot).RequireAuthorization(Policies.AnyKey).WithName("EqualExposurePlot");
         return app;
     }
 
@@ -160,6 +161,17 @@ public static class CalibrationEndpoints
             return bad;
         }
         return TypedResults.Content(CalibrationPlots.RecallCurvesSvg(document, level), "image/svg+xml");
+    }
+
+    public static async Task<Results<ContentHttpResult, ProblemHttpResult>> EqualExposurePlot(Guid id, CalibrationStore store, CancellationToken ct)
+    {
+        var found = await store.GetAsync(id, ct);
+        if (found is null)
+        {
+            return Problems.NotFound("id", $"No calibration {id}.");
+        }
+        var document = CalibrationJson.Deserialize(found.Value.DocumentJson);
+        return TypedResults.Content(CalibrationPlots.EqualExposureSvg(document), "image/svg+xml");
     }
 
     public static async Task<Results<ContentHttpResult, ProblemHttpResult>> ConfusionPlot(Guid id, double? resolution, string? snr, CalibrationStore store, CancellationToken ct)

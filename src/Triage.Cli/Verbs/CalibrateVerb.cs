@@ -109,6 +109,8 @@ internal static class CalibrateVerb
                 File.WriteAllText(Path.Combine(dir, string.Create(CultureInfo.InvariantCulture, $"confusion-r{r:0}-{tag}.svg")),
                     CalibrationPlots.ConfusionSvg(doc, r, snr));
         }
+        if (doc.SnrLevels.Any(s => s is not null))
+            File.WriteAllText(Path.Combine(dir, "equal-exposure.svg"), CalibrationPlots.EqualExposureSvg(doc));
     }
 
     private static void PrintSummary(AccuracyModelDocument doc, CalibrationTimings t)

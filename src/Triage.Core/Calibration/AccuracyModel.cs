@@ -12,8 +12,8 @@ public sealed record PhaseBin(string Name, double FromDays, double ToDays);
 /// <paramref name="Snr"/> (null: the library's native S/N, no noise added) and phase bin.
 /// </summary>
 /// <param name="Recall">Fraction of the subtype's spectra classified as that subtype (the expected accuracy).</param>
-/// <param name="RecallLow">Lower end of the Wilson 95% interval of the recall.</param>
-/// <param name="RecallHigh">Upper end of the Wilson 95% interval of the recall.</param>
+/// <param name="RecallLow">Lower end of the object-level 95 % interval of the recall (<see cref="ClusteredProportion"/>).</param>
+/// <param name="RecallHigh">Upper end of the object-level 95 % interval of the recall.</param>
 /// <param name="Precision">Fraction of spectra labelled <paramref name="Subtype"/> that truly are.</param>
 /// <param name="Spectra">Number of test spectra of the subtype in the cell.</param>
 /// <param name="Objects">Number of distinct objects behind those spectra.</param>
@@ -27,7 +27,17 @@ public sealed record CalibrationCell(
     double RecallHigh,
     double Precision,
     int Spectra,
-    int Objects);
+    int Objects)
+{
+    /// <summary>
+    /// n/deff: the number of independent spectra the cell's sample is worth, between <see cref="Objects"/> and
+    /// <see cref="Spectra"/> (null in documents written before object-level intervals).
+    /// </summary>
+    public double? EffectiveSpectra { get; init; }
+
+    /// <summary>Design effect deff ≥ 1 of the recall (within-object correlation), null in older documents.</summary>
+    public double? DesignEffect { get; init; }
+}
 
 /// <summary>
 /// Confusion counts at one grid point: <c>Counts[i][j]</c> spectra of true label
@@ -71,13 +81,19 @@ public sealed record AccuracyModelDocument(
     /// <summary>Where the numbers came from: library fingerprint, settings, code version.</summary>
     public CalibrationProvenance? Provenance { get; init; }
 
+    /// <summary>
+    /// The equal-exposure view: accuracy along curves of fixed photons per Å (S/N per element ∝ √(R_ref/R)), see
+    /// <see cref="EqualExposureView"/>. Empty in documents written before it existed.
+    /// </summary>
+    public IReadOnlyList<EqualExposurePoint> EqualExposure { get; init; } = [];
+
     /// <summary>True when computed from a synthetic (demo) library.</summary>
     public bool Synthetic { get; init; }
 }
 
 /// <summary>
 /// Accuracy over all phases at one (R, S/N): the fraction of spectra whose subtype (and
-/// broad class) was predicted correctly, with Wilson 95% intervals, and the mean per-subtype recall.
+/// broad class) was predicted correctly, with object-level 95 % intervals, and the mean per-subtype recall.
 /// </summary>
 public sealed record AccuracySummary(
     double Resolution,
@@ -106,12 +122,16 @@ public sealed record CalibrationBaselines(
 /// <summary>
 /// The minimum-R data product for one subtype at one S/N (phases pooled).
 /// </summary>
-/// <param name="BestRecall">Highest recall over the R grid, at <paramref name="BestResolution"/>.</param>
-/// <param name="MinimumResolution">Lowest grid R whose recall is within the tolerance of the best, with no higher grid R significantly (Wilson 95 %) below that.</param>
+/// <param name="BestRecall">Best recall over the R grid corrected for choosing the maximum of many noisy points: the recall at the R
+/// chosen by one half of the objects, measured on the other half (cross-fitted, 100 splits); the raw maximum is
+/// <see cref="MinimumResolutionRow.BestRecallObserved"/>.</param>
+/// <param name="BestResolution">Grid R of the highest observed recall.</param>
+/// <param name="MinimumResolution">Lowest grid R whose recall is within the tolerance of the (corrected) best, with no higher grid R
+/// significantly (paired object-level bootstrap, 95 %) beyond the tolerance.</param>
 /// <param name="MinimumResolutionBracketLow">The next lower grid R (the true threshold lies between; null at the grid's bottom).</param>
-/// <param name="RecallAtMinimum">Recall at <paramref name="MinimumResolution"/>, with its Wilson interval.</param>
+/// <param name="RecallAtMinimum">Recall at <paramref name="MinimumResolution"/>, with its object-level interval.</param>
 /// <param name="ChanceRecall">Recall of a uniform guess, 1/K.</param>
-/// <param name="DistinguishableFromResolution">Lowest grid R from which the recall's Wilson lower bound exceeds chance at every higher R; null if never.</param>
+/// <param name="DistinguishableFromResolution">Lowest grid R from which the recall's object-level lower bound exceeds chance at every higher R; null if never.</param>
 /// <param name="ChanceBelowResolution">The grid R just below it, where recall is not distinguishable from chance (null: distinguishable over the whole grid).</param>
 public sealed record MinimumResolutionRow(
     string Subtype,
@@ -128,7 +148,11 @@ public sealed record MinimumResolutionRow(
     double? DistinguishableFromResolution,
     double? ChanceBelowResolution,
     double? RecallAtChanceBelow,
-    double? RecallAtChanceBelowHigh);
+    double? RecallAtChanceBelowHigh)
+{
+    /// <summary>The raw maximum of the recall over the grid (biased upward; kept for comparison). Null in older documents.</summary>
+    public double? BestRecallObserved { get; init; }
+}
 
 /// <summary>Provenance of a calibration: what library, which settings, which code.</summary>
 public sealed record CalibrationProvenance(

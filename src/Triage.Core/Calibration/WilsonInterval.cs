@@ -26,13 +26,26 @@ public static class WilsonInterval
         if (trials < 0 || successes < 0 || successes > trials)
             throw new ArgumentOutOfRangeException(nameof(successes), $"Need 0 ≤ k ≤ n (k = {successes}, n = {trials}).");
         if (trials == 0) return new ProportionInterval(double.NaN, 0, 1);
-        double n = trials, p = successes / n, z2 = z * z;
+        double p = successes / (double)trials;
+        var (low, high) = Bounds(p, trials, z);
+        // At k = 0 or k = n the bound is exactly 0 or 1; rounding must not leave p̂ outside its interval.
+        return new ProportionInterval(p, successes == 0 ? 0 : low, successes == trials ? 1 : high);
+    }
+
+    /// <summary>
+    /// Wilson bounds of a proportion <paramref name="p"/> observed on <paramref name="n"/> trials, where n may be an
+    /// effective (non-integer) sample size and <paramref name="z"/> any two-sided quantile (e.g. Student's t).
+    /// </summary>
+    /// <param name="p">Observed proportion, 0…1.</param>
+    /// <param name="n">Sample size, &gt; 0.</param>
+    /// <param name="z">Quantile, &gt; 0.</param>
+    /// <returns>Bounds clamped to [0, 1], and never excluding <paramref name="p"/>.</returns>
+    public static (double Low, double High) Bounds(double p, double n, double z)
+    {
+        double z2 = z * z;
         double den = 1 + z2 / n;
         double centre = (p + z2 / (2 * n)) / den;
         double half = z / den * Math.Sqrt(p * (1 - p) / n + z2 / (4 * n * n));
-        // At k = 0 or k = n the bound is exactly 0 or 1; rounding must not leave p̂ outside its interval.
-        double low = successes == 0 ? 0 : Math.Max(0, centre - half);
-        double high = successes == trials ? 1 : Math.Min(1, centre + half);
-        return new ProportionInterval(p, low, high);
+        return (Math.Clamp(Math.Min(p, centre - half), 0, 1), Math.Clamp(Math.Max(p, centre + half), 0, 1));
     }
 }

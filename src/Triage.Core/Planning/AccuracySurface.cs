@@ -1,21 +1,31 @@
 // Value of one spectrum of a candidate on a spectrograph of resolving power R reaching S/N n
 // (per resolution element) while the candidate's phase is believed to be N(μ, σ²) days:
 //   w_b      = Φ((b.to − μ)/σ) − Φ((b.from − μ)/σ)             phase-bin weights [2], tails to the end bins
-//   r̂ₛ(R,n,b) = bilinear in (ln R, ln n) between grid points   recall per subtype
-//   A        = Σₛ p(s) Σ_b w_b r̂ₛ(R, n, b)                    expected accuracy
-//   C(j|s)   = Σ_b w_b Ĉ_b(j|s), Ĉ interpolated like r̂         channel averaged over the phase belief
+//   C̃_b(j|s) = shrunk confusion row at grid points, bilinear in (ln R, ln n) between them
+//   A        = Σₛ p(s) Σ_b w_b C̃_b(s|s)                       expected accuracy (recall = channel diagonal)
+//   C(j|s)   = Σ_b w_b C̃_b(j|s)                               channel averaged over the phase belief
 //   I        = I(S;J) from p and C                              information gain in bits [1]
-// Noiseless calibration cells sit on the S/N axis at a documented finite S/N. Rare classes:
-// recall is shrunk towards the mean recall of the cell's subtypes with a pseudo-count [3]
-// (or the Wilson lower bound [4] is used) so a class seen in few spectra is not over-trusted.
+// Only calibration cells at a numeric S/N are used: a noiseless ("native") cell has no single S/N
+// (its realised S/N grows as √(R₀/R)), so it cannot sit on the S/N axis.
+// Shrinkage (empirical Bayes, beta-binomial [3, 4]): within a broad class c, the recalls r_s of its
+// subtypes at one grid point g, each measured on n_s effective spectra (n/deff of the cell, the
+// object-level sample size), are modelled as r_s ~ Beta(M μ_c, M(1 − μ_c)) around the class mean
+// μ_c = Σ n_s r_s / Σ n_s. The intra-class correlation ρ = 1/(M + 1) is estimated by the method of
+// moments [4, eq. 2.3] pooled over every grid point g of the class:
+//   S_g = Σ_s n_s (r_s − μ)²,  E[S_g] = μ(1 − μ)[(K_g − 1)(1 − ρ) + ρ(N_g − Σ n_s²/N_g)]
+//   ρ̂  = Σ_g [S_g/(μ(1 − μ)) − (K_g − 1)] / Σ_g [N_g − Σ n_s²/N_g − (K_g − 1)],  M̂ = 1/ρ̂ − 1
+// (ρ̂ ≤ 0, no spread beyond sampling noise, is floored at 1/(1 + MaxConcentration)). The posterior mean
+// recall is (n_s r_s + M̂ μ)/(n_s + M̂) [3]; the whole confusion row is shrunk the same way towards
+// the class row T_s (diagonal μ, errors spread like the class's pooled errors), so its diagonal IS
+// the shrunk recall and expected accuracy and information gain use the same numbers.
 //
 // References
 // [1] T. M. Cover, J. A. Thomas, Elements of Information Theory, 2nd ed., Wiley 2006, eq. 2.28.
 // [2] M. Abramowitz, I. A. Stegun, Handbook of Mathematical Functions, 1964, eq. 26.2.2 (normal CDF).
 // [3] B. Efron, C. Morris, "Data analysis using Stein's estimator and its generalizations",
 //     JASA 70 (1975) 311 (shrinkage towards the group mean).
-// [4] E. B. Wilson, "Probable inference, the law of succession, and statistical inference",
-//     JASA 22 (1927) 209.
+// [4] D. G. Kleinman, "Proportions with extraneous variance: single and independent samples",
+//     JASA 68 (1973) 46 (beta-binomial moment estimators with weights n_s).
 using Triage.Core.Calibration;
 
 namespace Triage.Core.Planning;
@@ -23,15 +33,12 @@ namespace Triage.Core.Planning;
 /// <summary>Which recall estimate of a calibration cell the planner trusts.</summary>
 public enum RecallEstimate
 {
-    /// <summary>The measured recall as it is.</summary>
+    /// <summary>The measured recall and confusion rows as they are.</summary>
     Point,
 
-    /// <summary>The lower end of the Wilson 95% interval: pessimistic, most for rare classes.</summary>
-    WilsonLower,
-
     /// <summary>
-    /// (n·r + k·r̄)/(n + k): shrunk towards the mean recall r̄ of all subtypes in the same
-    /// cell with a pseudo-count k (<see cref="AccuracySurfaceOptions.ShrinkagePseudoSpectra"/>).
+    /// Recall and confusion rows shrunk towards the subtype's broad class by empirical Bayes
+    /// (strength estimated from the calibration, see <see cref="AccuracySurface.Shrinkage"/>).
     /// </summary>
     Shrunk,
 }
@@ -40,22 +47,27 @@ public enum RecallEstimate
 public sealed record AccuracySurfaceOptions
 {
     /// <summary>
-    /// S/N per resolution element at which noiseless (native) calibration cells are placed on
-    /// the S/N axis. Default 100: a spectrum this good is in practice as informative as the
-    /// library itself. Must exceed every finite S/N level of the calibration.
-    /// </summary>
-    public double NoiselessSnrEquivalent { get; init; } = 100;
-
-    /// <summary>
-    /// Recall estimate used. Default <see cref="RecallEstimate.Shrunk"/>: the Wilson lower bound
-    /// penalises exactly the rare classes that are often the most wanted, while shrinkage
-    /// only removes the over-confidence of a small sample.
+    /// Recall estimate used. Default <see cref="RecallEstimate.Shrunk"/>: a class seen in few objects is
+    /// pulled towards its broad class by as much as the calibration's own spread says.
     /// </summary>
     public RecallEstimate Recall { get; init; } = RecallEstimate.Shrunk;
 
-    /// <summary>Pseudo-count k of <see cref="RecallEstimate.Shrunk"/>, in spectra. Default 10.</summary>
-    public double ShrinkagePseudoSpectra { get; init; } = 10;
+    /// <summary>
+    /// Prior concentration M (in effective spectra) to use instead of the estimated one; null (default): estimated
+    /// per broad class from the calibration.
+    /// </summary>
+    public double? ShrinkageConcentration { get; init; }
+
+    /// <summary>Upper limit of the estimated concentration M (reached when subtypes spread no more than sampling noise). Default 1000.</summary>
+    public double MaxConcentration { get; init; } = 1000;
 }
+
+/// <summary>The estimated shrinkage of one broad class.</summary>
+/// <param name="BroadClass">Broad class name.</param>
+/// <param name="IntraClassCorrelation">ρ̂ = 1/(M + 1), NaN when the class had no grid point with two measured subtypes.</param>
+/// <param name="Concentration">M, prior strength in effective spectra (0: no shrinkage).</param>
+/// <param name="GridPoints">Grid points (R, S/N, phase bin) that entered the estimate.</param>
+public sealed record ShrinkageStrength(string BroadClass, double IntraClassCorrelation, double Concentration, int GridPoints);
 
 /// <summary>A belief about a candidate's phase: rest-frame days from peak, Gaussian.</summary>
 /// <param name="MeanDays">Most likely phase, days (negative before peak).</param>
@@ -77,7 +89,7 @@ public readonly record struct ObservationValue(double ExpectedAccuracy, double I
 /// is set (never a silent extrapolation). Missing cells are filled from the same subtype's other
 /// phase bins, else from the chance rate 1/K; each fill is listed in <see cref="Notes"/>. Without
 /// a confusion matrix for a grid point the channel is built from the recalls with errors spread
-/// evenly over the other subtypes.
+/// evenly over the other subtypes. Cells without a numeric S/N (native) are not used.
 /// </remarks>
 public sealed class AccuracySurface
 {
@@ -85,9 +97,6 @@ public sealed class AccuracySurface
     private readonly double[] _logSnr;
     private readonly PhaseBin[] _bins;
     private readonly int _k;
-
-    // recall[((r * nS + s) * nP + p) * K + subtype]
-    private readonly double[] _recall;
 
     // channel[((r * nS + s) * nP + p) * K * K + i * K + j]
     private readonly double[] _channel;
@@ -99,10 +108,10 @@ public sealed class AccuracySurface
     /// <summary>Resolving powers of the grid, ascending.</summary>
     public IReadOnlyList<double> Resolutions { get; }
 
-    /// <summary>S/N axis, ascending; noiseless cells at <see cref="AccuracySurfaceOptions.NoiselessSnrEquivalent"/>.</summary>
+    /// <summary>S/N axis, ascending: the numeric S/N levels of the calibration.</summary>
     public IReadOnlyList<double> SnrAxis { get; }
 
-    /// <summary>Finite S/N levels of the calibration, ascending: the exposure levels worth planning.</summary>
+    /// <summary>The numeric S/N levels of the calibration, ascending: the exposure levels worth planning (same as <see cref="SnrAxis"/>).</summary>
     public IReadOnlyList<double> FiniteSnrLevels { get; }
 
     /// <summary>The options in force.</summary>
@@ -111,35 +120,39 @@ public sealed class AccuracySurface
     /// <summary>How gaps in the calibration were filled (empty for a complete grid).</summary>
     public IReadOnlyList<string> Notes { get; }
 
+    /// <summary>The shrinkage applied per broad class (empty for <see cref="RecallEstimate.Point"/>).</summary>
+    public IReadOnlyList<ShrinkageStrength> Shrinkage { get; }
+
     private AccuracySurface(
-        string[] subtypes, double[] resolutions, double[] snrAxis, double[] finite, PhaseBin[] bins,
-        double[] recall, double[] channel, AccuracySurfaceOptions options, List<string> notes)
+        string[] subtypes, double[] resolutions, double[] snrAxis, PhaseBin[] bins,
+        double[] channel, AccuracySurfaceOptions options, List<string> notes, IReadOnlyList<ShrinkageStrength> shrinkage)
     {
         Subtypes = subtypes;
         _k = subtypes.Length;
         _subtypeIndex = subtypes.Select((s, i) => (s, i)).ToDictionary(t => t.s, t => t.i, StringComparer.Ordinal);
         Resolutions = resolutions;
         SnrAxis = snrAxis;
-        FiniteSnrLevels = finite;
+        FiniteSnrLevels = snrAxis;
         _logR = resolutions.Select(x => Math.Log(x)).ToArray();
         _logSnr = snrAxis.Select(x => Math.Log(x)).ToArray();
         _bins = bins;
-        _recall = recall;
         _channel = channel;
         Options = options;
         Notes = notes;
+        Shrinkage = shrinkage;
     }
 
     /// <summary>Builds the surface from a calibration document.</summary>
-    /// <exception cref="ArgumentException">The document has no subtypes, resolutions, S/N levels
-    /// or phase bins, a non-positive R or S/N, or a noiseless equivalent not above every finite level.</exception>
+    /// <exception cref="ArgumentException">The document has no subtypes, resolutions, numeric S/N levels
+    /// or phase bins, or a non-positive R or S/N.</exception>
     public static AccuracySurface FromDocument(AccuracyModelDocument document, AccuracySurfaceOptions? options = null)
     {
         ArgumentNullException.ThrowIfNull(document);
         options ??= new AccuracySurfaceOptions();
-        if (document.Subtypes.Count == 0 || document.Resolutions.Count == 0 || document.SnrLevels.Count == 0 || document.PhaseBins.Count == 0)
+        var finite = document.SnrLevels.Where(s => s.HasValue).Select(s => s!.Value).Distinct().Order().ToArray();
+        if (document.Subtypes.Count == 0 || document.Resolutions.Count == 0 || finite.Length == 0 || document.PhaseBins.Count == 0)
         {
-            throw new ArgumentException("The calibration needs subtypes, resolutions, S/N levels and phase bins.", nameof(document));
+            throw new ArgumentException("The calibration needs subtypes, resolutions, numeric S/N levels and phase bins (native cells alone have no S/N to plan with).", nameof(document));
         }
 
         if (document.Resolutions.Any(r => !(r > 0)))
@@ -147,38 +160,27 @@ public sealed class AccuracySurface
             throw new ArgumentException("Every resolving power of the calibration must be positive.", nameof(document));
         }
 
-        var finite = document.SnrLevels.Where(s => s.HasValue).Select(s => s!.Value).Distinct().Order().ToArray();
         if (finite.Any(s => !(s > 0)))
         {
-            throw new ArgumentException("Every finite S/N level of the calibration must be positive.", nameof(document));
-        }
-
-        var hasNoiseless = document.SnrLevels.Any(s => !s.HasValue);
-        if (hasNoiseless && finite.Length > 0 && options.NoiselessSnrEquivalent <= finite[^1])
-        {
-            throw new ArgumentException(
-                $"NoiselessSnrEquivalent ({options.NoiselessSnrEquivalent}) must exceed the highest finite S/N level ({finite[^1]}).",
-                nameof(options));
+            throw new ArgumentException("Every numeric S/N level of the calibration must be positive.", nameof(document));
         }
 
         var subtypes = document.Subtypes.ToArray();
         var k = subtypes.Length;
         var sIndex = subtypes.Select((s, i) => (s, i)).ToDictionary(t => t.s, t => t.i, StringComparer.Ordinal);
         var resolutions = document.Resolutions.Distinct().Order().ToArray();
-        var snrAxis = hasNoiseless ? [.. finite, options.NoiselessSnrEquivalent] : finite;
+        var snrAxis = finite;
         var bins = document.PhaseBins.OrderBy(b => b.FromDays).ToArray();
         var binIndex = bins.Select((b, i) => (b.Name, i)).ToDictionary(t => t.Name, t => t.i, StringComparer.Ordinal);
         int nR = resolutions.Length, nS = snrAxis.Length, nP = bins.Length;
 
         int RIndex(double r) => Array.FindIndex(resolutions, x => Math.Abs(x - r) <= 1e-9 * Math.Max(1, x));
-        int SIndex(double? snr) => snr is null ? (hasNoiseless ? nS - 1 : -1) : Array.FindIndex(finite, x => Math.Abs(x - snr.Value) <= 1e-9 * Math.Max(1, x));
+        int SIndex(double? snr) => snr is null ? -1 : Array.FindIndex(finite, x => Math.Abs(x - snr.Value) <= 1e-9 * Math.Max(1, x));
 
         var recall = new double[nR * nS * nP * k];
         Array.Fill(recall, double.NaN);
+        var weight = new double[recall.Length];
         var notes = new List<string>();
-
-        // Pass 1: raw cells; the shrinkage target needs every subtype of a cell first.
-        var raw = new (double Recall, double Low, int N)?[recall.Length];
         foreach (var cell in document.Cells)
         {
             if (!sIndex.TryGetValue(cell.Subtype, out var si) || !binIndex.TryGetValue(cell.PhaseBin, out var pi))
@@ -192,29 +194,175 @@ public sealed class AccuracySurface
                 continue;
             }
 
-            raw[(((ri * nS) + ni) * nP + pi) * k + si] = (cell.Recall, cell.RecallLow, cell.Spectra);
-        }
-
-        for (var g = 0; g < nR * nS * nP; g++)
-        {
-            var present = Enumerable.Range(0, k).Where(s => raw[g * k + s] is not null).ToArray();
-            var mean = present.Length > 0 ? present.Average(s => raw[g * k + s]!.Value.Recall) : double.NaN;
-            foreach (var s in present)
-            {
-                var c = raw[g * k + s]!.Value;
-                recall[g * k + s] = options.Recall switch
-                {
-                    RecallEstimate.Point => c.Recall,
-                    RecallEstimate.WilsonLower => c.Low,
-                    _ => (c.N * c.Recall + options.ShrinkagePseudoSpectra * mean) / (c.N + options.ShrinkagePseudoSpectra),
-                };
-            }
+            var at = (((ri * nS) + ni) * nP + pi) * k + si;
+            recall[at] = cell.Recall;
+            weight[at] = cell.EffectiveSpectra ?? (cell.Objects > 0 ? cell.Objects : cell.Spectra);
         }
 
         FillGaps(recall, subtypes, resolutions, snrAxis, bins, notes);
-
         var channel = BuildChannels(document, recall, subtypes, sIndex, resolutions, snrAxis, bins, binIndex, RIndex, SIndex, notes);
-        return new AccuracySurface(subtypes, resolutions, snrAxis, finite, bins, recall, channel, options, notes);
+        var shrinkage = options.Recall == RecallEstimate.Shrunk
+            ? ShrinkTowardsBroadClass(channel, recall, weight, subtypes, document.BroadClasses, options, notes)
+            : [];
+
+        // The recall the planner uses is the channel's diagonal, so accuracy and information agree.
+        return new AccuracySurface(subtypes, resolutions, snrAxis, bins, channel, options, notes, shrinkage);
+    }
+
+    private static List<ShrinkageStrength> ShrinkTowardsBroadClass(double[] channel, double[] recall, double[] weight, string[] subtypes,
+        IReadOnlyList<Triage.Core.Spectra.BroadClass> broadClasses, AccuracySurfaceOptions options, List<string> notes)
+    {
+        int k = subtypes.Length, kk = k * k, points = recall.Length / k;
+        var groups = broadClasses
+            .Select(c => (c.Name, Members: c.Subtypes.Select(s => Array.IndexOf(subtypes, s)).Where(i => i >= 0).Distinct().ToArray()))
+            .Where(c => c.Members.Length > 0).ToList();
+        var unassigned = Enumerable.Range(0, k).Where(i => !groups.Any(c => c.Members.Contains(i))).ToArray();
+        if (unassigned.Length > 0)
+        {
+            groups.Add((groups.Count == 0 ? "all subtypes" : "other subtypes", unassigned));
+        }
+
+        var result = new List<ShrinkageStrength>();
+        var target = new double[k];
+        var shrunk = new double[k];
+        foreach (var (name, members) in groups)
+        {
+            // Method of moments pooled over the grid points.
+            double num = 0, den = 0;
+            var used = 0;
+            for (var g = 0; g < points; g++)
+            {
+                double n = 0, nr = 0, n2 = 0;
+                var present = 0;
+                foreach (var s in members)
+                {
+                    var w = weight[g * k + s];
+                    if (w > 0)
+                    {
+                        n += w;
+                        nr += w * recall[g * k + s];
+                        n2 += w * w;
+                        present++;
+                    }
+                }
+
+                if (present < 2)
+                {
+                    continue;
+                }
+
+                var mu = nr / n;
+                if (mu <= 0 || mu >= 1)
+                {
+                    continue;
+                }
+
+                var ss = members.Where(s => weight[g * k + s] > 0).Sum(s => weight[g * k + s] * Math.Pow(recall[g * k + s] - mu, 2));
+                num += ss / (mu * (1 - mu)) - (present - 1);
+                den += n - n2 / n - (present - 1);
+                used++;
+            }
+
+            double rho = den > 0 ? num / den : double.NaN;
+            double m = options.ShrinkageConcentration
+                ?? (double.IsNaN(rho) || rho >= 1 ? 0 : rho <= 1 / (1 + options.MaxConcentration) ? options.MaxConcentration : 1 / rho - 1);
+            result.Add(new ShrinkageStrength(name, rho, m, used));
+            if (m <= 0)
+            {
+                continue;
+            }
+
+            for (var g = 0; g < points; g++)
+            {
+                double n = 0, nr = 0;
+                foreach (var s in members)
+                {
+                    var w = weight[g * k + s];
+                    n += w;
+                    nr += w * channel[g * kk + s * k + s];
+                }
+
+                if (n <= 0)
+                {
+                    continue;
+                }
+
+                var mu = nr / n;
+
+                // The class's pooled errors (answers other than the true subtype), weighted like the mean.
+                var errors = new double[k];
+                foreach (var t in members)
+                {
+                    for (var j = 0; j < k; j++)
+                    {
+                        if (j != t)
+                        {
+                            errors[j] += weight[g * k + t] * channel[g * kk + t * k + j];
+                        }
+                    }
+                }
+
+                foreach (var s in members)
+                {
+                    var w = weight[g * k + s];
+                    if (w <= 0)
+                    {
+                        continue;
+                    }
+
+                    var row = channel.AsSpan(g * kk + s * k, k);
+                    ClassRow(errors, row, s, mu, target);
+                    for (var j = 0; j < k; j++)
+                    {
+                        shrunk[j] = (w * row[j] + m * target[j]) / (w + m);
+                    }
+
+                    shrunk.CopyTo(row);
+                }
+            }
+        }
+
+        notes.Add("Recall and confusion rows shrunk towards the broad class (empirical Bayes): " + string.Join("; ", result.Select(r =>
+            string.Create(System.Globalization.CultureInfo.InvariantCulture, $"{r.BroadClass} M = {r.Concentration:0.#} effective spectra"))) + ".");
+        return result;
+    }
+
+    // Target row of subtype s: μ on the diagonal, 1 − μ spread like the class's pooled errors other than s itself,
+    // else like s's own errors, else evenly.
+    private static void ClassRow(double[] classErrors, ReadOnlySpan<double> own, int s, double mu, double[] target)
+    {
+        var k = target.Length;
+        double Sum(Func<int, double> f)
+        {
+            double t = 0;
+            for (var j = 0; j < k; j++)
+            {
+                if (j != s)
+                {
+                    t += f(j);
+                }
+            }
+
+            return t;
+        }
+
+        var pooled = Sum(j => classErrors[j]);
+        var ownTotal = 0.0;
+        for (var j = 0; j < k; j++)
+        {
+            if (j != s)
+            {
+                ownTotal += own[j];
+            }
+        }
+
+        for (var j = 0; j < k; j++)
+        {
+            target[j] = j == s ? mu
+                : pooled > 0 ? (1 - mu) * classErrors[j] / pooled
+                : ownTotal > 0 ? (1 - mu) * own[j] / ownTotal
+                : k > 1 ? (1 - mu) / (k - 1) : 0;
+        }
     }
 
     private static void FillGaps(double[] recall, string[] subtypes, double[] resolutions, double[] snrAxis, PhaseBin[] bins, List<string> notes)
@@ -445,20 +593,35 @@ public sealed class AccuracySurface
         }
 
         var (lo, hi, t, clamped) = Bracket(_logR, Math.Log(resolvingPower));
-        int nS = _logSnr.Length, nP = _bins.Length, k = _k, kk = k * k;
-        var recall = new double[nS * nP * k];
+        int nS = _logSnr.Length, nP = _bins.Length, kk = _k * _k;
         var channel = new double[nS * nP * kk];
-        for (var i = 0; i < recall.Length; i++)
-        {
-            recall[i] = (1 - t) * _recall[lo * recall.Length + i] + t * _recall[hi * recall.Length + i];
-        }
-
         for (var i = 0; i < channel.Length; i++)
         {
             channel[i] = (1 - t) * _channel[lo * channel.Length + i] + t * _channel[hi * channel.Length + i];
         }
 
-        return new ResolutionSlice(this, resolvingPower, clamped, recall, channel, Resolutions[lo], Resolutions[hi]);
+        return new ResolutionSlice(this, resolvingPower, clamped, channel, Resolutions[lo], Resolutions[hi]);
+    }
+
+    /// <summary>
+    /// The (shrunk) confusion row of <paramref name="trueSubtype"/>: P(answer j | true subtype) for a spectrum at
+    /// <paramref name="resolvingPower"/> and <paramref name="snr"/> under the phase belief, aligned to <see cref="Subtypes"/>.
+    /// Its entry at the true subtype is the recall that <see cref="Evaluate"/> uses for expected accuracy.
+    /// </summary>
+    /// <param name="trueSubtype">A label of <see cref="Subtypes"/>.</param>
+    /// <param name="resolvingPower">R, &gt; 0 (clamped to the grid's edge outside it).</param>
+    /// <param name="snr">S/N per resolution element, &gt; 0 (clamped likewise).</param>
+    /// <param name="phase">Phase belief.</param>
+    /// <returns>K probabilities summing to 1.</returns>
+    /// <exception cref="ArgumentException">The subtype is not calibrated.</exception>
+    public double[] ConfusionRow(string trueSubtype, double resolvingPower, double snr, PhaseBelief phase)
+    {
+        if (!_subtypeIndex.TryGetValue(trueSubtype, out var s))
+        {
+            throw new ArgumentException($"Subtype '{trueSubtype}' is not in the calibration.", nameof(trueSubtype));
+        }
+
+        return AtResolution(resolvingPower).Channel(snr, phase).AsSpan(s * _k, _k).ToArray();
     }
 
     /// <summary>Expected accuracy and information of one spectrum (convenience over <see cref="AtResolution"/>).</summary>
@@ -503,20 +666,18 @@ public sealed class AccuracySurface
 public sealed class ResolutionSlice
 {
     private readonly AccuracySurface _surface;
-    private readonly double[] _recall;
     private readonly double[] _channel;
 
     private readonly double _gridRLow;
     private readonly double _gridRHigh;
 
-    internal ResolutionSlice(AccuracySurface surface, double resolvingPower, bool clamped, double[] recall, double[] channel, double gridRLow, double gridRHigh)
+    internal ResolutionSlice(AccuracySurface surface, double resolvingPower, bool clamped, double[] channel, double gridRLow, double gridRHigh)
     {
         _surface = surface;
         _gridRLow = gridRLow;
         _gridRHigh = gridRHigh;
         ResolvingPower = resolvingPower;
         ResolutionClamped = clamped;
-        _recall = recall;
         _channel = channel;
     }
 
@@ -541,47 +702,15 @@ public sealed class ResolutionSlice
             throw new ArgumentException($"The prior must have {k} entries.", nameof(alignedPrior));
         }
 
-        if (!(snr > 0))
-        {
-            throw new ArgumentOutOfRangeException(nameof(snr), snr, "S/N must be positive.");
-        }
-
-        if (!(phase.SigmaDays >= 0) || double.IsInfinity(phase.SigmaDays) || !double.IsFinite(phase.MeanDays))
-        {
-            throw new ArgumentOutOfRangeException(nameof(phase), phase, "Phase mean must be finite and sigma finite and ≥ 0.");
-        }
-
-        var bins = _surface.Bins;
-        int nP = bins.Length, kk = k * k;
-        Span<double> w = stackalloc double[nP];
-        var phaseClamped = PhaseWeights(bins, phase, w);
-        var (lo, hi, t, snrClamped) = AccuracySurface.Bracket(_surface.LogSnr, Math.Log(snr));
-
-        var mass = 0.0;
-        foreach (var p in alignedPrior)
-        {
-            mass += p;
-        }
-
-        var accuracy = 0.0;
+        var kk = k * k;
         Span<double> chan = kk <= 1024 ? stackalloc double[kk] : new double[kk];
-        chan.Clear();
-        for (var b = 0; b < nP; b++)
+        var clamped = Mix(snr, phase, chan);
+        var mass = 0.0;
+        var accuracy = 0.0;
+        for (var s = 0; s < k; s++)
         {
-            if (w[b] == 0)
-            {
-                continue;
-            }
-
-            double wl = w[b] * (1 - t), wh = w[b] * t;
-            var rl = (lo * nP + b) * k;
-            var rh = (hi * nP + b) * k;
-            for (var s = 0; s < k; s++)
-            {
-                accuracy += alignedPrior[s] * (wl * _recall[rl + s] + wh * _recall[rh + s]);
-            }
-
-            AddChannel(chan, lo, hi, b, wl, wh);
+            mass += alignedPrior[s];
+            accuracy += alignedPrior[s] * chan[s * k + s];
         }
 
         double info = 0;
@@ -597,52 +726,39 @@ public sealed class ResolutionSlice
             info = mass * InformationTheory.MutualInformationBits(normalised, chan);
         }
 
-        return new ObservationValue(Math.Clamp(accuracy, 0, 1), info, ResolutionClamped || snrClamped || phaseClamped);
-    }
-
-    private void AddChannel(Span<double> chan, int lo, int hi, int bin, double wl, double wh)
-    {
-        int nP = _surface.Bins.Length, kk = chan.Length;
-        var cl = (lo * nP + bin) * kk;
-        var ch = (hi * nP + bin) * kk;
-        for (var i = 0; i < kk; i++)
-        {
-            chan[i] += wl * _channel[cl + i] + wh * _channel[ch + i];
-        }
+        return new ObservationValue(Math.Clamp(accuracy, 0, 1), info, clamped);
     }
 
     /// <summary>
-    /// The confusion channel C(j|s) a spectrum at S/N <paramref name="snr"/> and phase belief
-    /// <paramref name="phase"/> goes through: interpolated in ln R and ln S/N and averaged over the
-    /// phase bins exactly as <see cref="Evaluate"/> does (same shrinkage, same gap filling).
+    /// The channel C(j|s) (row-major K×K, row = true subtype, aligned to <see cref="AccuracySurface.Subtypes"/>) at
+    /// <paramref name="snr"/> under the phase belief: the shrunk confusion rows, interpolated and phase-weighted as in
+    /// <see cref="Evaluate"/>; its diagonal holds the recalls behind the expected accuracy.
+    /// </summary>
+    /// <exception cref="ArgumentOutOfRangeException">S/N is not positive, or the phase sigma is negative or not finite.</exception>
+    public double[] Channel(double snr, PhaseBelief phase)
+    {
+        var k = _surface.SubtypeCount;
+        var chan = new double[k * k];
+        Mix(snr, phase, chan);
+        return chan;
+    }
+
+    /// <summary>
+    /// The same channel as <see cref="Channel(double, PhaseBelief)"/> written into <paramref name="channel"/>,
+    /// with a description of the calibration cells it came from (for the history of a report).
     /// </summary>
     /// <param name="snr">S/N per resolution element, &gt; 0.</param>
     /// <param name="phase">Phase belief, rest-frame days from peak.</param>
-    /// <param name="channel">Receives K·K values, row-major: row s = answers given true subtype s (order of <see cref="AccuracySurface.Subtypes"/>).</param>
+    /// <param name="channel">Receives K·K values, row-major: row s = answers given true subtype s.</param>
     /// <returns>Which grid cells were used, with their weights.</returns>
     /// <exception cref="ArgumentException"><paramref name="channel"/> does not hold K·K values.</exception>
-    /// <exception cref="ArgumentOutOfRangeException">S/N is not positive or the phase is not finite.</exception>
+    /// <exception cref="ArgumentOutOfRangeException">S/N is not positive, or the phase is not finite.</exception>
     public ChannelCell Channel(double snr, PhaseBelief phase, Span<double> channel)
     {
-        var k = _surface.SubtypeCount;
-        if (channel.Length != k * k)
-        {
-            throw new ArgumentException($"The channel must hold {k}×{k} values.", nameof(channel));
-        }
-
-        if (!(snr > 0) || double.IsInfinity(snr))
-        {
-            throw new ArgumentOutOfRangeException(nameof(snr), snr, "S/N must be positive and finite.");
-        }
-
-        if (!(phase.SigmaDays >= 0) || double.IsInfinity(phase.SigmaDays) || !double.IsFinite(phase.MeanDays))
-        {
-            throw new ArgumentOutOfRangeException(nameof(phase), phase, "Phase mean must be finite and sigma finite and ≥ 0.");
-        }
-
+        var clamped = FillChannel(snr, phase, channel);
         var bins = _surface.Bins;
         Span<double> w = stackalloc double[bins.Length];
-        var (lo, hi, clamped) = FillChannel(snr, phase, channel, w);
+        PhaseWeights(bins, phase, w);
         var weights = new List<PhaseBinWeight>();
         for (var b = 0; b < bins.Length; b++)
         {
@@ -652,15 +768,14 @@ public sealed class ResolutionSlice
             }
         }
 
+        var (lo, hi, _, _) = AccuracySurface.Bracket(_surface.LogSnr, Math.Log(snr));
         var axis = _surface.SnrAxis;
         return new ChannelCell(ResolvingPower, _gridRLow, _gridRHigh, snr, axis[lo], axis[hi], weights, clamped);
     }
 
-    /// <summary>
-    /// The same channel as <see cref="Channel"/> without describing the cells (no allocation), for
-    /// valuing many options. Arguments are not checked beyond the channel's length.
-    /// </summary>
+    /// <summary>The channel written into <paramref name="channel"/> (K·K) without allocating, for valuing many options.</summary>
     /// <returns>True when R, S/N or phase were clamped to the grid's edge.</returns>
+    /// <exception cref="ArgumentException"><paramref name="channel"/> does not hold K·K values.</exception>
     public bool FillChannel(double snr, PhaseBelief phase, Span<double> channel)
     {
         if (channel.Length != _surface.SubtypeCount * _surface.SubtypeCount)
@@ -668,25 +783,45 @@ public sealed class ResolutionSlice
             throw new ArgumentException("The channel must hold K×K values.", nameof(channel));
         }
 
-        Span<double> w = stackalloc double[_surface.Bins.Length];
-        return FillChannel(snr, phase, channel, w).Clamped;
+        return Mix(snr, phase, channel);
     }
 
-    private (int Lo, int Hi, bool Clamped) FillChannel(double snr, PhaseBelief phase, Span<double> channel, Span<double> w)
+    // Phase-weighted, S/N-interpolated channel; returns whether anything was clamped.
+    private bool Mix(double snr, PhaseBelief phase, Span<double> chan)
     {
+        if (!(snr > 0))
+        {
+            throw new ArgumentOutOfRangeException(nameof(snr), snr, "S/N must be positive.");
+        }
+
+        if (!(phase.SigmaDays >= 0) || double.IsInfinity(phase.SigmaDays) || !double.IsFinite(phase.MeanDays))
+        {
+            throw new ArgumentOutOfRangeException(nameof(phase), phase, "Phase mean must be finite and sigma finite and ≥ 0.");
+        }
+
         var bins = _surface.Bins;
+        int nP = bins.Length, kk = _surface.SubtypeCount * _surface.SubtypeCount;
+        Span<double> w = stackalloc double[nP];
         var phaseClamped = PhaseWeights(bins, phase, w);
         var (lo, hi, t, snrClamped) = AccuracySurface.Bracket(_surface.LogSnr, Math.Log(snr));
-        channel.Clear();
-        for (var b = 0; b < bins.Length; b++)
+        chan.Clear();
+        for (var b = 0; b < nP; b++)
         {
-            if (w[b] != 0)
+            if (w[b] == 0)
             {
-                AddChannel(channel, lo, hi, b, w[b] * (1 - t), w[b] * t);
+                continue;
+            }
+
+            double wl = w[b] * (1 - t), wh = w[b] * t;
+            var cl = (lo * nP + b) * kk;
+            var ch = (hi * nP + b) * kk;
+            for (var i = 0; i < kk; i++)
+            {
+                chan[i] += wl * _channel[cl + i] + wh * _channel[ch + i];
             }
         }
 
-        return (lo, hi, ResolutionClamped || snrClamped || phaseClamped);
+        return ResolutionClamped || snrClamped || phaseClamped;
     }
 
     /// <summary>
@@ -743,7 +878,7 @@ public readonly record struct PhaseBinWeight(string Bin, double Weight);
 /// <param name="GridResolutionLow">Grid R at or below the request (the edge when clamped).</param>
 /// <param name="GridResolutionHigh">Grid R at or above the request.</param>
 /// <param name="Snr">Requested S/N per resolution element.</param>
-/// <param name="GridSnrLow">Grid S/N at or below the request (noiseless cells at their documented equivalent).</param>
+/// <param name="GridSnrLow">Grid S/N at or below the request.</param>
 /// <param name="GridSnrHigh">Grid S/N at or above the request.</param>
 /// <param name="PhaseBins">Phase bins used, with weights summing to 1.</param>
 /// <param name="Clamped">True when R, S/N or phase lay outside the grid and its edge was used.</param>

@@ -45,6 +45,9 @@ public sealed class CalibrationApiTests(IsolatedDatabaseFactory api) : IClassFix
         var text = await svg.Content.ReadAsStringAsync();
         Assert.Contains("<svg", text, StringComparison.Ordinal);
         Assert.Contains("Ic", text, StringComparison.Ordinal);
+        var equal = await reader.GetAsync($"/api/calibrations/{id}/plots/equal-exposure.svg");
+        Assert.Equal("image/svg+xml", equal.Content.Headers.ContentType?.MediaType);
+        Assert.Contains("Equal exposure", await equal.Content.ReadAsStringAsync(), StringComparison.Ordinal);
         await Bodies.AssertProblemNamingAsync(await reader.GetAsync($"/api/calibrations/{id}/plots/confusion.svg?resolution=100&snr=10"), 404, "resolution");
         await Bodies.AssertProblemNamingAsync(await reader.GetAsync($"/api/calibrations/{id}/plots/recall.svg?snr=7"), 400, "snr");
     }

@@ -33,7 +33,12 @@ public sealed class LabelledReportTests(IsolatedDatabaseFactory api) : IClassFix
             return new CalibrationCell(s, 100, 10, bin.Name, recall, recall, recall, recall, n, n);
         }).ToList();
         var matrix = new ConfusionMatrix(100, 10, bin.Name, Subtypes, Counts.Select(r => (IReadOnlyList<int>)r).ToList());
-        return CalibrationJson.Serialize(new AccuracyModelDocument("per resolution element", 6000, Subtypes, [100], [10], [bin], cells, [matrix]));
+        // Each subtype is a broad class of its own, so the surface's shrinkage towards the broad class
+        // leaves the rows as counted and the hand computation holds exactly.
+        return CalibrationJson.Serialize(new AccuracyModelDocument("per resolution element", 6000, Subtypes, [100], [10], [bin], cells, [matrix])
+        {
+            BroadClasses = [new("thermonuclear-normal", ["Ia"]), new("thermonuclear-bright", ["Ia-91T-like"]), new("hydrogen-rich", ["II"])],
+        });
     }
 
     private async Task<(HttpClient Observatory, HttpClient Reader, string Spectrograph, string Candidate)> ArrangeAsync()
@@ -115,6 +120,7 @@ public sealed class LabelledReportTests(IsolatedDatabaseFactory api) : IClassFix
     {
         { "Ia-ish", null, 10, 0, "classifiedLabel" },
         { "Ibn", null, 10, 0, "classifiedLabel" },                                             // taxonomy label the calibration cannot weigh
+        { "thermonuclear", null, 10, 0, "classifiedLabel" },                                   // not a broad class of this calibration
         { "Ia", new JsonObject { ["Ia"] = 0.5, ["II"] = 0.3 }, 10, 0, "classProbabilities" },   // sums to 0.8
         { "Ia", new JsonObject { ["Ia"] = 1.2, ["II"] = -0.2 }, 10, 0, "classProbabilities" },  // outside [0, 1]
         { "Ia", new JsonObject { ["Ia"] = 0.9, ["Ia-ish"] = 0.1 }, 10, 0, "classProbabilities" },

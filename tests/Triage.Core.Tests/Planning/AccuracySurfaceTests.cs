@@ -28,11 +28,25 @@ public class AccuracySurfaceTests
     }
 
     [Fact]
-    public void Evaluate_NoiselessCell_SitsAtTheDocumentedSnr()
+    public void Evaluate_AboveTheHighestNumericSnr_ClampsToIt_NativeCellsUnused()
     {
-        var value = Surface.Evaluate(OneHot(1), 100, Surface.Options.NoiselessSnrEquivalent, InBin(1));
+        // The fixture has native cells with a higher recall; a native column has no single S/N (it grows as
+        // √(R₀/R)), so the planner must not place it anywhere on the S/N axis.
+        var value = Surface.Evaluate(OneHot(1), 100, 100, InBin(1));
 
-        Assert.Equal(CalibrationFixtures.Recall(1, 100, null, 1), value.ExpectedAccuracy, 12);
+        Assert.Equal(CalibrationFixtures.Recall(1, 100, 20, 1), value.ExpectedAccuracy, 12);
+        Assert.True(value.Clamped);
+        Assert.Equal([5.0, 20.0], Surface.SnrAxis);
+    }
+
+    [Fact]
+    public void FromDocument_OnlyNativeCells_Throws()
+    {
+        var doc = CalibrationFixtures.Document();
+        var native = doc with { SnrLevels = [null], Cells = doc.Cells.Where(c => c.Snr is null).ToArray() };
+
+        var e = Assert.Throws<ArgumentException>(() => AccuracySurface.FromDocument(native));
+        Assert.Contains("numeric S/N", e.Message);
     }
 
     [Fact]
@@ -98,7 +112,7 @@ public class AccuracySurfaceTests
 
         Assert.True(value.Clamped);
         var edgeR = Math.Clamp(r, 10, 1000);
-        double? edgeSnr = snr < 5 ? 5 : snr > 100 ? null : snr;
+        double edgeSnr = Math.Clamp(snr, 5, 20);
         Assert.Equal(CalibrationFixtures.Recall(0, edgeR, edgeSnr, 1), value.ExpectedAccuracy, 12);
     }
 
@@ -123,29 +137,6 @@ public class AccuracySurfaceTests
                        + 0.682689 * CalibrationFixtures.Recall(1, 1000, 5, 1)
                        + 0.158655 * CalibrationFixtures.Recall(1, 1000, 5, 2);
         Assert.Equal(expected, value.ExpectedAccuracy, 5);
-    }
-
-    [Fact]
-    public void Shrunk_SmallSample_MovesTowardsTheCellMean()
-    {
-        var few = AccuracySurface.FromDocument(CalibrationFixtures.Document(spectraPerCell: 10),
-            new AccuracySurfaceOptions { Recall = RecallEstimate.Shrunk, ShrinkagePseudoSpectra = 10 });
-
-        var value = few.Evaluate(OneHot(0), 100, 20, InBin(1));
-
-        // (n·r + k·r̄)/(n + k) with n = k = 10: the midpoint of the recall and the cell's mean recall.
-        var mean = Enumerable.Range(0, 3).Average(s => CalibrationFixtures.Recall(s, 100, 20, 1));
-        Assert.Equal((CalibrationFixtures.Recall(0, 100, 20, 1) + mean) / 2, value.ExpectedAccuracy, 12);
-    }
-
-    [Fact]
-    public void WilsonLower_UsesTheIntervalsLowerEnd()
-    {
-        var pessimistic = AccuracySurface.FromDocument(CalibrationFixtures.Document(), new AccuracySurfaceOptions { Recall = RecallEstimate.WilsonLower });
-
-        var value = pessimistic.Evaluate(OneHot(2), 10, 5, InBin(0));
-
-        Assert.Equal(CalibrationFixtures.Recall(2, 10, 5, 0) - 0.1, value.ExpectedAccuracy, 12);
     }
 
     [Fact]
@@ -194,11 +185,6 @@ public class AccuracySurfaceTests
         var filled = surface.Evaluate(OneHot(2), 100, 20, InBin(0)).ExpectedAccuracy;
         Assert.Equal((CalibrationFixtures.Recall(2, 100, 20, 1) + CalibrationFixtures.Recall(2, 100, 20, 2)) / 2, filled, 12);
     }
-
-    [Fact]
-    public void FromDocument_NoiselessEquivalentNotAboveFiniteLevels_Throws()
-        => Assert.Throws<ArgumentException>(() => AccuracySurface.FromDocument(CalibrationFixtures.Document(),
-            new AccuracySurfaceOptions { NoiselessSnrEquivalent = 20 }));
 
     [Fact]
     public void FromDocument_EmptyGrid_Throws()

@@ -53,6 +53,19 @@ public class NightProblemBuilderTests
     }
 
     [Fact]
+    public void Build_ExposureLevels_AreTheCalibrationsNumericSnrLevelsOnly()
+    {
+        // The fixture also holds native (noiseless) cells; they have no single S/N, so no option may plan
+        // "S/N 100" (or any level the calibration did not measure) and no explanation can quote one.
+        var night = Build();
+
+        var levels = night.Problem.Options.SelectMany(o => o.Levels).Select(l => l.Snr).Distinct().Order().ToArray();
+
+        Assert.NotEmpty(levels);
+        Assert.All(levels, snr => Assert.Contains(snr, new[] { 5.0, 20.0 }));
+    }
+
+    [Fact]
     public void SafetyViolations_EntryInsideItsWindow_IsKept()
     {
         var night = Build();

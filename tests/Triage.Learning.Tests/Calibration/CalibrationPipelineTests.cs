@@ -104,7 +104,7 @@ public class CalibrationPipelineTests(SyntheticCalibrationFixture f)
         Assert.True(d.Synthetic);
         Assert.Equal(f.Library.Fingerprint(), d.Provenance!.LibraryFingerprint);
         Assert.Equal("linear", d.Provenance.Classifier);
-        // Pooled cells: support sums to the library, recall inside its Wilson interval.
+        // Pooled cells: support sums to the library, recall inside its object-level interval.
         foreach (double r in d.Resolutions)
         {
             var pooled = d.Cells.Where(c => c.Resolution == r && c.PhaseBin == CalibrationSettings.AllPhases).ToArray();
@@ -116,6 +116,40 @@ public class CalibrationPipelineTests(SyntheticCalibrationFixture f)
             Assert.Equal(d.Summaries.Single(s => s.Resolution == r).Accuracy, correct / (double)f.Library.Spectra.Count, 12);
         }
         Assert.Equal(d.Subtypes.Count, d.MinimumResolution.Count);
+    }
+
+    [Fact]
+    public void Run_Cells_IntervalsCountObjectsNotSpectra()
+    {
+        // Spectra of one object are correlated: every cell's effective size lies between its objects and its spectra,
+        // and the object-level interval is on average clearly wider than a binomial interval on the spectra.
+        var pooled = f.Native.Cells.Where(c => c.PhaseBin == CalibrationSettings.AllPhases && c.Recall is > 0 and < 1).ToArray();
+        Assert.NotEmpty(pooled);
+        var ratios = new List<double>();
+        foreach (var c in pooled)
+        {
+            Assert.NotNull(c.EffectiveSpectra);
+            Assert.InRange(c.EffectiveSpectra!.Value, c.Objects - 1e-9, c.Spectra + 1e-9);
+            Assert.Equal(c.Spectra / c.EffectiveSpectra.Value, c.DesignEffect!.Value, 9);
+            var bySpectra = WilsonInterval.Compute((int)Math.Round(c.Recall * c.Spectra), c.Spectra);
+            ratios.Add((c.RecallHigh - c.RecallLow) / (bySpectra.High - bySpectra.Low));
+        }
+        Assert.All(ratios, r => Assert.True(r >= 0.999, $"ratio {r}"));
+        Assert.True(ratios.Average() > 1.15, $"mean width ratio {ratios.Average():0.00}");
+    }
+
+    [Fact]
+    public void Run_FixedSnr_WritesTheEqualExposureView()
+    {
+        // One level (S/N 10) at R = 500 and 50: the same photons per Å give S/N 10·√10 ≈ 31.6 at R = 50, outside the
+        // measured levels, so that point carries no value; the reference point is the measured summary.
+        var view = f.FixedSnr10.EqualExposure;
+        Assert.Equal(2, view.Count);
+        var top = view.Single(p => p.Resolution == 500);
+        Assert.Equal(f.FixedSnr10.Summaries.Single(s => s.Resolution == 500).Accuracy, top.Accuracy!.Value, 12);
+        var low = view.Single(p => p.Resolution == 50);
+        Assert.Equal(10 * Math.Sqrt(10), low.Snr, 9);
+        Assert.Null(low.Accuracy);
     }
 
     [Fact]
