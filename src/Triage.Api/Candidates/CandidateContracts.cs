@@ -87,6 +87,9 @@ public sealed record SubtypePriorResponse(string Source, IReadOnlyDictionary<str
 /// <summary>Body of a state change by a scheduler: <c>to</c> is new, planned, abandoned or stale; <c>force</c> re-plans a classified candidate.</summary>
 public sealed record TransitionRequest(string? To, bool? Force, string? Reason);
 
+/// <summary>Body of a confirmed identification by a scheduler or admin: the subtype <c>label</c> and an optional reason.</summary>
+public sealed record IdentificationRequest(string? Label, string? Reason);
+
 /// <summary>Answer to a state change.</summary>
 public sealed record TransitionResponse(Guid Id, string From, string To);
 

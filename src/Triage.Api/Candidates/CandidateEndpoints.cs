@@ -44,6 +44,7 @@ public static class CandidateEndpoints
         group.MapGet("/", ListCandidates).RequireAuthorization(Policies.AnyKey).WithName("ListCandidates");
         group.MapGet("/{id:guid}", GetCandidate).RequireAuthorization(Policies.AnyKey).WithName("GetCandidate");
         group.MapPost("/{id:guid}/transitions", Transition).RequireAuthorization(Policies.Scheduler).WithBodyLimit(16 * 1024).WithName("TransitionCandidate");
+        group.MapPost("/{id:guid}/identification", ConfirmIdentification).RequireAuthorization(Policies.Scheduler).WithBodyLimit(16 * 1024).WithName("ConfirmIdentification");
         group.MapPost("/{id:guid}/observations", ReportObservation).RequireAuthorization(Policies.Observatory).WithBodyLimit(16 * 1024).WithName("ReportObservation");
         return app;
     }
@@ -233,6 +234,40 @@ public static class CandidateEndpoints
             return Problems.Conflict("to", $"A {CandidateLifecycle.Name(from)} candidate cannot become {CandidateLifecycle.Name(to)}.{hint}");
         }
         return TypedResults.Ok(new TransitionResponse(id, CandidateLifecycle.Name(from), CandidateLifecycle.Name(to)));
+    }
+
+    /// <summary>
+    /// A scheduler or admin confirms the subtype: the candidate becomes classified with the label
+    /// (its earlier labelled reports then count as trials of the units that made them).
+    /// </summary>
+    public static async Task<Results<Ok<TransitionResponse>, ValidationProblem, ProblemHttpResult>> ConfirmIdentification(
+        Guid id, IdentificationRequest request, CandidateStore store, IOptions<CandidateOptions> options, ClaimsPrincipal user,
+        TimeProvider clock, CancellationToken ct)
+    {
+        var checks = new FieldChecks();
+        if (request.Label is not { } label)
+        {
+            checks.Fail("label", "is required");
+        }
+        else if (!options.Value.SubtypeLabels.Contains(label, StringComparer.Ordinal))
+        {
+            checks.Fail("label", $"'{label}' is not a subtype of the active taxonomy");
+        }
+        if (request.Reason is { Length: > 500 })
+        {
+            checks.Fail("reason", "is longer than 500 characters");
+        }
+        if (!checks.IsValid)
+        {
+            return TypedResults.ValidationProblem(checks.ToDictionary());
+        }
+        var (previous, confirmed) = await store.ConfirmLabelAsync(id, request.Label!, Caller.From(user).PublicId, request.Reason, clock.GetUtcNow(), ct);
+        return previous switch
+        {
+            null => Problems.NotFound("id", $"No candidate {id}."),
+            _ when !confirmed => Problems.Conflict("id", $"The candidate is {CandidateLifecycle.Name(previous.Value)}; its label cannot be confirmed."),
+            _ => TypedResults.Ok(new TransitionResponse(id, CandidateLifecycle.Name(previous.Value), CandidateLifecycle.Name(CandidateState.Classified))),
+        };
     }
 
     public static async Task<Results<Ok<ObservationReportResponse>, ValidationProblem, ProblemHttpResult>> ReportObservation(

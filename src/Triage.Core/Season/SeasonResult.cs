@@ -17,7 +17,7 @@ public sealed record SettledHours(double From, double To, double Hours);
 /// <param name="HoursPerUnit">Hours (exposure plus overhead) per spectrograph name.</param>
 /// <param name="HighResolutionHours">Hours on units with R at or above the high-R threshold.</param>
 /// <param name="IdentificationsPerHighResolutionHour">Correct identifications per high-R hour.</param>
-/// <param name="MedianDaysToIdentification">Median days from discovery to a correct identification (NaN: none).</param>
+/// <param name="MedianDaysToIdentification">Median days from discovery (or the season's first evening, if later) to a correct identification (NaN: none).</param>
 /// <param name="RareSubtypeIdentifications">Correct identifications of subtypes with base rate below the rare threshold.</param>
 /// <param name="HighResolutionHoursOnAmbiguous">High-R hours on objects a low-R spectrum had left unsettled.</param>
 /// <param name="AmbiguousHighResolutionShare">That as a share of all high-R hours.</param>

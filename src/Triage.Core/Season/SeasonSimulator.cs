@@ -199,6 +199,7 @@ internal sealed class StrategyRun
     private int _lowLabelled;
     private int _lowUnsettled;
     private double _capacityShare = 0.5;
+    private readonly DateTimeOffset _seasonStart;
 
     internal StrategyRun(SeasonStrategy strategy, IReadOnlyList<Site> sites, IReadOnlyList<Spectrograph> spectrographs,
         AccuracySurface planner, AccuracySurface truth, SeasonSettings settings, IReadOnlyList<Transient> sky)
@@ -219,6 +220,7 @@ internal sealed class StrategyRun
         _reports = sky.Select(_ => new List<Report>()).ToArray();
         _sequential = strategy is SeasonStrategy.TriageWithEscalation or SeasonStrategy.TriageSequentialWithoutLookahead;
         _outcomes = _sequential && settings.LearnUnitAccuracy ? new UnitOutcomes(planner, settings.Outcomes) : null;
+        _seasonStart = SeasonSimulator.Evening(settings.FirstNight);
         _correctByNight = new int[settings.Nights];
         _wrongByNight = new int[settings.Nights];
         foreach (var sg in spectrographs)
@@ -425,7 +427,9 @@ internal sealed class StrategyRun
     {
         _status[i] = Status.Identified;
         _label[i] = label;
-        _identifiedDays[i] = (at - transient.DiscoveredUtc).TotalDays;
+        // Objects discovered before the season count from its first evening.
+        var entered = transient.DiscoveredUtc > _seasonStart ? transient.DiscoveredUtc : _seasonStart;
+        _identifiedDays[i] = (at - entered).TotalDays;
         if (label == transient.Subtype)
         {
             _correctByNight[night]++;

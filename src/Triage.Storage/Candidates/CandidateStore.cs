@@ -684,6 +684,32 @@ public sealed class CandidateStore(NpgsqlDataSource dataSource)
             detail,
         }, tx, cancellationToken: ct));
 
+    /// <summary>
+    /// A scheduler or admin confirms the subtype: the candidate becomes classified with
+    /// <paramref name="label"/> whatever its posterior (refused when abandoned).
+    /// </summary>
+    /// <returns>The state before, and whether it was changed (false: unknown candidate or abandoned).</returns>
+    public async Task<(CandidateState? Previous, bool Confirmed)> ConfirmLabelAsync(
+        Guid id, string label, string actor, string? reason, DateTimeOffset now, CancellationToken ct = default)
+    {
+        await using var conn = await dataSource.OpenConnectionAsync(ct);
+        await using var tx = await conn.BeginTransactionAsync(ct);
+        var current = await conn.QuerySingleOrDefaultAsync<string?>(new CommandDefinition(LockStateSql, new { id }, tx, cancellationToken: ct));
+        if (current is null || !CandidateLifecycle.TryParse(current, out var from))
+        {
+            return (null, false);
+        }
+        if (from == CandidateState.Abandoned)
+        {
+            return (from, false);
+        }
+        await conn.ExecuteAsync(new CommandDefinition(SetStateSql, new { id, to = CandidateLifecycle.Name(CandidateState.Classified), label, now = now.UtcDateTime }, tx, cancellationToken: ct));
+        await InsertEventAsync(conn, tx, id, now, "transition", current, CandidateState.Classified, actor,
+            $"label {label} confirmed" + (string.IsNullOrWhiteSpace(reason) ? "" : $": {reason}"), ct);
+        await tx.CommitAsync(ct);
+        return (from, true);
+    }
+
     private const string InsertReportSql = """
         INSERT INTO observation_reports (id, candidate_id, spectrograph_id, outcome, achieved_snr, classified_label, observed_at, reported_at, reporter,
             reported_probabilities, phase_days, resolving_power, confusion_cell, prior, posterior, calibration_id)

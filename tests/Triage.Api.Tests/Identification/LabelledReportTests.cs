@@ -116,6 +116,26 @@ public sealed class LabelledReportTests(IsolatedDatabaseFactory api) : IClassFix
         Assert.Equal(0.1 / 0.419, (double)answer["posterior"]!["II"]!, 9);
     }
 
+    [Fact]
+    public async Task Confirmation_BySchedulerClassifies_RefusedForObservatoryAndUnknownLabel()
+    {
+        var (observatory, reader, unit, id) = await ArrangeAsync();
+        await observatory.PostAsync($"/api/candidates/{id}/observations", Report(unit, "Ia"));
+        Body Confirm(string label) => new(Bodies.Json(new JsonObject { ["label"] = label, ["reason"] = "spectrum inspected" }));
+
+        Assert.Equal(HttpStatusCode.Forbidden, (await observatory.PostAsync($"/api/candidates/{id}/identification", Confirm("Ia").Content)).StatusCode);
+        await Bodies.AssertProblemNamingAsync(await reader.PostAsync($"/api/candidates/{id}/identification", Confirm("Ia-ish").Content), 400, "label");
+        var ok = await (await reader.PostAsync($"/api/candidates/{id}/identification", Confirm("Ia-91T-like").Content)).ReadObjectAsync();
+
+        Assert.Equal("unsettled", (string)ok["from"]!);
+        var detail = await (await reader.GetAsync($"/api/candidates/{id}")).ReadObjectAsync();
+        Assert.Equal("classified", (string)detail["candidate"]!["state"]!);
+        Assert.Equal("Ia-91T-like", (string)detail["candidate"]!["classifiedLabel"]!);
+        Assert.Contains("confirmed: spectrum inspected", (string)detail["history"]!.AsArray().Last()!["detail"]!, StringComparison.Ordinal);
+    }
+
+    private sealed record Body(StringContent Content);
+
     public static TheoryData<string, JsonObject?, double, double?, string> BadReports => new()
     {
         { "Ia-ish", null, 10, 0, "classifiedLabel" },
