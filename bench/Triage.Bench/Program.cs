@@ -7,6 +7,11 @@ if (args.Length > 0 && args[0] == "latency")
 {
     return await Triage.Bench.Harness.SinglePostLatency.RunAsync(args);
 }
+// `flood ...` posts a flood of candidates to a running service and measures one plan over them.
+if (args.Length > 0 && args[0] == "flood")
+{
+    return await Triage.Bench.Harness.FloodPlan.RunAsync(args);
+}
 // The build timeout is raised because the shared build machine can be slow to compile the generated project.
 var config = ManualConfig.Create(DefaultConfig.Instance);
 config.BuildTimeout = TimeSpan.FromMinutes(10);

@@ -22,6 +22,7 @@ builder.Services.AddJobs(builder.Configuration);
 builder.Services.AddPlans();
 builder.Services.AddCalibrations();
 builder.Services.AddSky();
+builder.Services.AddTriageCompression();
 
 var app = builder.Build();
 app.UseTriageProblems();
@@ -33,6 +34,7 @@ app.UseAuthentication();
 app.UseRateLimiter();
 app.UseAuthorization();
 app.UseMiddleware<BodySizeLimitMiddleware>();
+app.UseTriageCompression();
 
 app.MapOperations();
 app.MapKeys();

@@ -26,6 +26,8 @@ public static class PlanEndpoints
     {
         services.AddSingleton<PlanStore>();
         services.AddSingleton<IJobHandler, PlanJobHandler>();
+        services.AddOptions<PlannerOptions>().BindConfiguration("Triage:Planner")
+            .Validate(o => o.MaxPoolCandidates >= 1, "Triage:Planner:MaxPoolCandidates must be at least 1.");
         return services;
     }
 
@@ -37,6 +39,7 @@ public static class PlanEndpoints
         g.MapGet("/{night}/versions", ListVersions).RequireAuthorization(Policies.AnyKey).WithName("ListPlanVersions");
         g.MapGet("/{night}/queues/{spectrographId}", GetQueue).RequireAuthorization(Policies.AnyKey).WithName("GetQueue");
         g.MapGet("/{night}/diff", DiffVersions).RequireAuthorization(Policies.AnyKey).WithName("DiffPlanVersions");
+        g.MapPlanPages();
         return app;
     }
 
@@ -97,13 +100,13 @@ public static class PlanEndpoints
         {
             return Problems.BadQuery("format", "must be json or csv");
         }
-        var found = await store.GetAsync(date, version, ct);
+        // Only this queue travels from the database, not the whole plan document.
+        var found = await store.GetQueueAsync(date, version, spectrographId, ct);
         if (found is null)
         {
             return Problems.NotFound("night", $"No plan for the night of {night}.");
         }
-        var plan = PlanJson.Deserialize(found.Value.BodyJson);
-        var queue = plan.Spectrographs.FirstOrDefault(q => string.Equals(q.SpectrographId, spectrographId, StringComparison.OrdinalIgnoreCase));
+        var queue = found.Value.QueueJson is { } json ? JsonSerializer.Deserialize<SpectrographQueue>(json, PlanJson.Options) : null;
         if (queue is null)
         {
             return Problems.NotFound("spectrographId", $"Spectrograph {spectrographId} has no queue in this plan.");
@@ -145,7 +148,7 @@ public static class PlanEndpoints
     internal static readonly IReadOnlyDictionary<string, PlanObjective> Objectives =
         new Dictionary<string, PlanObjective> { ["accuracy"] = PlanObjective.Accuracy, ["information"] = PlanObjective.Information, ["identification"] = PlanObjective.Identification };
 
-    private static bool TryNight(string text, out DateOnly night, out ProblemHttpResult problem)
+    internal static bool TryNight(string text, out DateOnly night, out ProblemHttpResult problem)
     {
         problem = null!;
         if (DateOnly.TryParseExact(text, "yyyy-MM-dd", CultureInfo.InvariantCulture, DateTimeStyles.None, out night))

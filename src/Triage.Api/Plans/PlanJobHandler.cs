@@ -2,6 +2,7 @@ using System.Text.Json;
 using Triage.Api.Jobs;
 using Triage.Core.Candidates;
 using Triage.Core.Planning;
+using Triage.Core.Roster;
 using Triage.Learning;
 using Triage.Scheduling;
 using Triage.Storage.Calibrations;
@@ -23,6 +24,7 @@ public sealed class PlanJobHandler(
     CalibrationStore calibrations,
     PlanStore plans,
     TimeProvider clock,
+    Microsoft.Extensions.Options.IOptions<PlannerOptions> options,
     ILogger<PlanJobHandler> log) : IJobHandler
 {
     public string Kind => PlanEndpoints.PlanJobKind;
@@ -31,6 +33,8 @@ public sealed class PlanJobHandler(
     {
         var input = JsonSerializer.Deserialize<PlanJobInput>(inputJson, Triage.Api.Operations.OperationsSetup.JobJson)
             ?? throw new JobInputException("The job input is empty.");
+        var phases = new PhaseTimer(progress, clock);
+        progress = phases;
         progress.Report(new JobProgress(0.02, "reading the active calibration"));
         var active = await calibrations.GetAsync(null, ct)
             ?? throw new JobInputException("No calibration is active: request one (POST /api/calibrations) or import a table first.");
@@ -44,8 +48,10 @@ public sealed class PlanJobHandler(
         // Replanning keeps what is executing at the chosen instant.
         var from = input.FromUtc ?? DateTimeOffset.MinValue;
         var kept = new List<(string SpectrographId, QueueEntry Entry)>();
+        string? previousBody = null;
         if (input.FromUtc is not null && await plans.GetAsync(input.Night, null, ct) is { } previous)
         {
+            previousBody = previous.BodyJson;
             foreach (var q in PlanJson.Deserialize(previous.BodyJson).Spectrographs)
             {
                 kept.AddRange(q.Queue.Where(e => e.StartUtc <= from && from < e.EndUtc).Select(e => (q.SpectrographId, e)));
@@ -54,8 +60,15 @@ public sealed class PlanJobHandler(
         var keptIds = kept.Select(k => k.Entry.CandidateId).ToHashSet(StringComparer.Ordinal);
         var busy = kept.GroupBy(k => Guid.Parse(k.SpectrographId)).ToDictionary(g => g.Key, g => g.Max(k => k.Entry.EndUtc));
 
-        progress.Report(new JobProgress(0.08, "reading candidates"));
-        var waiting = await WaitingCandidatesAsync(keptIds, ct);
+        progress.Report(new JobProgress(0.08, "choosing the candidate pool"));
+        var latestVersion = input.FromUtc is not null ? null : await plans.GetAsync(input.Night, null, ct);
+        var mustKeep = PreviouslyAssigned(input.FromUtc is not null ? previousBody : latestVersion?.BodyJson, keptIds);
+        var pool = await PoolAsync(sites, spectrographs, surface, input, from, mustKeep, keptIds, ct);
+        progress.Report(new JobProgress(0.15, "reading the pool's photometry"));
+        // A candidate with labelled reports is valued from its posterior (what a sharper spectrum would add).
+        var waiting = (await candidates.WithPhotometryAsync(pool.Kept.Select(Guid.Parse).ToList(), ct, posteriorAsPrior: true))
+            .Select(w => w.Candidate with { Id = w.Id.ToString() })
+            .ToList();
         progress.Report(new JobProgress(0.25, $"fitting {waiting.Count} light curves"));
         var labels = document.Subtypes.Concat(DefaultSubtypeLabels.All).Distinct(StringComparer.Ordinal).ToArray();
         var targets = waiting.AsParallel().AsOrdered().WithCancellation(ct)
@@ -67,7 +80,7 @@ public sealed class PlanJobHandler(
             new NightBuildSettings { Objective = input.Objective, BusyUntilUtc = busy });
         progress.Report(new JobProgress(0.5, "solving"));
         var plan = NightPlanning.Plan(night, new SolverSettings { TimeLimitSeconds = input.TimeLimitSeconds }, ct)
-            with { Night = input.Night, GeneratedUtc = clock.GetUtcNow() };
+            with { Night = input.Night, GeneratedUtc = clock.GetUtcNow(), Pool = pool.Report };
         plan = KeepExecuting(plan, kept);
 
         progress.Report(new JobProgress(0.95, "storing the version"));
@@ -75,8 +88,8 @@ public sealed class PlanJobHandler(
             input.Night, input.FromUtc ?? clock.GetUtcNow(), input.Objective.ToString().ToLowerInvariant(), plan.Summary.Status.ToString().ToLowerInvariant(),
             plan.Summary.ExpectedCorrectIdentifications, plan.Summary.Assigned, null, active.Row.Id, PlanJson.Serialize(plan)), clock.GetUtcNow(), ct);
         await MarkPlannedAsync(plan, ct);
-        log.LogInformation("Planned {Assigned} of {Candidates} candidates for {Night} as version {Version}",
-            plan.Summary.Assigned, plan.Summary.Candidates, input.Night, row.Version);
+        log.LogInformation("Planned {Assigned} of {Candidates} candidates for {Night} as version {Version}; seconds per step: {Steps}",
+            plan.Summary.Assigned, plan.Summary.Candidates, input.Night, row.Version, phases.Summary());
         return JsonSerializer.Serialize(new
         {
             night = input.Night.ToString("yyyy-MM-dd", System.Globalization.CultureInfo.InvariantCulture),
@@ -88,18 +101,41 @@ public sealed class PlanJobHandler(
     }
 
     /// <summary>
-    /// Candidates in state new, planned or unsettled, with their photometry; the planner's id is the
-    /// service's candidate id. A candidate with labelled reports is valued from its posterior.
+    /// The bounded pool: a light row per waiting candidate (new, unsettled or planned; those executing at the
+    /// replanning instant are kept apart), ranked by an upper bound of value per hour; the latest
+    /// version's assignments always stay, so a replan can keep what it planned.
     /// </summary>
-    private async Task<List<Candidate>> WaitingCandidatesAsync(IReadOnlySet<string> exclude, CancellationToken ct)
+    private async Task<CandidatePoolSelection> PoolAsync(
+        IReadOnlyList<Site> sites, IReadOnlyList<Spectrograph> spectrographs, AccuracySurface surface, PlanJobInput input, DateTimeOffset from,
+        IReadOnlySet<string> mustKeep, IReadOnlySet<string> exclude, CancellationToken ct)
     {
-        // One bulk read of the whole waiting set (rows and photometry), not one query per candidate.
-        var waiting = await candidates.InStatesWithPhotometryAsync(
-            [CandidateState.New, CandidateState.Planned, CandidateState.Unsettled], ct, posteriorAsPrior: true);
-        return waiting
-            .Where(w => !exclude.Contains(w.Id.ToString()))
-            .Select(w => w.Candidate with { Id = w.Id.ToString() })
+        var rows = await candidates.PoolRowsAsync([CandidateState.New, CandidateState.Unsettled, CandidateState.Planned], ct);
+        var night = NightStartUtc(input.Night);
+        var pool = rows
+            .Where(r => !exclude.Contains(r.Id.ToString()))
+            .Select(r => new PoolCandidate(r.Id.ToString(), r.RaDeg, r.DecDeg, r.ScienceWeight, r.BrightestMagnitudeAB(night)))
             .ToList();
+        var waitingIds = pool.Select(p => p.Id).ToHashSet(StringComparer.Ordinal);
+        var selection = CandidatePool.Select(sites, spectrographs, surface, input.Night, from, pool,
+            mustKeep.Where(waitingIds.Contains).ToHashSet(StringComparer.Ordinal), input.Objective,
+            new NightBuildSettings { Objective = input.Objective },
+            new CandidatePoolSettings { MaxCandidates = options.Value.MaxPoolCandidates });
+        log.LogInformation("Candidate pool for {Night}: {Kept} of {Waiting} waiting candidates", input.Night, selection.Report.Kept, selection.Report.Waiting);
+        return selection;
+    }
+
+    /// <summary>Midnight UTC after the evening of the night: where the brightest magnitude is predicted.</summary>
+    private static DateTimeOffset NightStartUtc(DateOnly night) => new(night.AddDays(1).ToDateTime(TimeOnly.MinValue), TimeSpan.Zero);
+
+    /// <summary>Candidates in the queues of a plan body (except those kept as executing).</summary>
+    private static HashSet<string> PreviouslyAssigned(string? bodyJson, IReadOnlySet<string> exclude)
+    {
+        if (bodyJson is null)
+        {
+            return new HashSet<string>(StringComparer.Ordinal);
+        }
+        return PlanJson.Deserialize(bodyJson).Spectrographs.SelectMany(q => q.Queue).Select(e => e.CandidateId)
+            .Where(id => !exclude.Contains(id)).ToHashSet(StringComparer.Ordinal);
     }
 
     private static NightPlan KeepExecuting(NightPlan plan, List<(string SpectrographId, QueueEntry Entry)> kept)
@@ -128,6 +164,41 @@ public sealed class PlanJobHandler(
             {
                 await candidates.TransitionAsync(guid, CandidateState.Planned, CandidateLifecycle.Waiting.Contains, "planner", "in a plan version", clock.GetUtcNow(), ct);
             }
+        }
+    }
+}
+
+/// <summary>Settings of the plan job (<c>Triage:Planner</c>).</summary>
+public sealed class PlannerOptions
+{
+    /// <summary>Most candidates fitted and handed to the solver per plan (see <see cref="CandidatePool"/>). Default 2,000.</summary>
+    public int MaxPoolCandidates { get; set; } = 2000;
+}
+
+/// <summary>Passes progress on and remembers how long each step (the time between two reports) took, for the log.</summary>
+internal sealed class PhaseTimer(IProgress<JobProgress> inner, TimeProvider clock) : IProgress<JobProgress>
+{
+    private readonly long _started = clock.GetTimestamp();
+    private readonly List<(string Note, long At)> _marks = [];
+
+    public void Report(JobProgress value)
+    {
+        lock (_marks)
+        {
+            _marks.Add((value.Note ?? "", clock.GetTimestamp()));
+        }
+        inner.Report(value);
+    }
+
+    /// <summary>"step: seconds; …" up to now.</summary>
+    public string Summary()
+    {
+        lock (_marks)
+        {
+            var now = clock.GetTimestamp();
+            return string.Join("; ", _marks.Select((m, i) => string.Create(System.Globalization.CultureInfo.InvariantCulture,
+                $"{m.Note}: {clock.GetElapsedTime(m.At, i + 1 < _marks.Count ? _marks[i + 1].At : now).TotalSeconds:F2}")))
+                + string.Create(System.Globalization.CultureInfo.InvariantCulture, $" (total {clock.GetElapsedTime(_started, now).TotalSeconds:F2})");
         }
     }
 }

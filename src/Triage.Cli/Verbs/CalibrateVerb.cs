@@ -48,6 +48,7 @@ internal static class CalibrateVerb
                 };
                 tax = LibraryFiles.LoadTaxonomy(parse.GetValue(taxonomy)?.FullName);
                 lib = LibraryFiles.Load(parse.GetValue(library)!.FullName, tax);
+                foreach (var w in lib.Warnings) Console.Error.WriteLine($"warning: {w}");
             }
             catch (LibraryImportException ex)
             {

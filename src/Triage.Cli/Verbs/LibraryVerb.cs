@@ -14,6 +14,7 @@ internal static class LibraryVerb
         var library = new Command("library", "Spectral libraries: generate the synthetic demo library or check a folder.");
         library.Subcommands.Add(Synth());
         library.Subcommands.Add(Check());
+        library.Subcommands.Add(LibraryExportVerb.Create());
         return library;
     }
 
@@ -50,6 +51,7 @@ internal static class LibraryVerb
             try
             {
                 var lib = LibraryFiles.Load(parse.GetValue(dir)!.FullName, LibraryFiles.LoadTaxonomy(parse.GetValue(taxonomy)?.FullName));
+                foreach (var w in lib.Warnings) Console.Error.WriteLine($"warning: {w}");
                 Console.WriteLine(string.Create(CultureInfo.InvariantCulture,
                     $"OK: {lib.Spectra.Count} spectra of {lib.ObjectCount} objects, fingerprint {lib.Fingerprint()}"));
                 return 0;

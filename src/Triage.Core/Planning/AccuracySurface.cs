@@ -688,6 +688,27 @@ public sealed class ResolutionSlice
     public bool ResolutionClamped { get; }
 
     /// <summary>
+    /// The largest recall of any subtype at any S/N and phase bin of this slice, 0…1: no expected
+    /// accuracy at this R can exceed it (<see cref="Evaluate"/> averages the channel's diagonal over S/N and phase with weights summing to 1, and over the prior with weights summing to at most 1).
+    /// </summary>
+    public double MaxRecall()
+    {
+        // The channel holds one K×K block per (S/N, phase bin); recalls are the blocks' diagonals.
+        var k = _surface.SubtypeCount;
+        var kk = k * k;
+        var best = 0.0;
+        for (var block = 0; block + kk <= _channel.Length; block += kk)
+        {
+            for (var s = 0; s < k; s++)
+            {
+                best = Math.Max(best, _channel[block + s * k + s]);
+            }
+        }
+
+        return Math.Clamp(best, 0, 1);
+    }
+
+    /// <summary>
     /// Expected accuracy and information gain of one spectrum at S/N <paramref name="snr"/>
     /// (per resolution element) for a candidate with prior <paramref name="alignedPrior"/>
     /// (from <see cref="AccuracySurface.AlignPrior"/>) and phase belief <paramref name="phase"/>.

@@ -56,6 +56,9 @@ public sealed record NightPlan(
     /// <summary>When the plan was computed (set by the host; the core never reads the clock).</summary>
     public DateTimeOffset? GeneratedUtc { get; init; }
 
+    /// <summary>The candidate pool the plan was computed from: how many were waiting, kept and left out, and why (null: no cut was made, e.g. a plan from files).</summary>
+    public CandidatePoolReport? Pool { get; init; }
+
     /// <summary>The advisory statement every plan carries.</summary>
     public const string AdvisoryStatement =
         "This plan is advisory. It proposes what to observe and when; the observatory's own interlocks, " +

@@ -14,12 +14,17 @@ public sealed class LibraryImportException(IReadOnlyList<ImportError> errors)
 /// <summary>
 /// Reads a labelled library: <c>manifest.csv</c> (header row with the columns <c>file</c>,
 /// <c>object_id</c>, <c>subtype</c>, <c>phase_days</c>, <c>redshift</c> and optionally
-/// <c>source_resolution</c>, in any order; <c>#</c> comment lines) plus one plain-text spectrum per row.
+/// <c>source_resolution</c> and <c>hdu</c>, in any order; <c>#</c> comment lines) plus one spectrum
+/// per row: plain text, or FITS when the file name ends in .fits, .fit, .fits.gz or .fit.gz
+/// (<see cref="Fits.FitsSpectrumReader"/>; <c>hdu</c> names the HDU by 0-based index or EXTNAME).
 /// </summary>
 /// <remarks>
 /// All-or-nothing: every row and every spectrum is checked, all problems are returned,
 /// and no library is produced unless there are none. Opening files is left to the caller
 /// through <c>openSpectrum</c>, which returns null for a missing file.
+/// The source resolution comes from the manifest's <c>source_resolution</c> or, when that is blank, from
+/// a FITS header's <see cref="Fits.FitsSpectrumReader.ResolvingPowerKeyword"/>; when both are given the
+/// manifest wins and a disagreement of more than 1 % is reported in <see cref="SpectralLibrary.Warnings"/>.
 /// </remarks>
 public static class LibraryImport
 {
@@ -34,43 +39,117 @@ public static class LibraryImport
         TryImport(manifest, openSpectrum, taxonomy, options, out var lib, out var errors)
             ? lib! : throw new LibraryImportException(errors);
 
-    /// <summary>Imports a library; on failure <paramref name="library"/> is null and <paramref name="errors"/> lists every problem.</summary>
+    /// <summary>Imports a library of plain-text spectra; on failure <paramref name="library"/> is null and <paramref name="errors"/> lists every problem.</summary>
     public static bool TryImport(TextReader manifest, Func<string, TextReader?> openSpectrum, Taxonomy taxonomy,
         SpectrumReadOptions? options, out SpectralLibrary? library, out IReadOnlyList<ImportError> errors)
     {
         options ??= new SpectrumReadOptions();
+        var opts = options;
+        return TryImportCore(manifest, (row, errs, warnings) =>
+        {
+            var reader = openSpectrum(row.File);
+            if (reader is null) return Missing(row, errs);
+            using (reader) return (SpectrumText.Read(reader, row.File, opts, errs), null);
+        }, taxonomy, out library, out errors);
+    }
+
+    /// <summary>Imports a library from streams (plain text or FITS, chosen by file name), throwing <see cref="LibraryImportException"/> with every problem.</summary>
+    public static SpectralLibrary Import(TextReader manifest, Func<string, Stream?> openFile, Taxonomy taxonomy,
+        SpectrumReadOptions? options = null) =>
+        TryImport(manifest, openFile, taxonomy, options, out var lib, out var errors)
+            ? lib! : throw new LibraryImportException(errors);
+
+    /// <summary>
+    /// Imports a library whose files are opened as streams by <paramref name="openFile"/> (null for a missing
+    /// file): plain text, or FITS when <see cref="IsFits"/>. On failure <paramref name="library"/> is null and
+    /// <paramref name="errors"/> lists every problem, FITS ones with their HDU and keyword.
+    /// </summary>
+    public static bool TryImport(TextReader manifest, Func<string, Stream?> openFile, Taxonomy taxonomy,
+        SpectrumReadOptions? options, out SpectralLibrary? library, out IReadOnlyList<ImportError> errors)
+    {
+        var opts = options ?? new SpectrumReadOptions();
+        return TryImportCore(manifest, (row, errs, warnings) =>
+        {
+            var stream = openFile(row.File);
+            if (stream is null) return Missing(row, errs);
+            using (stream)
+            {
+                if (!IsFits(row.File))
+                {
+                    if (row.Hdu is not null)
+                        errs.Add(new ImportError(ManifestFileName, row.Line, $"hdu '{row.Hdu}' is given for '{row.File}', which is not a FITS file"));
+                    using var text = new StreamReader(stream, System.Text.Encoding.UTF8, true, 1 << 16);
+                    return (SpectrumText.Read(text, row.File, opts, errs), null);
+                }
+                try
+                {
+                    using var fits = Fits.FitsFile.Decompressed(stream, row.File);
+                    var read = Fits.FitsSpectrumReader.Read(fits, row.Hdu, opts);
+                    foreach (var w in read.Warnings) warnings.Add(new ImportError(row.File, null, w) { Hdu = read.Hdu });
+                    return (read.Spectrum, read.ResolvingPower);
+                }
+                catch (Fits.FitsFormatException ex)
+                {
+                    errs.Add(new ImportError(row.File, null, ex.Message) { Hdu = ex.Hdu, Keyword = ex.Keyword });
+                }
+                catch (InvalidDataException ex)
+                {
+                    errs.Add(new ImportError(row.File, null, $"the gzip stream is corrupt: {ex.Message}"));
+                }
+                catch (EndOfStreamException)
+                {
+                    errs.Add(new ImportError(row.File, null, "the gzip stream is truncated"));
+                }
+                return (null, null);
+            }
+        }, taxonomy, out library, out errors);
+    }
+
+    /// <summary>True when <paramref name="file"/> names a FITS file (.fits, .fit, .fits.gz, .fit.gz; any case).</summary>
+    public static bool IsFits(string file) =>
+        file.EndsWith(".fits", StringComparison.OrdinalIgnoreCase) || file.EndsWith(".fit", StringComparison.OrdinalIgnoreCase)
+        || file.EndsWith(".fits.gz", StringComparison.OrdinalIgnoreCase) || file.EndsWith(".fit.gz", StringComparison.OrdinalIgnoreCase);
+
+    private static (Spectrum?, double?) Missing(Row row, List<ImportError> errs)
+    {
+        errs.Add(new ImportError(ManifestFileName, row.Line, $"spectrum file '{row.File}' does not exist"));
+        return (null, null);
+    }
+
+    private delegate (Spectrum? Spectrum, double? HeaderResolution) ReadRow(Row row, List<ImportError> errors, List<ImportError> warnings);
+
+    private static bool TryImportCore(TextReader manifest, ReadRow read, Taxonomy taxonomy,
+        out SpectralLibrary? library, out IReadOnlyList<ImportError> errors)
+    {
         var errs = new List<ImportError>();
+        var warnings = new List<ImportError>();
         var rows = ReadManifest(manifest, taxonomy, errs, out bool synthetic);
         var spectra = new List<LibrarySpectrum>();
         foreach (var row in rows)
         {
-            TextReader? reader;
-            try { reader = openSpectrum(row.File); }
+            (Spectrum? s, double? headerR) result;
+            try { result = read(row, errs, warnings); }
             catch (Exception ex) when (ex is IOException or UnauthorizedAccessException)
             {
                 errs.Add(new ImportError(ManifestFileName, row.Line, $"spectrum file '{row.File}' cannot be read: {ex.Message}"));
                 continue;
             }
-            if (reader is null)
-            {
-                errs.Add(new ImportError(ManifestFileName, row.Line, $"spectrum file '{row.File}' does not exist"));
-                continue;
-            }
-            using (reader)
-            {
-                var s = SpectrumText.Read(reader, row.File, options, errs);
-                if (s is not null)
-                    spectra.Add(new LibrarySpectrum(row.File, row.ObjectId, row.Subtype, row.Phase, row.Redshift, row.SourceR, s));
-            }
+            if (result.s is null) continue;
+            double? sourceR = row.SourceR ?? result.headerR;
+            if (row.SourceR is double m && result.headerR is double h && Math.Abs(m - h) > 0.01 * m)
+                warnings.Add(new ImportError(ManifestFileName, row.Line, string.Create(CultureInfo.InvariantCulture,
+                    $"source_resolution {m} differs from the header's {Fits.FitsSpectrumReader.ResolvingPowerKeyword} = {h} in '{row.File}'; the manifest's value is used"))
+                    { Keyword = Fits.FitsSpectrumReader.ResolvingPowerKeyword });
+            spectra.Add(new LibrarySpectrum(row.File, row.ObjectId, row.Subtype, row.Phase, row.Redshift, sourceR, result.s));
         }
         if (errs.Count == 0 && spectra.Count == 0)
             errs.Add(new ImportError(ManifestFileName, null, "the manifest lists no spectra"));
         errors = errs;
-        library = errs.Count == 0 ? new SpectralLibrary(spectra, synthetic) : null;
+        library = errs.Count == 0 ? new SpectralLibrary(spectra, synthetic) { Warnings = warnings } : null;
         return library is not null;
     }
 
-    private sealed record Row(int Line, string File, string ObjectId, string Subtype, double Phase, double Redshift, double? SourceR);
+    private sealed record Row(int Line, string File, string ObjectId, string Subtype, double Phase, double Redshift, double? SourceR, string? Hdu);
 
     private static List<Row> ReadManifest(TextReader reader, Taxonomy taxonomy, List<ImportError> errs, out bool synthetic)
     {
@@ -133,6 +212,7 @@ public static class LibraryImport
                 double r = Number(Get("source_resolution"), "source_resolution", lineNo, errs, double.Epsilon, 1e7);
                 if (!double.IsNaN(r)) sourceR = r;
             }
+            string? hdu = col.ContainsKey("hdu") && Get("hdu").Length > 0 ? Get("hdu") : null;
             if (errs.Count > before) continue;
             if (epochs.TryGetValue((objectId, phase), out int dupLine))
             {
@@ -142,7 +222,7 @@ public static class LibraryImport
             }
             files[file] = lineNo;
             epochs[(objectId, phase)] = lineNo;
-            rows.Add(new Row(lineNo, file, objectId, subtype, phase, z, sourceR));
+            rows.Add(new Row(lineNo, file, objectId, subtype, phase, z, sourceR, hdu));
         }
         if (col is null) errs.Add(new ImportError(ManifestFileName, null, "the manifest is empty (no header row)"));
         return rows;
@@ -188,12 +268,19 @@ public static class LibraryImport
     }
 
     /// <summary>Writes a manifest for <paramref name="library"/> with leading comment lines.</summary>
-    public static void WriteManifest(TextWriter writer, SpectralLibrary library, IEnumerable<string> comments)
+    /// <param name="exact">False (default): phases to 0.01 d, redshifts to 5 decimals. True: round-trip values, quoted CSV fields where needed.</param>
+    public static void WriteManifest(TextWriter writer, SpectralLibrary library, IEnumerable<string> comments, bool exact = false)
     {
         foreach (var c in comments) writer.Write("# " + c + "\n");
         writer.Write("file,object_id,subtype,phase_days,redshift,source_resolution\n");
         foreach (var s in library.Spectra)
-            writer.Write(string.Create(CultureInfo.InvariantCulture,
-                $"{s.File},{s.ObjectId},{s.Subtype},{s.PhaseDays:0.##},{s.Redshift:0.#####},{s.SourceResolution}\n"));
+            writer.Write(exact
+                ? string.Create(CultureInfo.InvariantCulture,
+                    $"{Csv(s.File)},{Csv(s.ObjectId)},{Csv(s.Subtype)},{s.PhaseDays:R},{s.Redshift:R},{s.SourceResolution:R}\n")
+                : string.Create(CultureInfo.InvariantCulture,
+                    $"{s.File},{s.ObjectId},{s.Subtype},{s.PhaseDays:0.##},{s.Redshift:0.#####},{s.SourceResolution}\n"));
     }
+
+    private static string Csv(string field) =>
+        field.IndexOfAny([',', '"', '\n', '\r']) >= 0 || field != field.Trim() ? "\"" + field.Replace("\"", "\"\"") + "\"" : field;
 }

@@ -6,6 +6,12 @@ namespace Triage.Core.Spectra;
 /// <summary>A problem found while reading library files: the file, the 1-based line when known, and what is wrong.</summary>
 public sealed record ImportError(string File, int? Line, string Message)
 {
+    /// <summary>For a FITS file: the HDU at fault ("primary", "HDU 1 'SPECTRUM'"), when known.</summary>
+    public string? Hdu { get; init; }
+
+    /// <summary>For a FITS file: the keyword or column at fault, when there is one.</summary>
+    public string? Keyword { get; init; }
+
     /// <inheritdoc />
     public override string ToString() =>
         Line is int l ? string.Create(CultureInfo.InvariantCulture, $"{File}:{l}: {Message}") : $"{File}: {Message}";
@@ -97,19 +103,30 @@ public static class SpectrumText
                     string.Create(CultureInfo.InvariantCulture,
                         $"wavelength {rows[i].W} Å repeats line {rows[i - 1].Line}: wavelengths must be strictly increasing after sorting")));
         }
-        if (rows.Count < options.MinSamples)
-            errors.Add(new ImportError(fileName, null,
-                string.Create(CultureInfo.InvariantCulture, $"too little coverage: {rows.Count} usable samples, at least {options.MinSamples} needed")));
-        else if (rows[^1].W - rows[0].W < options.MinCoverageAngstrom)
-            errors.Add(new ImportError(fileName, null,
-                string.Create(CultureInfo.InvariantCulture,
-                    $"too little coverage: {rows[0].W:0.#}–{rows[^1].W:0.#} Å spans {rows[^1].W - rows[0].W:0.#} Å, at least {options.MinCoverageAngstrom:0.#} Å needed")));
+        var sorted = rows.Select(r => r.W).ToArray();
+        if (CoverageProblem(sorted, options) is { } problem) errors.Add(new ImportError(fileName, null, problem));
         if (errors.Count > before) return null;
 
         return new Spectrum(
-            rows.Select(r => r.W).ToArray(),
+            sorted,
             rows.Select(r => r.F).ToArray(),
             columns == 3 ? rows.Select(r => r.E).ToArray() : null);
+    }
+
+    /// <summary>
+    /// The coverage rule shared by every format: at least <see cref="SpectrumReadOptions.MinSamples"/> usable
+    /// samples spanning <see cref="SpectrumReadOptions.MinCoverageAngstrom"/>; null when met, else the reason.
+    /// </summary>
+    /// <param name="sortedWavelengths">Usable wavelengths (Å) in increasing order.</param>
+    internal static string? CoverageProblem(double[] sortedWavelengths, SpectrumReadOptions options)
+    {
+        var w = sortedWavelengths;
+        if (w.Length < Math.Max(options.MinSamples, 1))
+            return string.Create(CultureInfo.InvariantCulture, $"too little coverage: {w.Length} usable samples, at least {options.MinSamples} needed");
+        if (w[^1] - w[0] < options.MinCoverageAngstrom)
+            return string.Create(CultureInfo.InvariantCulture,
+                $"too little coverage: {w[0]:0.#}–{w[^1]:0.#} Å spans {w[^1] - w[0]:0.#} Å, at least {options.MinCoverageAngstrom:0.#} Å needed");
+        return null;
     }
 
     /// <summary>Parses a spectrum from a string; throws <see cref="FormatException"/> listing every problem.</summary>
@@ -121,17 +138,22 @@ public static class SpectrumText
     }
 
     /// <summary>Writes the plain-text format with optional leading comment lines.</summary>
-    public static void Write(TextWriter writer, Spectrum spectrum, IEnumerable<string>? comments = null)
+    /// <param name="exact">
+    /// False (default): wavelengths to 0.001 Å, flux to 6 and errors to 4 significant digits (compact).
+    /// True: every value in its shortest round-trip form, so that reading the file back gives the same doubles.
+    /// </param>
+    public static void Write(TextWriter writer, Spectrum spectrum, IEnumerable<string>? comments = null, bool exact = false)
     {
         foreach (var c in comments ?? []) writer.Write("# " + c + "\n");
         var sb = new StringBuilder(32);
+        string wf = exact ? "R" : "0.###", ff = exact ? "R" : "G6", ef = exact ? "R" : "G4";
         for (int i = 0; i < spectrum.Count; i++)
         {
             sb.Clear();
-            sb.Append(spectrum.WavelengthAngstrom[i].ToString("0.###", CultureInfo.InvariantCulture)).Append(' ')
-              .Append(spectrum.Flux[i].ToString("G6", CultureInfo.InvariantCulture));
+            sb.Append(spectrum.WavelengthAngstrom[i].ToString(wf, CultureInfo.InvariantCulture)).Append(' ')
+              .Append(spectrum.Flux[i].ToString(ff, CultureInfo.InvariantCulture));
             if (spectrum.FluxError is { } err)
-                sb.Append(' ').Append(err[i].ToString("G4", CultureInfo.InvariantCulture));
+                sb.Append(' ').Append(err[i].ToString(ef, CultureInfo.InvariantCulture));
             sb.Append('\n');
             writer.Write(sb);
         }

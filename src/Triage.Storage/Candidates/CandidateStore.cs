@@ -117,7 +117,7 @@ public enum ReportOutcome
 /// batch is stored whole or not at all and concurrent retries of the same batch never duplicate
 /// a candidate or a photometry point.
 /// </summary>
-public sealed class CandidateStore(NpgsqlDataSource dataSource)
+public sealed partial class CandidateStore(NpgsqlDataSource dataSource)
 {
     // The staging table lives for one transaction. JIT is off for the merge: the planner cannot
     // know the staging table's size, and compiling cost more than it saved.
@@ -127,7 +127,7 @@ public sealed class CandidateStore(NpgsqlDataSource dataSource)
         CREATE TEMP TABLE stage_candidates (
             n int, id uuid, broker_candidate_id text, ra_deg float8, dec_deg float8, ux float8, uy float8, uz float8,
             discovered_at timestamptz, redshift float8, redshift_error float8, subtype_probabilities jsonb,
-            science_weight float8, notes text, broker_state jsonb, content_hash bytea) ON COMMIT DROP;
+            science_weight float8, notes text, broker_state jsonb, content_hash bytea, peak_flux_microjy float8) ON COMMIT DROP;
         """;
 
     private const string CreatePhotometryStagingSql = """
@@ -143,15 +143,16 @@ public sealed class CandidateStore(NpgsqlDataSource dataSource)
     private const string CandidateMergeSql = """
         up AS (
             INSERT INTO candidates (id, broker, broker_candidate_id, ra_deg, dec_deg, ux, uy, uz, discovered_at, redshift,
-                redshift_error, subtype_probabilities, science_weight, notes, broker_state, content_hash, created_at, updated_at)
+                redshift_error, subtype_probabilities, science_weight, notes, broker_state, content_hash, peak_flux_microjy, created_at, updated_at)
             SELECT id, @broker, broker_candidate_id, ra_deg, dec_deg, ux, uy, uz, discovered_at, redshift, redshift_error,
-                subtype_probabilities, science_weight, notes, broker_state, content_hash, @now, @now
+                subtype_probabilities, science_weight, notes, broker_state, content_hash, peak_flux_microjy, @now, @now
             FROM {0} ORDER BY broker_candidate_id
             ON CONFLICT (broker, broker_candidate_id) DO UPDATE SET
                 ra_deg = EXCLUDED.ra_deg, dec_deg = EXCLUDED.dec_deg, ux = EXCLUDED.ux, uy = EXCLUDED.uy, uz = EXCLUDED.uz,
                 discovered_at = EXCLUDED.discovered_at, redshift = EXCLUDED.redshift, redshift_error = EXCLUDED.redshift_error,
                 subtype_probabilities = EXCLUDED.subtype_probabilities, science_weight = EXCLUDED.science_weight,
                 notes = EXCLUDED.notes, broker_state = EXCLUDED.broker_state, content_hash = EXCLUDED.content_hash,
+                peak_flux_microjy = GREATEST(candidates.peak_flux_microjy, EXCLUDED.peak_flux_microjy),
                 data_version = candidates.data_version + 1, version = candidates.version + 1, updated_at = EXCLUDED.updated_at,
                 state = CASE WHEN candidates.state = 'stale' THEN 'new' ELSE candidates.state END
             WHERE candidates.content_hash <> EXCLUDED.content_hash
@@ -192,12 +193,13 @@ public sealed class CandidateStore(NpgsqlDataSource dataSource)
         stage_candidates AS (
             SELECT * FROM unnest(@ids::uuid[], @cids::text[], @ras::float8[], @decs::float8[], @uxs::float8[], @uys::float8[], @uzs::float8[],
                 @discovered::timestamptz[], @redshifts::float8[], @redshiftErrors::float8[], @probabilities::text[], @weights::float8[],
-                @notes::text[], @states::text[], @hashes::bytea[]) WITH ORDINALITY
+                @notes::text[], @states::text[], @hashes::bytea[], @peaks::float8[]) WITH ORDINALITY
                 AS t(id, broker_candidate_id, ra_deg, dec_deg, ux, uy, uz, discovered_at, redshift, redshift_error, probabilities_text,
-                     science_weight, notes, broker_state_text, content_hash, n)
+                     science_weight, notes, broker_state_text, content_hash, peak_flux_microjy, n)
         ), stage_candidates_typed AS (
             SELECT id, broker_candidate_id, ra_deg, dec_deg, ux, uy, uz, discovered_at, redshift, redshift_error,
-                probabilities_text::jsonb AS subtype_probabilities, science_weight, notes, broker_state_text::jsonb AS broker_state, content_hash
+                probabilities_text::jsonb AS subtype_probabilities, science_weight, notes, broker_state_text::jsonb AS broker_state, content_hash,
+                peak_flux_microjy
             FROM stage_candidates
         ), stage_photometry AS (
             SELECT * FROM unnest(@pns::int[], @bands::text[], @times::timestamptz[], @fluxes::float8[], @fluxErrors::float8[],
@@ -262,7 +264,7 @@ public sealed class CandidateStore(NpgsqlDataSource dataSource)
         // 1. The candidates into staging, then merged; the answer says which ones changed.
         await using (var copy = await conn.BeginBinaryImportAsync(
             "COPY stage_candidates (n, id, broker_candidate_id, ra_deg, dec_deg, ux, uy, uz, discovered_at, redshift, redshift_error, " +
-            "subtype_probabilities, science_weight, notes, broker_state, content_hash) FROM STDIN (FORMAT BINARY)", ct))
+            "subtype_probabilities, science_weight, notes, broker_state, content_hash, peak_flux_microjy) FROM STDIN (FORMAT BINARY)", ct))
         {
             var ids = NewIds(batch.Count, now);
             for (int n = 0; n < batch.Count; n++)
@@ -293,6 +295,7 @@ public sealed class CandidateStore(NpgsqlDataSource dataSource)
                 }
                 WriteJson(copy, c.BrokerState is null ? null : JsonSerializer.Serialize(c.BrokerState, BrokerBatchJson.Options));
                 copy.Write(hash, NpgsqlDbType.Bytea);
+                WriteNullable(copy, PeakFlux(c));
             }
             await copy.CompleteAsync(ct);
         }
@@ -377,6 +380,7 @@ public sealed class CandidateStore(NpgsqlDataSource dataSource)
             notes = candidates.Select(c => c.Notes).ToArray(),
             states = candidates.Select(c => c.BrokerState is null ? null : JsonSerializer.Serialize(c.BrokerState, BrokerBatchJson.Options)).ToArray(),
             hashes = batch.Select(b => b.ContentHash).ToArray(),
+            peaks = candidates.Select(PeakFlux).ToArray(),
             pns = points.Select(p => p.N).ToArray(),
             bands = points.Select(p => p.Point.Band.Name).ToArray(),
             times = points.Select(p => p.Point.TimeUtc.UtcDateTime).ToArray(),
@@ -390,6 +394,20 @@ public sealed class CandidateStore(NpgsqlDataSource dataSource)
         var (created, updated, written) = await conn.QuerySingleAsync<(int Created, int Updated, int Written)>(
             new CommandDefinition(MergeFromArraysSql, parameters, cancellationToken: ct));
         return new IntakeSummary(batch.Count, created, updated, batch.Count - created - updated, written);
+    }
+
+    /// <summary>The largest flux of the candidate's detections (upper limits and non-positive fluxes skipped), µJy; null without one.</summary>
+    internal static double? PeakFlux(Candidate c)
+    {
+        double? peak = null;
+        foreach (var p in c.Photometry)
+        {
+            if (!p.IsUpperLimit && p.FluxMicroJy > 0 && (peak is null || p.FluxMicroJy > peak))
+            {
+                peak = p.FluxMicroJy;
+            }
+        }
+        return peak;
     }
 
     /// <summary>Fresh time-ordered ids, ascending, so new rows are appended at the end of the id indexes.</summary>
@@ -546,13 +564,7 @@ public sealed class CandidateStore(NpgsqlDataSource dataSource)
             new { states = states.Select(CandidateLifecycle.Name).ToArray() }, cancellationToken: ct));
         var rows = (await grid.ReadAsync<DetailRowData>()).ToList();
         var photometry = (await grid.ReadAsync<OwnedPhotometryRowData>()).ToLookup(p => p.CandidateId, p => p.Point.ToPoint());
-        return rows.Select(r =>
-        {
-            var candidate = r.ToCandidate(photometry[r.Id].ToList());
-            return (r.Id, posteriorAsPrior && r.Posterior is { } p
-                ? candidate with { SubtypeProbabilities = JsonSerializer.Deserialize<Dictionary<string, double>>(p) }
-                : candidate);
-        }).ToList();
+        return rows.Select(r => (r.Id, r.ToCandidate(photometry[r.Id].ToList(), posteriorAsPrior))).ToList();
     }
 
     private const string PendingSql = $"""
@@ -817,9 +829,12 @@ public sealed class CandidateStore(NpgsqlDataSource dataSource)
         public string? Prior { get; init; }
         public string? Posterior { get; init; }
 
-        public Candidate ToCandidate(IReadOnlyList<PhotometryPoint> photometry) =>
+        // With posteriorAsPrior, the posterior after labelled reports stands in for the broker's probabilities.
+        public Candidate ToCandidate(IReadOnlyList<PhotometryPoint> photometry, bool posteriorAsPrior = false) =>
             new(BrokerCandidateId, RaDeg, DecDeg, Utc.From(DiscoveredAt), Redshift, RedshiftError, photometry,
-                SubtypeProbabilities is null ? null : JsonSerializer.Deserialize<Dictionary<string, double>>(SubtypeProbabilities),
+                (posteriorAsPrior ? Posterior ?? SubtypeProbabilities : SubtypeProbabilities) is { } probabilities
+                    ? JsonSerializer.Deserialize<Dictionary<string, double>>(probabilities)
+                    : null,
                 ScienceWeight, Notes,
                 BrokerState is null ? null : JsonSerializer.Deserialize<BrokerState>(BrokerState, BrokerBatchJson.Options));
     }

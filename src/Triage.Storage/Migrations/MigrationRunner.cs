@@ -54,7 +54,8 @@ public static class MigrationRunner
                     continue;
                 }
                 await using var tx = await conn.BeginTransactionAsync(ct);
-                await conn.ExecuteAsync(new CommandDefinition(m.Sql, transaction: tx, cancellationToken: ct));
+                // No client-side timeout: a migration that rewrites a large table must finish (or roll back), not be cut at 30 s.
+                await conn.ExecuteAsync(new CommandDefinition(m.Sql, transaction: tx, commandTimeout: 0, cancellationToken: ct));
                 await conn.ExecuteAsync(new CommandDefinition(
                     "INSERT INTO schema_migrations (version, name, checksum, applied_at) VALUES (@Version, @Name, @Checksum, @At)",
                     new { m.Version, m.Name, m.Checksum, At = clock.GetUtcNow() }, tx, cancellationToken: ct));

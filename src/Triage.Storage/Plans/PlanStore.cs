@@ -31,7 +31,7 @@ public sealed record NewPlanVersion(
     string BodyJson);
 
 /// <summary>Night plans, versioned per night. The active plan of a night is its highest version.</summary>
-public sealed class PlanStore(NpgsqlDataSource dataSource)
+public sealed partial class PlanStore(NpgsqlDataSource dataSource)
 {
     private const string Columns = """
         id AS Id, night AS Night, version AS Version, created_at AS CreatedAt, planned_from AS PlannedFrom,
@@ -98,7 +98,7 @@ public sealed class PlanStore(NpgsqlDataSource dataSource)
         return r is null ? null : (r.ToRow(), r.Body!);
     }
 
-    private sealed class Record
+    private class Record
     {
         public Guid Id { get; init; }
         public DateTime Night { get; init; }
