@@ -122,11 +122,20 @@ public static class ReportWeighing
                     ? string.Create(inv, $"identified as {result.TopSubtype} (≥ {confidence:F2})")
                     : string.Create(inv, $"unsettled (below {confidence:F2}): a sharper spectrum is wanted"));
             return new WeighedLabel(result.Identified, result.Identified ? result.TopSubtype : null, priorJson,
-                JsonSerializer.Serialize(result.Posterior), JsonSerializer.Serialize(cell, CellJson), resolvingPower, channel.CalibrationId, detail);
+                JsonSerializer.Serialize(result.Posterior), CellWithPhase(cell, phase), resolvingPower, channel.CalibrationId, detail);
         }
 
         return new LabelEvidence(probabilitiesJson, request.PhaseDays, Weigh);
     }
 
     private static readonly JsonSerializerOptions CellJson = new(JsonSerializerDefaults.Web);
+
+    // The cells used plus the phase belief they were read at (the unit-accuracy trials need it).
+    private static string CellWithPhase(ChannelCell cell, PhaseBelief phase)
+    {
+        var node = JsonSerializer.SerializeToNode(cell, CellJson)!.AsObject();
+        node["phaseDays"] = phase.MeanDays;
+        node["phaseSigmaDays"] = phase.SigmaDays;
+        return node.ToJsonString();
+    }
 }

@@ -136,6 +136,46 @@ public sealed class LabelledReportTests(IsolatedDatabaseFactory api) : IClassFix
 
     private sealed record Body(StringContent Content);
 
+    [Fact]
+    public async Task UnitAccuracy_CountsTrialsOfIdentifiedCandidates_FlagsAUnitFarBelowTheModel()
+    {
+        var (observatory, reader, unit, id) = await ArrangeAsync();
+        // Ten answers "II" on a candidate the scheduler then confirms as Ia: ten trials, none correct.
+        for (var i = 0; i < 10; i++)
+        {
+            Assert.True((await observatory.PostAsync($"/api/candidates/{id}/observations", Report(unit, "II"))).IsSuccessStatusCode);
+        }
+
+        Assert.True((await reader.PostAsync($"/api/candidates/{id}/identification", Bodies.Json(new JsonObject { ["label"] = "Ia" }))).IsSuccessStatusCode);
+
+        var answer = await (await reader.GetAsync("/api/units/accuracy")).ReadObjectAsync();
+        var row = answer["units"]!.AsArray().Single(u => (string)u!["spectrographId"]! == unit)!;
+
+        // Model: C(Ia|Ia) = 0.8 at R = 100, S/N 10; E = 8, V = 10·0.8·0.2 = 1.6, z = (0 − 8)/√1.6 = −6.325.
+        Assert.Equal(10, (int)row["trials"]!);
+        Assert.Equal(0, (int)row["correct"]!);
+        Assert.Equal(0.8, (double)row["modelledRecall"]!, 9);
+        Assert.Equal(-8 / Math.Sqrt(1.6), (double)row["z"]!, 3);
+        Assert.True((bool)row["flagged"]!);
+        Assert.Contains("worse than modelled", (string)row["warning"]!, StringComparison.Ordinal);
+        Assert.Equal(0, (double)row["measuredLow"]!, 9);
+    }
+
+    [Fact]
+    public async Task UnitAccuracy_AgreeingTrials_NotFlagged()
+    {
+        var (observatory, reader, unit, id) = await ArrangeAsync();
+        await observatory.PostAsync($"/api/candidates/{id}/observations", Report(unit, "Ia"));
+        await observatory.PostAsync($"/api/candidates/{id}/observations", Report(unit, "Ia")); // identified (0.943)
+
+        var answer = await (await reader.GetAsync("/api/units/accuracy")).ReadObjectAsync();
+        var row = answer["units"]!.AsArray().Single(u => (string)u!["spectrographId"]! == unit)!;
+
+        Assert.Equal(2, (int)row["trials"]!);
+        Assert.Equal(1.0, (double)row["measuredRecall"]!, 9);
+        Assert.False((bool)row["flagged"]!);
+    }
+
     public static TheoryData<string, JsonObject?, double, double?, string> BadReports => new()
     {
         { "Ia-ish", null, 10, 0, "classifiedLabel" },
