@@ -14,7 +14,7 @@ builder.AddTriageLogging();
 builder.Services.AddSingleton(TimeProvider.System);
 builder.Services.AddTriageJson();
 builder.Services.AddTriageProblems();
-builder.Services.AddOpenApi();
+builder.AddHttpHardening();
 builder.Services.AddDatabase(builder.Configuration);
 builder.Services.AddAccess(builder.Configuration);
 builder.Services.AddRoster();
@@ -26,11 +26,14 @@ builder.Services.AddSky();
 builder.Services.AddTriageCompression();
 
 var app = builder.Build();
+// Outermost, so that the logged status is the one the exception handler actually sent.
+app.UseTriageRequestLogging();
 app.UseTriageProblems();
+app.UseHttpHardening();
 app.UseDefaultFiles();
 app.UseStaticFiles();
 app.UseRouting();
-app.UseTriageRequestLogging();
+app.UseFailedAuthenticationLimit();
 app.UseAuthentication();
 app.UseRateLimiter();
 app.UseAuthorization();

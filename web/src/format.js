@@ -49,6 +49,8 @@ export function el(tag, attrs = {}, ...children) {
     if (v === undefined || v === null || v === false) continue;
     if (k.startsWith('on')) node.addEventListener(k.slice(2), v);
     else if (k === 'text') node.textContent = v;
+    // Through the CSSOM: the Content-Security-Policy (style-src 'self') refuses style attributes.
+    else if (k === 'style') node.style.cssText = v;
     else node.setAttribute(k, v === true ? '' : v);
   }
   for (const c of children.flat()) {

@@ -34,6 +34,8 @@ public static class AccessSetup
         services.AddSingleton<KeyStore>();
         services.AddSingleton(config.GetSection("Triage:Access").Get<KeyCacheOptions>() ?? new KeyCacheOptions());
         services.AddSingleton<KeyCache>();
+        services.AddSingleton(config.GetSection("Triage:Access").Get<FailedAuthenticationOptions>() ?? new FailedAuthenticationOptions());
+        services.AddSingleton<FailedAuthenticationLimit>();
         services.AddAuthentication(ApiKeyAuthenticationHandler.SchemeName)
             .AddScheme<AuthenticationSchemeOptions, ApiKeyAuthenticationHandler>(ApiKeyAuthenticationHandler.SchemeName, null);
         services.AddAuthorizationBuilder()

@@ -25,6 +25,7 @@ public sealed class ApiKeyAuthenticationHandler(
     ILoggerFactory logger,
     UrlEncoder encoder,
     KeyCache keys,
+    FailedAuthenticationLimit failures,
     IProblemDetailsService problems)
     : AuthenticationHandler<AuthenticationSchemeOptions>(options, logger, encoder)
 {
@@ -33,19 +34,20 @@ public sealed class ApiKeyAuthenticationHandler(
     protected override async Task<AuthenticateResult> HandleAuthenticateAsync()
     {
         var header = Request.Headers.Authorization.ToString();
-        if (string.IsNullOrEmpty(header))
+        if (string.IsNullOrEmpty(header) || Context.GetEndpoint()?.Metadata.GetMetadata<Microsoft.AspNetCore.Authorization.IAllowAnonymous>() is not null)
         {
+            // Open endpoints (the health checks) never look at a key, so they never touch the database for one.
             return AuthenticateResult.NoResult();
         }
         if (!header.StartsWith("Bearer ", StringComparison.OrdinalIgnoreCase))
         {
-            return AuthenticateResult.Fail("The Authorization header must read 'Bearer <key>'.");
+            return Refuse("The Authorization header must read 'Bearer <key>'.");
         }
         var presented = header["Bearer ".Length..].Trim();
         var key = await keys.AuthenticateAsync(presented, Context.RequestAborted);
         if (key is null)
         {
-            return AuthenticateResult.Fail("Unknown or revoked key.");
+            return Refuse("Unknown or revoked key.");
         }
         var claims = new List<Claim>
         {
@@ -60,6 +62,16 @@ public sealed class ApiKeyAuthenticationHandler(
         }
         var identity = new ClaimsIdentity(claims, SchemeName);
         return AuthenticateResult.Success(new AuthenticationTicket(new ClaimsPrincipal(identity), SchemeName));
+    }
+
+    private AuthenticateResult Refuse(string reason)
+    {
+        if (!failures.RecordFailure(FailedAuthenticationLimit.AddressOf(Context)))
+        {
+            // Only an address's first failure in its window gets a request-log line; a burst is logged by the limit.
+            Context.Items[FailedAuthenticationLimit.QuietItem] = true;
+        }
+        return AuthenticateResult.Fail(reason);
     }
 
     protected override async Task HandleChallengeAsync(AuthenticationProperties properties)

@@ -5,6 +5,7 @@ using Triage.Core.Spectra;
 using Triage.Core.Spectra.Synthetic;
 using Triage.Learning;
 using Triage.Storage.Calibrations;
+using Triage.Storage.Jobs;
 
 namespace Triage.Api.Calibrations;
 
@@ -18,10 +19,15 @@ public sealed class CalibrationJobHandler(CalibrationStore store, TimeProvider c
 
     public string Kind => JobKind;
 
-    public async Task<string> RunAsync(string inputJson, IProgress<JobProgress> progress, CancellationToken ct)
+    public async Task<string> RunAsync(JobRun run, IProgress<JobProgress> progress, CancellationToken ct)
     {
-        var input = JsonSerializer.Deserialize<CalibrationJobInput>(inputJson, Triage.Api.Operations.OperationsSetup.JobJson)
+        var input = JsonSerializer.Deserialize<CalibrationJobInput>(run.InputJson, Triage.Api.Operations.OperationsSetup.JobJson)
             ?? throw new JobInputException("The job input is empty.");
+        if (await store.FindByJobAsync(run.JobId, ct) is { } stored)
+        {
+            // An earlier run of this job stored the calibration: never a second one.
+            return ResultJson(stored);
+        }
         var taxonomy = Taxonomy.Default;
         progress.Report(new JobProgress(0, "loading the library"));
         SpectralLibrary library;
@@ -56,10 +62,27 @@ public sealed class CalibrationJobHandler(CalibrationStore store, TimeProvider c
         {
             throw new JobInputException(e.Message);
         }
-        var row = await store.AddAsync(new NewCalibration(
-            library.Synthetic ? "synthetic" : "library", library.Synthetic, library.Fingerprint(), version,
-            JsonSerializer.Serialize(settings, CalibrationJson.Options), null, CalibrationJson.Serialize(document)),
-            input.Activate, clock.GetUtcNow(), ct);
-        return JsonSerializer.Serialize(new { calibrationId = row.Id, active = row.Active, url = $"/api/calibrations/{row.Id}" });
+        try
+        {
+            // The calibration (and its activation) and the job's completion commit together.
+            var row = await store.AddAsync(new NewCalibration(
+                library.Synthetic ? "synthetic" : "library", library.Synthetic, library.Fingerprint(), version,
+                JsonSerializer.Serialize(settings, CalibrationJson.Options), run.JobId, CalibrationJson.Serialize(document)),
+                input.Activate, clock.GetUtcNow(),
+                (conn, tx, stored, token) => JobStore.CompleteWithinAsync(conn, tx, run.JobId, ResultJson(stored), clock.GetUtcNow(), token), ct);
+            return ResultJson(row);
+        }
+        catch (Npgsql.PostgresException e) when (e.ConstraintName == CalibrationStore.OnePerJobConstraint)
+        {
+            // Another run of the same job stored first: that calibration is the result.
+            if (await store.FindByJobAsync(run.JobId, CancellationToken.None) is not { } raced)
+            {
+                throw;
+            }
+            return ResultJson(raced);
+        }
     }
+
+    private static string ResultJson(CalibrationRow row) =>
+        JsonSerializer.Serialize(new { calibrationId = row.Id, active = row.Active, url = $"/api/calibrations/{row.Id}" });
 }

@@ -51,6 +51,16 @@ public static class CandidateEndpoints
 
     // ---- intake -----------------------------------------------------------------------------
 
+    /// <summary>The batch's JSON rules plus the service's text hygiene (no NUL or other control characters in any string).</summary>
+    private static readonly JsonSerializerOptions IntakeJson = CreateIntakeJson();
+
+    private static JsonSerializerOptions CreateIntakeJson()
+    {
+        var o = BrokerBatchJson.CreateOptions();
+        o.Converters.Add(new CleanTextConverter());
+        return o;
+    }
+
     public static async Task<Results<Ok<IntakeResponse>, ValidationProblem, ProblemHttpResult>> PostBatch(
         HttpRequest request, CandidateStore store, IOptions<CandidateOptions> options, ClaimsPrincipal user, TimeProvider clock, CancellationToken ct)
     {
@@ -62,12 +72,12 @@ public static class CandidateEndpoints
         BrokerBatch? batch;
         try
         {
-            batch = await JsonSerializer.DeserializeAsync<BrokerBatch>(request.Body, BrokerBatchJson.Options, ct);
+            batch = await JsonSerializer.DeserializeAsync<BrokerBatch>(request.Body, IntakeJson, ct);
         }
         catch (JsonException ex)
         {
             var error = BrokerBatchJson.FromJsonException(ex);
-            return Invalid([error]);
+            return Invalid([error with { Message = TypeNames.Strip(error.Message) }]);
         }
         var now = clock.GetUtcNow();
         var o = options.Value;
@@ -151,6 +161,14 @@ public static class CandidateEndpoints
             }
             after = id;
         }
+        if (at is { } atValue && !Ranges.Contains(atValue))
+        {
+            return Problems.BadQuery("at", $"must be {Ranges.InstantRule}");
+        }
+        if (updatedSince is { } since && !Ranges.Contains(since))
+        {
+            return Problems.BadQuery("updatedSince", $"must be {Ranges.InstantRule}");
+        }
         var when = at?.ToUniversalTime() ?? clock.GetUtcNow();
         var rows = await store.ListAsync(new CandidateQuery(s, raDeg, decDeg, radiusDeg, brighterThanMagAb, when, updatedSince?.ToUniversalTime(), after, size + 1), ct);
         var page = rows.Take(size).Select(r => CandidateSummaryResponse.From(r, when)).ToList();
@@ -177,6 +195,10 @@ public static class CandidateEndpoints
     public static async Task<Results<Ok<CandidateDetailResponse>, ProblemHttpResult>> GetCandidate(
         Guid id, CandidateStore store, CandidateFitting fitting, TimeProvider clock, DateTimeOffset? at, CancellationToken ct)
     {
+        if (at is { } atValue && !Ranges.Contains(atValue))
+        {
+            return Problems.BadQuery("at", $"must be {Ranges.InstantRule}");
+        }
         var detail = await store.GetAsync(id, ct);
         if (detail is null)
         {
@@ -313,6 +335,10 @@ public static class CandidateEndpoints
         else if (observed > now.AddHours(1))
         {
             checks.Fail("observedUtc", "is in the future");
+        }
+        else
+        {
+            Ranges.Check(checks, "observedUtc", observed);
         }
         if (!checks.IsValid)
         {

@@ -64,6 +64,10 @@ public sealed class FieldChecks
         {
             Fail(field, "must not contain control characters");
         }
+        if (trimmed.Any(TextHygiene.IsBidiControl))
+        {
+            Fail(field, "must not contain bidirectional override, embedding or isolate characters (U+202A–U+202E, U+2066–U+2069)");
+        }
         return trimmed;
     }
 

@@ -1,8 +1,10 @@
 using System.Text.Json;
+using System.Text.RegularExpressions;
 using Microsoft.AspNetCore.Diagnostics;
 using Microsoft.AspNetCore.Http.Features;
 using Microsoft.AspNetCore.Http.Metadata;
 using Microsoft.AspNetCore.Mvc;
+using Triage.Storage;
 
 namespace Triage.Api.Errors;
 
@@ -20,13 +22,36 @@ public static class ProblemSetup
             ctx.ProblemDetails.Extensions["requestId"] = ctx.HttpContext.TraceIdentifier;
             if (ctx.ProblemDetails.Status == StatusCodes.Status415UnsupportedMediaType && !ctx.ProblemDetails.Extensions.ContainsKey("field"))
             {
-                ctx.ProblemDetails.Detail ??= "Send the body as application/json.";
+                // Name what this route accepts (a CSV import is not told to send JSON).
+                ctx.ProblemDetails.Detail ??= $"Send the body as {string.Join(" or ", AcceptedMediaTypes(ctx.HttpContext))}.";
                 ctx.ProblemDetails.Extensions["field"] = "Content-Type";
             }
         });
         services.AddExceptionHandler<BadRequestProblemHandler>();
         services.Configure<RouteHandlerOptions>(o => o.ThrowOnBadRequest = true);
         return services;
+    }
+
+    /// <summary>The media types the endpoints at this request's path and method accept (application/json when none says).</summary>
+    internal static IReadOnlyList<string> AcceptedMediaTypes(HttpContext http)
+    {
+        var path = http.Request.Path.Value ?? "/";
+        var accepted = new List<string>();
+        foreach (var endpoint in http.RequestServices.GetRequiredService<EndpointDataSource>().Endpoints.OfType<RouteEndpoint>())
+        {
+            var methods = endpoint.Metadata.GetMetadata<IHttpMethodMetadata>()?.HttpMethods;
+            if (methods is not null && !methods.Contains(http.Request.Method, StringComparer.OrdinalIgnoreCase))
+            {
+                continue;
+            }
+            var matcher = new Microsoft.AspNetCore.Routing.Template.TemplateMatcher(
+                Microsoft.AspNetCore.Routing.Template.TemplateParser.Parse(endpoint.RoutePattern.RawText ?? "/"), new RouteValueDictionary());
+            if (matcher.TryMatch(path, new RouteValueDictionary()) && endpoint.Metadata.GetMetadata<IAcceptsMetadata>() is { } accepts)
+            {
+                accepted.AddRange(accepts.ContentTypes);
+            }
+        }
+        return accepted.Count == 0 ? ["application/json"] : accepted.Distinct(StringComparer.OrdinalIgnoreCase).ToList();
     }
 
     public static WebApplication UseTriageProblems(this WebApplication app)
@@ -37,24 +62,43 @@ public static class ProblemSetup
     }
 }
 
-/// <summary>Turns request-binding exceptions into field-naming 4xx problems.</summary>
+/// <summary>
+/// Turns exceptions into problems: request-binding failures into field-naming 4xx, a database
+/// that cannot take the request now into 503 with <c>Retry-After</c>, a write refused by a
+/// constraint (a concurrent change) into 409 naming the field; only the unexpected is a 500.
+/// </summary>
 internal sealed class BadRequestProblemHandler(IProblemDetailsService problems, ILogger<BadRequestProblemHandler> log) : IExceptionHandler
 {
+    /// <summary>Status logged for a request whose caller went away before the answer (nothing is sent).</summary>
+    public const int ClientClosedRequest = 499;
+
     public async ValueTask<bool> TryHandleAsync(HttpContext http, Exception exception, CancellationToken ct)
     {
-        if (exception is OperationCanceledException && http.RequestAborted.IsCancellationRequested)
+        if (exception is OperationCanceledException or IOException && http.RequestAborted.IsCancellationRequested)
         {
             // The caller went away; there is nobody to answer.
             log.LogInformation("Request on {Route} abandoned by the caller", http.Request.Path.Value);
+            http.Response.StatusCode = ClientClosedRequest;
             return true;
         }
-        if (IsOverload(exception))
+        switch (DatabaseFaults.Classify(exception))
         {
-            // Too busy to get a database connection in time: say so, and when to come back, instead of a 500.
-            log.LogWarning("Database busy on {Route}: {Reason}", http.Request.Path.Value, exception.Message);
-            http.Response.Headers.RetryAfter = "1";
-            return await WriteAsync(http, StatusCodes.Status503ServiceUnavailable, "Service busy",
-                "The database could not take the request in time; nothing was stored. Retry after a second.");
+            case DatabaseFault.Unavailable:
+                // Unreachable, dropped, pool full, timed out or a lost serialization race: say so and when to come back, instead of a 500.
+                log.LogWarning("Database unavailable on {Route}: {Reason}", http.Request.Path.Value, exception.Message);
+                http.Response.Headers.RetryAfter = "1";
+                return await WriteAsync(http, StatusCodes.Status503ServiceUnavailable, "Service busy",
+                    "The database could not take the request now; nothing was stored. Retry after a second.");
+            case DatabaseFault.Conflict when DatabaseFaults.ConstraintViolation(exception) is { } violation:
+            {
+                var (field, message) = DatabaseProblems.Describe(violation, http.Request.Method);
+                log.LogInformation("Write on {Route} refused by {Constraint}", http.Request.Path.Value, violation.ConstraintName);
+                return await WriteAsync(http, StatusCodes.Status409Conflict, "Conflict", $"{field}: {message}", field);
+            }
+            case DatabaseFault.BadValue:
+                log.LogWarning("A value PostgreSQL refused reached it on {Route}: {Reason}", http.Request.Path.Value, exception.Message);
+                return await WriteAsync(http, StatusCodes.Status400BadRequest, "Invalid value",
+                    "A value in the request cannot be stored (out of range or containing characters text may not hold); nothing was stored.", "body");
         }
         if (exception is not BadHttpRequestException bad)
         {
@@ -63,43 +107,50 @@ internal sealed class BadRequestProblemHandler(IProblemDetailsService problems, 
                 "The request could not be completed; nothing was changed by the failing step. The request id identifies it in the logs.");
         }
 
-        var (field, message) = Describe(bad);
+        var (where, name, text) = Describe(bad, http);
         var status = bad.StatusCode;
         var title = status switch
         {
             StatusCodes.Status413PayloadTooLarge => "Request body too large",
             StatusCodes.Status415UnsupportedMediaType => "Unsupported media type",
-            _ => "Invalid request body",
+            _ => where switch
+            {
+                ParameterSource.Query => "Invalid query parameter",
+                ParameterSource.Route => "Invalid path parameter",
+                ParameterSource.Header => "Invalid header",
+                _ => "Invalid request body",
+            },
         };
-        var details = new ValidationProblemDetails(new Dictionary<string, string[]> { [field] = [message] })
+        var details = new ValidationProblemDetails(new Dictionary<string, string[]> { [name] = [text] })
         {
             Status = status,
             Title = title,
-            Detail = $"{field}: {message}",
+            Detail = $"{name}: {text}",
         };
         http.Response.StatusCode = status;
         return await problems.TryWriteAsync(new ProblemDetailsContext { HttpContext = http, ProblemDetails = details });
     }
 
-    private ValueTask<bool> WriteAsync(HttpContext http, int status, string title, string detail)
+    private ValueTask<bool> WriteAsync(HttpContext http, int status, string title, string detail, string? field = null)
     {
         http.Response.StatusCode = status;
-        return problems.TryWriteAsync(new ProblemDetailsContext
+        var problem = new ProblemDetails { Status = status, Title = title, Detail = detail };
+        if (field is not null)
         {
-            HttpContext = http,
-            ProblemDetails = new ProblemDetails { Status = status, Title = title, Detail = detail },
-        });
+            problem.Extensions["field"] = field;
+        }
+        return problems.TryWriteAsync(new ProblemDetailsContext { HttpContext = http, ProblemDetails = problem });
     }
 
-    /// <summary>Connection pool exhausted, connection attempt timed out, or the server out of connection slots.</summary>
-    private static bool IsOverload(Exception exception) => exception switch
+    private enum ParameterSource
     {
-        Npgsql.PostgresException pg => pg.SqlState is Npgsql.PostgresErrorCodes.TooManyConnections or Npgsql.PostgresErrorCodes.CannotConnectNow,
-        Npgsql.NpgsqlException npgsql => npgsql.InnerException is TimeoutException,
-        _ => false,
-    };
+        Body,
+        Query,
+        Route,
+        Header,
+    }
 
-    private static (string Field, string Message) Describe(BadHttpRequestException bad)
+    private static (ParameterSource Source, string Field, string Message) Describe(BadHttpRequestException bad, HttpContext http)
     {
         for (Exception? e = bad; e is not null; e = e.InnerException)
         {
@@ -110,18 +161,32 @@ internal sealed class BadRequestProblemHandler(IProblemDetailsService problems, 
                     ? "is not a known property"
                     : json.Message.Contains("NaN", StringComparison.Ordinal) || json.Message.Contains("Infinity", StringComparison.Ordinal)
                         ? "must be a finite number (NaN and Infinity are not JSON numbers)"
-                        : SimplifyJsonMessage(json);
-                return (field, message);
+                        : json.Message.Contains("Duplicate", StringComparison.OrdinalIgnoreCase)
+                            ? "appears more than once in its object"
+                            : SimplifyJsonMessage(json);
+                return (ParameterSource.Body, field, message);
             }
+        }
+        if (ParameterBinding.TryParse(bad.Message, out var parameter))
+        {
+            var source = http.Request.RouteValues.ContainsKey(parameter.Name) ? ParameterSource.Route
+                : http.Request.Headers.ContainsKey(parameter.Name) ? ParameterSource.Header
+                : ParameterSource.Query;
+            var message = parameter.Value is null
+                ? "is required"
+                : $"must be {ParameterBinding.Expected(parameter.Type)}; got '{Truncate(parameter.Value)}'";
+            return (source, parameter.Name, message);
         }
         return bad.StatusCode switch
         {
-            StatusCodes.Status413PayloadTooLarge => ("body", "is larger than this endpoint accepts"),
-            StatusCodes.Status415UnsupportedMediaType => ("Content-Type", "must be application/json"),
-            _ when bad.Message.Contains("was not provided", StringComparison.Ordinal) => ("body", "is required"),
-            _ => ("body", bad.Message),
+            StatusCodes.Status413PayloadTooLarge => (ParameterSource.Body, "body", "is larger than this endpoint accepts"),
+            StatusCodes.Status415UnsupportedMediaType => (ParameterSource.Header, "Content-Type", "must be application/json"),
+            _ when bad.Message.Contains("was not provided", StringComparison.Ordinal) => (ParameterSource.Body, "body", "is required"),
+            _ => (ParameterSource.Body, "body", TypeNames.Strip(bad.Message)),
         };
     }
+
+    private static string Truncate(string value) => value.Length <= 60 ? value : value[..60] + "…";
 
     private static string SimplifyJsonMessage(JsonException json)
     {
@@ -132,8 +197,63 @@ internal sealed class BadRequestProblemHandler(IProblemDetailsService problems, 
         {
             return "has the wrong type or an unknown value";
         }
-        return m;
+        return TypeNames.Strip(m);
     }
+}
+
+/// <summary>Reads ASP.NET Core's parameter-binding messages (<c>Failed to bind parameter "int? limit" from "abc".</c>).</summary>
+internal static partial class ParameterBinding
+{
+    public readonly record struct Failure(string Type, string Name, string? Value);
+
+    [GeneratedRegex("""^Failed to bind parameter "(?<type>[^"]+) (?<name>[^" ]+)" from "(?<value>.*)"\.$""", RegexOptions.Singleline)]
+    private static partial Regex FailedToBind();
+
+    [GeneratedRegex("""^Required parameter "(?<type>[^"]+) (?<name>[^" ]+)" was not provided""")]
+    private static partial Regex NotProvided();
+
+    public static bool TryParse(string message, out Failure failure)
+    {
+        var m = FailedToBind().Match(message);
+        if (m.Success)
+        {
+            failure = new Failure(m.Groups["type"].Value, m.Groups["name"].Value, m.Groups["value"].Value);
+            return true;
+        }
+        m = NotProvided().Match(message);
+        if (m.Success && !m.Groups["type"].Value.Contains("Request", StringComparison.Ordinal))
+        {
+            failure = new Failure(m.Groups["type"].Value, m.Groups["name"].Value, null);
+            return true;
+        }
+        failure = default;
+        return false;
+    }
+
+    /// <summary>What a value of a .NET type looks like, in words (never the type's name).</summary>
+    public static string Expected(string type) => type.TrimEnd('?') switch
+    {
+        "int" or "long" or "short" or "Int32" or "Int64" => "a whole number",
+        "double" or "float" or "decimal" or "Double" => "a number",
+        "bool" or "Boolean" => "true or false",
+        "Guid" => "an id (UUID)",
+        "DateOnly" => "a date as yyyy-MM-dd",
+        "DateTimeOffset" or "DateTime" => "an ISO 8601 instant with an offset, e.g. 2026-03-01T02:30:00Z",
+        "TimeSpan" => "a duration as hh:mm:ss",
+        _ => "a value of the documented form",
+    };
+}
+
+/// <summary>Removes .NET type names from messages that reach callers.</summary>
+public static partial class TypeNames
+{
+    [GeneratedRegex(@"\s*(for|of|to) type '[^']*'")]
+    private static partial Regex OfType();
+
+    [GeneratedRegex(@"\b(System|Microsoft|Triage|Npgsql)(\.[A-Za-z_][A-Za-z0-9_`]*)+(\[[^\]]*\])?")]
+    private static partial Regex Qualified();
+
+    public static string Strip(string message) => Qualified().Replace(OfType().Replace(message, ""), "a value");
 }
 
 /// <summary>Converts System.Text.Json paths (<c>$.sites[0].name</c>) to field names (<c>sites[0].name</c>).</summary>

@@ -35,11 +35,22 @@ public static class ETags
 {
     public static string Of(int version) => $"\"{version}\"";
 
-    /// <summary>Parses <c>If-Match</c>; false when absent or not one of our tags.</summary>
+    /// <summary>What <see cref="TryParseIfMatch"/> returns for <c>If-Match: *</c>: any current version matches (RFC 9110 §13.1.1).</summary>
+    public const int AnyVersion = -1;
+
+    /// <summary>The version a conditional write expects: the current one for <c>If-Match: *</c>, else the one sent.</summary>
+    public static int Expected(int ifMatch, int current) => ifMatch == AnyVersion ? current : ifMatch;
+
+    /// <summary>Parses <c>If-Match</c>; false when absent or not one of our tags. <c>*</c> gives <see cref="AnyVersion"/>.</summary>
     public static bool TryParseIfMatch(HttpRequest request, out int version)
     {
         version = 0;
         var raw = request.Headers.IfMatch.ToString().Trim();
+        if (raw == "*")
+        {
+            version = AnyVersion;
+            return true;
+        }
         if (raw.StartsWith("W/", StringComparison.Ordinal))
         {
             raw = raw[2..];

@@ -3,14 +3,22 @@ namespace Triage.Api.Jobs;
 /// <summary>Progress of a job: fraction done (0…1) and a short note of the current step.</summary>
 public readonly record struct JobProgress(double Fraction, string? Note = null);
 
-/// <summary>Runs one kind of durable job. Input and result are JSON documents.</summary>
+/// <summary>One run of a claimed job: its id (which the result carries), its input JSON and the attempt number (1, 2…).</summary>
+public sealed record JobRun(Guid JobId, string Kind, string InputJson, int Attempt);
+
+/// <summary>
+/// Runs one kind of durable job. Input and result are JSON documents. A handler that stores a
+/// result row runs exactly once in effect: it first returns the result already stored under
+/// <see cref="JobRun.JobId"/> if there is one, stores its row with the job id (unique), and
+/// completes the job in the same transaction (<c>JobStore.CompleteWithinAsync</c>).
+/// </summary>
 public interface IJobHandler
 {
     /// <summary>The job kind this handler runs (e.g. <c>calibration</c>).</summary>
     string Kind { get; }
 
-    /// <summary>Does the work; throws <see cref="JobInputException"/> for input it cannot use.</summary>
-    Task<string> RunAsync(string inputJson, IProgress<JobProgress> progress, CancellationToken ct);
+    /// <summary>Does the work and returns the result JSON; throws <see cref="JobInputException"/> for input it cannot use.</summary>
+    Task<string> RunAsync(JobRun run, IProgress<JobProgress> progress, CancellationToken ct);
 }
 
 /// <summary>A job whose input turned out unusable: it fails with this message, not with a stack trace.</summary>
@@ -27,4 +35,7 @@ public sealed record JobOptions
 
     /// <summary>A running job silent for this long lost its worker (default 60 s).</summary>
     public TimeSpan StaleAfter { get; init; } = TimeSpan.FromSeconds(60);
+
+    /// <summary>How long the worker keeps retrying to record a finished job's end while the database is away (default 2 min).</summary>
+    public TimeSpan FinishRetryFor { get; init; } = TimeSpan.FromMinutes(2);
 }

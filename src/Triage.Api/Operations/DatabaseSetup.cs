@@ -13,6 +13,55 @@ public sealed record TriageOptions
     public bool MigrateOnStart { get; init; }
 }
 
+/// <summary>Database limits of the service's connections (section <c>Triage:Database</c>).</summary>
+public sealed record DatabaseLimits
+{
+    /// <summary>
+    /// Longest a single statement may run before PostgreSQL cancels it (default 10 s; 0 = no limit).
+    /// The request then answers 503 with Retry-After instead of holding a pooled connection.
+    /// </summary>
+    public double StatementTimeoutSeconds { get; init; } = 10;
+
+    /// <summary>Longest a statement waits for a lock (default 3 s; 0 = no limit), so one held table lock cannot starve the pool.</summary>
+    public double LockTimeoutSeconds { get; init; } = 3;
+
+    /// <summary>Longest a request waits for a pooled connection or a new one, unless the connection string sets <c>Timeout</c> (default 15 s, Npgsql's own).</summary>
+    public int ConnectionWaitSeconds { get; init; } = 15;
+
+    /// <summary>Longest the readiness check waits for the database before it reports unhealthy (default 2 s).</summary>
+    public double ReadyCheckSeconds { get; init; } = 2;
+
+    /// <summary>
+    /// The connection string with these limits where it is silent: <c>statement_timeout</c> and
+    /// <c>lock_timeout</c> as server options, the pool wait as <c>Timeout</c>.
+    /// </summary>
+    public string Apply(string connectionString)
+    {
+        var b = new NpgsqlConnectionStringBuilder(connectionString);
+        if (string.IsNullOrWhiteSpace(b.Options))
+        {
+            var options = new List<string>();
+            if (StatementTimeoutSeconds > 0)
+            {
+                options.Add($"-c statement_timeout={(int)Math.Round(StatementTimeoutSeconds * 1000)}");
+            }
+            if (LockTimeoutSeconds > 0)
+            {
+                options.Add($"-c lock_timeout={(int)Math.Round(LockTimeoutSeconds * 1000)}");
+            }
+            b.Options = options.Count == 0 ? null : string.Join(' ', options);
+        }
+        if (!HasKey(connectionString, "Timeout"))
+        {
+            b.Timeout = ConnectionWaitSeconds;
+        }
+        return b.ConnectionString;
+    }
+
+    private static bool HasKey(string cs, string key) =>
+        cs.Split(';').Any(part => string.Equals(part.Split('=')[0].Trim(), key, StringComparison.OrdinalIgnoreCase));
+}
+
 public static class DatabaseSetup
 {
     /// <summary>Environment variable holding a first admin key, registered at start when no admin key exists.</summary>
@@ -24,7 +73,9 @@ public static class DatabaseSetup
         var cs = config.GetConnectionString("Triage")
             ?? Environment.GetEnvironmentVariable(TriageDataSource.EnvironmentVariable)
             ?? TriageDataSource.LocalDefault;
-        services.AddSingleton(_ => TriageDataSource.Create(cs));
+        var limits = config.GetSection("Triage:Database").Get<DatabaseLimits>() ?? new DatabaseLimits();
+        services.AddSingleton(limits);
+        services.AddSingleton(_ => TriageDataSource.Create(limits.Apply(cs)));
         services.AddHealthChecks().AddCheck<DatabaseReadyCheck>("database", tags: ["ready"]);
         return services;
     }
@@ -61,20 +112,27 @@ public static class DatabaseSetup
 }
 
 /// <summary>Ready when the database answers and carries every migration this build ships.</summary>
-internal sealed class DatabaseReadyCheck(NpgsqlDataSource data) : IHealthCheck
+internal sealed class DatabaseReadyCheck(NpgsqlDataSource data, DatabaseLimits limits) : IHealthCheck
 {
     public async Task<HealthCheckResult> CheckHealthAsync(HealthCheckContext context, CancellationToken ct = default)
     {
+        // Bounded: a full pool or a held lock makes the service unready quickly instead of hanging the probe.
+        using var bounded = CancellationTokenSource.CreateLinkedTokenSource(ct);
+        bounded.CancelAfter(TimeSpan.FromSeconds(limits.ReadyCheckSeconds));
         try
         {
-            var version = await MigrationRunner.CurrentVersionAsync(data, ct);
+            var version = await MigrationRunner.CurrentVersionAsync(data, bounded.Token);
             return version >= MigrationRunner.LatestVersion
                 ? HealthCheckResult.Healthy($"migration {version}")
                 : HealthCheckResult.Unhealthy($"database at migration {version}, this build needs {MigrationRunner.LatestVersion}; run 'triage db migrate'");
         }
-        catch (Exception e) when (e is NpgsqlException or TimeoutException or System.Net.Sockets.SocketException)
+        catch (OperationCanceledException) when (bounded.IsCancellationRequested && !ct.IsCancellationRequested)
         {
-            return HealthCheckResult.Unhealthy("database unreachable: " + e.GetType().Name);
+            return HealthCheckResult.Unhealthy($"database did not answer within {limits.ReadyCheckSeconds} s");
+        }
+        catch (Exception e) when (e is NpgsqlException or TimeoutException or System.Net.Sockets.SocketException || Triage.Storage.DatabaseFaults.IsUnavailable(e))
+        {
+            return HealthCheckResult.Unhealthy("database unreachable");
         }
     }
 }

@@ -14,6 +14,7 @@ public static class OperationsSetup
     {
         builder.Services.AddSerilog((services, lc) => lc
             .ReadFrom.Configuration(builder.Configuration)
+            .ReadFrom.Services(services) // extra sinks registered as services (the tests' capture)
             .Enrich.FromLogContext()
             .WriteTo.Console(new CompactJsonFormatter()));
         return builder;
@@ -40,6 +41,8 @@ public static class OperationsSetup
     {
         o.PropertyNamingPolicy = JsonNamingPolicy.CamelCase;
         o.UnmappedMemberHandling = JsonUnmappedMemberHandling.Disallow;
+        o.AllowDuplicateProperties = false;
+        o.Converters.Add(new Triage.Api.Errors.CleanTextConverter());
         o.NumberHandling = JsonNumberHandling.Strict;
         o.Converters.Add(new JsonStringEnumConverter(JsonNamingPolicy.KebabCaseLower, allowIntegerValues: false));
     }
@@ -49,6 +52,13 @@ public static class OperationsSetup
         app.UseSerilogRequestLogging(o =>
         {
             o.MessageTemplate = "HTTP {RequestMethod} {Route} answered {StatusCode} in {Elapsed:0.0} ms";
+            // This host's logger, not the process-wide static one (several hosts share a test process).
+            o.Logger = app.Services.GetService<Serilog.ILogger>()?.ForContext(Serilog.Core.Constants.SourceContextPropertyName, "Serilog.AspNetCore.RequestLoggingMiddleware");
+            // Refusals inside a failed-authentication burst are logged by the burst, not one line each.
+            o.GetLevel = (http, _, exception) =>
+                http.Items.ContainsKey(FailedAuthenticationLimit.QuietItem) ? Serilog.Events.LogEventLevel.Verbose
+                : exception is not null || http.Response.StatusCode >= 500 ? Serilog.Events.LogEventLevel.Error
+                : Serilog.Events.LogEventLevel.Information;
             o.EnrichDiagnosticContext = (diag, http) =>
             {
                 diag.Set("RequestId", http.TraceIdentifier);
@@ -65,8 +75,9 @@ public static class OperationsSetup
 
     public static WebApplication MapOperations(this WebApplication app)
     {
-        app.MapHealthChecks("/health/live", new HealthCheckOptions { Predicate = _ => false }).WithTags("Operations");
-        app.MapHealthChecks("/health/ready", new HealthCheckOptions { Predicate = c => c.Tags.Contains("ready") }).WithTags("Operations");
+        // Liveness never touches the database; neither health check ever authenticates (a stray Authorization header is ignored).
+        app.MapHealthChecks("/health/live", new HealthCheckOptions { Predicate = _ => false }).WithTags("Operations").AllowAnonymous();
+        app.MapHealthChecks("/health/ready", new HealthCheckOptions { Predicate = c => c.Tags.Contains("ready") }).WithTags("Operations").AllowAnonymous();
         app.MapOpenApi("/openapi/{documentName}.json");
         return app;
     }

@@ -48,9 +48,13 @@ public static class PlanEndpoints
     {
         var checks = new FieldChecks();
         DateOnly night = default;
-        if (request.Night is null || !DateOnly.TryParseExact(request.Night, "yyyy-MM-dd", CultureInfo.InvariantCulture, DateTimeStyles.None, out night))
+        if (request.Night is null || !Ranges.TryParseNight(request.Night, out night))
         {
-            checks.Fail("night", "is required as YYYY-MM-DD (the local date of the evening the night starts)");
+            checks.Fail("night", $"is required as {Ranges.DateRule} (the local date of the evening the night starts)");
+        }
+        else if (request.FromUtc is { } fromUtc && (fromUtc < Ranges.NightSpan(night).From || fromUtc >= Ranges.NightSpan(night).To))
+        {
+            checks.Fail("fromUtc", $"must fall inside the night of {night:yyyy-MM-dd}: from {Ranges.NightSpan(night).From:yyyy-MM-dd'T'HH:mm'Z'} to before {Ranges.NightSpan(night).To:yyyy-MM-dd'T'HH:mm'Z'}");
         }
         var objective = checks.Choice("objective", request.Objective, Objectives, PlanObjective.Accuracy);
         var limit = request.TimeLimitSeconds is null ? 5 : checks.Number("timeLimitSeconds", request.TimeLimitSeconds, 0, 300, minExclusive: true);
@@ -151,11 +155,11 @@ public static class PlanEndpoints
     internal static bool TryNight(string text, out DateOnly night, out ProblemHttpResult problem)
     {
         problem = null!;
-        if (DateOnly.TryParseExact(text, "yyyy-MM-dd", CultureInfo.InvariantCulture, DateTimeStyles.None, out night))
+        if (Ranges.TryParseNight(text, out night))
         {
             return true;
         }
-        problem = Problems.BadQuery("night", $"must be a date as YYYY-MM-DD; got '{text}'");
+        problem = Problems.BadQuery("night", $"must be {Ranges.DateRule}; got '{text}'");
         return false;
     }
 }

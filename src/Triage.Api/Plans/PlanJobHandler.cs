@@ -7,6 +7,7 @@ using Triage.Learning;
 using Triage.Scheduling;
 using Triage.Storage.Calibrations;
 using Triage.Storage.Candidates;
+using Triage.Storage.Jobs;
 using Triage.Storage.Plans;
 using Triage.Storage.Roster;
 
@@ -29,10 +30,16 @@ public sealed class PlanJobHandler(
 {
     public string Kind => PlanEndpoints.PlanJobKind;
 
-    public async Task<string> RunAsync(string inputJson, IProgress<JobProgress> progress, CancellationToken ct)
+    public async Task<string> RunAsync(JobRun run, IProgress<JobProgress> progress, CancellationToken ct)
     {
-        var input = JsonSerializer.Deserialize<PlanJobInput>(inputJson, Triage.Api.Operations.OperationsSetup.JobJson)
+        var input = JsonSerializer.Deserialize<PlanJobInput>(run.InputJson, Triage.Api.Operations.OperationsSetup.JobJson)
             ?? throw new JobInputException("The job input is empty.");
+        if (await plans.FindByJobAsync(run.JobId, ct) is { } stored)
+        {
+            // An earlier run of this job stored its version (and completed the job in that transaction, unless it ran before that rule).
+            log.LogInformation("Job {JobId} already stored version {Version} of {Night}; not planned again", run.JobId, stored.Version, stored.Night);
+            return ResultJson(stored);
+        }
         var phases = new PhaseTimer(progress, clock);
         progress = phases;
         progress.Report(new JobProgress(0.02, "reading the active calibration"));
@@ -84,21 +91,47 @@ public sealed class PlanJobHandler(
         plan = KeepExecuting(plan, kept);
 
         progress.Report(new JobProgress(0.95, "storing the version"));
-        var row = await plans.AddVersionAsync(new NewPlanVersion(
-            input.Night, input.FromUtc ?? clock.GetUtcNow(), input.Objective.ToString().ToLowerInvariant(), plan.Summary.Status.ToString().ToLowerInvariant(),
-            plan.Summary.ExpectedCorrectIdentifications, plan.Summary.Assigned, null, active.Row.Id, PlanJson.Serialize(plan)), clock.GetUtcNow(), ct);
-        await MarkPlannedAsync(plan, ct);
+        var scheduled = plan.Spectrographs.SelectMany(q => q.Queue)
+            .Select(e => Guid.TryParse(e.CandidateId, out var g) ? g : Guid.Empty).Where(g => g != Guid.Empty).Distinct().ToList();
+        PlanVersionRow row;
+        try
+        {
+            // The version, the candidates it schedules moving to planned, and the job's completion commit together.
+            row = await plans.AddVersionAsync(new NewPlanVersion(
+                input.Night, input.FromUtc ?? clock.GetUtcNow(), input.Objective.ToString().ToLowerInvariant(), plan.Summary.Status.ToString().ToLowerInvariant(),
+                plan.Summary.ExpectedCorrectIdentifications, plan.Summary.Assigned, run.JobId, active.Row.Id, PlanJson.Serialize(plan)), clock.GetUtcNow(),
+                async (conn, tx, version, token) =>
+                {
+                    foreach (var waiting in CandidateLifecycle.Waiting)
+                    {
+                        await CandidateStore.MoveWithinAsync(conn, tx, scheduled, waiting, CandidateState.Planned, "planner",
+                            $"in plan version {version.Version} of {version.Night:yyyy-MM-dd}", clock.GetUtcNow(), token);
+                    }
+                    await JobStore.CompleteWithinAsync(conn, tx, run.JobId, ResultJson(version), clock.GetUtcNow(), token);
+                }, ct);
+        }
+        catch (Npgsql.PostgresException e) when (e.ConstraintName == PlanStore.OnePerJobConstraint)
+        {
+            // Another run of the same job (its heartbeat went stale) stored first: that version is the result.
+            if (await plans.FindByJobAsync(run.JobId, CancellationToken.None) is not { } raced)
+            {
+                throw;
+            }
+            return ResultJson(raced);
+        }
         log.LogInformation("Planned {Assigned} of {Candidates} candidates for {Night} as version {Version}; seconds per step: {Steps}",
             plan.Summary.Assigned, plan.Summary.Candidates, input.Night, row.Version, phases.Summary());
-        return JsonSerializer.Serialize(new
-        {
-            night = input.Night.ToString("yyyy-MM-dd", System.Globalization.CultureInfo.InvariantCulture),
-            version = row.Version,
-            url = $"/api/plans/{input.Night:yyyy-MM-dd}?version={row.Version}",
-            assigned = plan.Summary.Assigned,
-            expectedCorrectIdentifications = plan.Summary.ExpectedCorrectIdentifications,
-        });
+        return ResultJson(row);
     }
+
+    private static string ResultJson(PlanVersionRow row) => JsonSerializer.Serialize(new
+    {
+        night = row.Night.ToString("yyyy-MM-dd", System.Globalization.CultureInfo.InvariantCulture),
+        version = row.Version,
+        url = $"/api/plans/{row.Night:yyyy-MM-dd}?version={row.Version}",
+        assigned = row.Assigned,
+        expectedCorrectIdentifications = row.ExpectedIdentifications,
+    });
 
     /// <summary>
     /// The bounded pool: a light row per waiting candidate (new, unsettled or planned; those executing at the
@@ -153,18 +186,6 @@ public sealed class PlanJobHandler(
             Spectrographs = queues,
             Notes = [.. plan.Notes, $"{kept.Count} observation(s) executing at the replanning instant were kept."],
         };
-    }
-
-    /// <summary>Candidates in the new version move from new or unsettled to planned (the lifecycle's own rules decide).</summary>
-    private async Task MarkPlannedAsync(NightPlan plan, CancellationToken ct)
-    {
-        foreach (var id in plan.Spectrographs.SelectMany(q => q.Queue).Select(e => e.CandidateId))
-        {
-            if (Guid.TryParse(id, out var guid))
-            {
-                await candidates.TransitionAsync(guid, CandidateState.Planned, CandidateLifecycle.Waiting.Contains, "planner", "in a plan version", clock.GetUtcNow(), ct);
-            }
-        }
     }
 }
 

@@ -108,6 +108,7 @@ public static class RosterEndpoints
         {
             return Problems.NotFound("id", $"No site {id}.");
         }
+        expected = ETags.Expected(expected, current.Version);
         var caller = Caller.From(user);
         if (!caller.Manages(current.Value.Observatory))
         {
@@ -144,6 +145,7 @@ public static class RosterEndpoints
         {
             return Problems.NotFound("id", $"No site {id}.");
         }
+        expected = ETags.Expected(expected, current.Version);
         if (!Caller.From(user).Manages(current.Value.Observatory))
         {
             return Problems.Forbidden("id", "This site belongs to another observatory.");
@@ -240,6 +242,7 @@ public static class RosterEndpoints
         {
             return Problems.NotFound("id", $"No spectrograph {id}.");
         }
+        expected = ETags.Expected(expected, current.Version);
         var caller = Caller.From(user);
         var site = await store.GetSiteAsync(current.Value.SiteId, ct);
         if (site is null || !caller.Manages(site.Value.Observatory))
@@ -286,6 +289,7 @@ public static class RosterEndpoints
         {
             return Problems.NotFound("id", $"No spectrograph {id}.");
         }
+        expected = ETags.Expected(expected, current.Version);
         var site = await store.GetSiteAsync(current.Value.SiteId, ct);
         if (site is null || !Caller.From(user).Manages(site.Value.Observatory))
         {

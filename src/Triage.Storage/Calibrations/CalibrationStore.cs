@@ -27,7 +27,15 @@ public sealed class CalibrationStore(NpgsqlDataSource dataSource)
         """;
 
     /// <summary>Stores a calibration; it becomes active when <paramref name="activate"/> or when none is active yet.</summary>
-    public async Task<CalibrationRow> AddAsync(NewCalibration c, bool activate, DateTimeOffset now, CancellationToken ct = default)
+    public Task<CalibrationRow> AddAsync(NewCalibration c, bool activate, DateTimeOffset now, CancellationToken ct = default) =>
+        AddAsync(c, activate, now, null, ct);
+
+    /// <summary>
+    /// Stores a calibration and runs <paramref name="within"/> in the same transaction. One
+    /// carrying a job id that already has one fails with a unique violation on
+    /// <see cref="OnePerJobConstraint"/> (see <see cref="FindByJobAsync"/>).
+    /// </summary>
+    public async Task<CalibrationRow> AddAsync(NewCalibration c, bool activate, DateTimeOffset now, WithinTransaction<CalibrationRow>? within, CancellationToken ct = default)
     {
         var id = Guid.NewGuid();
         await using var conn = await dataSource.OpenConnectionAsync(ct);
@@ -56,8 +64,25 @@ public sealed class CalibrationStore(NpgsqlDataSource dataSource)
             cmd.Parameters.AddWithValue("active", makeActive);
             await cmd.ExecuteNonQueryAsync(ct);
         }
+        var row = new CalibrationRow(id, now, c.Source, c.Synthetic, c.LibraryFingerprint, c.CodeVersion, c.JobId, makeActive);
+        if (within is not null)
+        {
+            await within(conn, tx, row, ct);
+        }
         await tx.CommitAsync(ct);
-        return new CalibrationRow(id, now, c.Source, c.Synthetic, c.LibraryFingerprint, c.CodeVersion, c.JobId, makeActive);
+        return row;
+    }
+
+    /// <summary>The unique index that keeps one calibration per job.</summary>
+    public const string OnePerJobConstraint = "calibrations_one_per_job";
+
+    /// <summary>The calibration a job stored, if it stored one.</summary>
+    public async Task<CalibrationRow?> FindByJobAsync(Guid jobId, CancellationToken ct = default)
+    {
+        await using var conn = await dataSource.OpenConnectionAsync(ct);
+        var r = await conn.QuerySingleOrDefaultAsync<Record>(new CommandDefinition(
+            $"SELECT {Columns} FROM calibrations WHERE job_id = @jobId", new { jobId }, cancellationToken: ct));
+        return r?.ToRow();
     }
 
     /// <summary>Makes <paramref name="id"/> the active calibration; false when it does not exist.</summary>

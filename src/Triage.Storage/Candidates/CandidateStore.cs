@@ -446,12 +446,19 @@ public sealed partial class CandidateStore(NpgsqlDataSource dataSource)
         }
     }
 
-    /// <summary>Unit vector of an ICRS direction (for cone searches).</summary>
+    /// <summary>
+    /// Unit vector of an ICRS direction (for cone searches). Components smaller than 1e-100 are
+    /// stored as 0: PostgreSQL raises an error when a product in the cone test underflows (a
+    /// declination of 1e-320° once made every cone search over that row fail), and no position
+    /// differs measurably at that scale.
+    /// </summary>
     public static (double X, double Y, double Z) UnitVector(double raDeg, double decDeg)
     {
         double ra = raDeg * Math.PI / 180, dec = decDeg * Math.PI / 180;
-        return (Math.Cos(dec) * Math.Cos(ra), Math.Cos(dec) * Math.Sin(ra), Math.Sin(dec));
+        return (Flush(Math.Cos(dec) * Math.Cos(ra)), Flush(Math.Cos(dec) * Math.Sin(ra)), Flush(Math.Sin(dec)));
     }
+
+    private static double Flush(double component) => Math.Abs(component) < 1e-100 ? 0 : component;
 
     // ---- queries --------------------------------------------------------------------------
 
@@ -682,6 +689,35 @@ public sealed partial class CandidateStore(NpgsqlDataSource dataSource)
         await tx.CommitAsync(ct);
         return (from, true);
     }
+
+    private const string MoveManySql = """
+        WITH old AS (
+            SELECT id FROM candidates WHERE id = ANY(@ids) AND state = @from ORDER BY id FOR UPDATE
+        ), moved AS (
+            UPDATE candidates c SET state = @to, version = c.version + 1, updated_at = @now
+            FROM old WHERE c.id = old.id
+            RETURNING c.id
+        )
+        INSERT INTO candidate_events (candidate_id, at, kind, from_state, to_state, actor, detail)
+        SELECT id, @now, 'transition', @from, @to, @actor, @detail FROM moved
+        """;
+
+    /// <summary>
+    /// Moves the candidates among <paramref name="ids"/> that are in state <paramref name="from"/> to
+    /// <paramref name="to"/> inside the caller's transaction (e.g. the one storing the plan version that
+    /// schedules them), recording one event each. Returns how many moved.
+    /// </summary>
+    public static Task<int> MoveWithinAsync(NpgsqlConnection conn, NpgsqlTransaction tx, IReadOnlyCollection<Guid> ids,
+        CandidateState from, CandidateState to, string actor, string? reason, DateTimeOffset now, CancellationToken ct = default) =>
+        conn.ExecuteAsync(new CommandDefinition(MoveManySql, new
+        {
+            ids = ids.ToArray(),
+            from = CandidateLifecycle.Name(from),
+            to = CandidateLifecycle.Name(to),
+            now = now.UtcDateTime,
+            actor,
+            detail = reason,
+        }, tx, cancellationToken: ct));
 
     private static Task InsertEventAsync(NpgsqlConnection conn, NpgsqlTransaction tx, Guid id, DateTimeOffset now, string kind,
         string from, CandidateState to, string actor, string? detail, CancellationToken ct) =>

@@ -122,6 +122,35 @@ public sealed class JobStore(NpgsqlDataSource dataSource)
         await cmd.ExecuteNonQueryAsync(ct);
     }
 
+    /// <summary>
+    /// Completes a job inside the transaction that stores its result, so the result and the
+    /// completion commit together or not at all. Also completes a job that was requeued meanwhile
+    /// (its heartbeat went stale while it still ran), so it is not run again. False when the job
+    /// had already ended.
+    /// </summary>
+    public static async Task<bool> CompleteWithinAsync(NpgsqlConnection conn, NpgsqlTransaction tx, Guid id, string resultJson, DateTimeOffset now, CancellationToken ct = default)
+    {
+        await using var cmd = new NpgsqlCommand("""
+            UPDATE jobs SET status = 'succeeded', result = @result, progress = 1, eta_seconds = 0, finished_at = @now, heartbeat_at = @now,
+                progress_note = NULL
+            WHERE id = @id AND status IN ('queued', 'running')
+            """, conn, tx);
+        cmd.Parameters.AddWithValue("id", id);
+        cmd.Parameters.Add(new NpgsqlParameter("result", NpgsqlDbType.Jsonb) { Value = resultJson });
+        cmd.Parameters.AddWithValue("now", now);
+        return await cmd.ExecuteNonQueryAsync(ct) == 1;
+    }
+
+    /// <summary>Puts a running job back in the queue (the database failed under it); false when it was no longer running.</summary>
+    public async Task<bool> RequeueAsync(Guid id, string note, CancellationToken ct = default)
+    {
+        await using var conn = await dataSource.OpenConnectionAsync(ct);
+        return await conn.ExecuteAsync(new CommandDefinition("""
+            UPDATE jobs SET status = 'queued', progress_note = @note, eta_seconds = NULL
+            WHERE id = @id AND status = 'running'
+            """, new { id, note }, cancellationToken: ct)) == 1;
+    }
+
     public async Task FailAsync(Guid id, string error, DateTimeOffset now, CancellationToken ct = default)
     {
         await using var conn = await dataSource.OpenConnectionAsync(ct);

@@ -48,7 +48,15 @@ public sealed partial class PlanStore(NpgsqlDataSource dataSource)
         """;
 
     /// <summary>Stores a new version atomically; versions of one night are numbered 1, 2, 3… without gaps.</summary>
-    public async Task<PlanVersionRow> AddVersionAsync(NewPlanVersion plan, DateTimeOffset now, CancellationToken ct = default)
+    public Task<PlanVersionRow> AddVersionAsync(NewPlanVersion plan, DateTimeOffset now, CancellationToken ct = default) =>
+        AddVersionAsync(plan, now, null, ct);
+
+    /// <summary>
+    /// Stores a new version and runs <paramref name="within"/> in the same transaction. A version
+    /// carrying a job id that already has one fails with a unique violation on
+    /// <see cref="OnePerJobConstraint"/> (see <see cref="FindByJobAsync"/>).
+    /// </summary>
+    public async Task<PlanVersionRow> AddVersionAsync(NewPlanVersion plan, DateTimeOffset now, WithinTransaction<PlanVersionRow>? within, CancellationToken ct = default)
     {
         await using var conn = await dataSource.OpenConnectionAsync(ct);
         await using var tx = await conn.BeginTransactionAsync(ct);
@@ -72,9 +80,26 @@ public sealed partial class PlanStore(NpgsqlDataSource dataSource)
         cmd.Parameters.AddWithValue("calibration", plan.CalibrationId.HasValue ? plan.CalibrationId.Value : DBNull.Value);
         cmd.Parameters.Add(new NpgsqlParameter("body", NpgsqlDbType.Jsonb) { Value = plan.BodyJson });
         var version = (int)(await cmd.ExecuteScalarAsync(ct))!;
-        await tx.CommitAsync(ct);
-        return new PlanVersionRow(id, plan.Night, version, now, plan.PlannedFrom, plan.Objective, plan.SolverStatus,
+        var row = new PlanVersionRow(id, plan.Night, version, now, plan.PlannedFrom, plan.Objective, plan.SolverStatus,
             plan.ExpectedIdentifications, plan.Assigned, plan.JobId, plan.CalibrationId);
+        if (within is not null)
+        {
+            await within(conn, tx, row, ct);
+        }
+        await tx.CommitAsync(ct);
+        return row;
+    }
+
+    /// <summary>The unique index that keeps one version per job.</summary>
+    public const string OnePerJobConstraint = "plans_one_per_job";
+
+    /// <summary>The version a job stored, if it stored one.</summary>
+    public async Task<PlanVersionRow?> FindByJobAsync(Guid jobId, CancellationToken ct = default)
+    {
+        await using var conn = await dataSource.OpenConnectionAsync(ct);
+        var r = await conn.QuerySingleOrDefaultAsync<Record>(new CommandDefinition(
+            $"SELECT {Columns} FROM plans WHERE job_id = @jobId", new { jobId }, cancellationToken: ct));
+        return r?.ToRow();
     }
 
     public async Task<IReadOnlyList<PlanVersionRow>> ListVersionsAsync(DateOnly night, CancellationToken ct = default)

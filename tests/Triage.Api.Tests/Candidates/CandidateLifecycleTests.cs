@@ -17,7 +17,9 @@ public sealed class CandidateLifecycleTests(TriageApiFactory api)
         var posted = await broker.PostAsync("/api/candidates/batches", Bodies.Json(CandidateBodies.Batch(candidate)));
         Assert.Equal(HttpStatusCode.OK, posted.StatusCode);
         var reader = api.ClientWith(await api.KeyAsync(Scope.Scheduler));
-        var page = await (await reader.GetAsync($"/api/candidates?raDeg={ra}&decDeg=-23.5&radiusDeg=0.0001&limit=1000")).ReadObjectAsync();
+        var listed = await reader.GetAsync($"/api/candidates?raDeg={ra}&decDeg=-23.5&radiusDeg=0.0001&limit=1000");
+        Assert.True(listed.IsSuccessStatusCode, await listed.Content.ReadAsStringAsync());
+        var page = await listed.ReadObjectAsync();
         return (string)page["items"]!.AsArray().Single(i => (string)i!["brokerCandidateId"]! == (string)candidate["id"]!)!["id"]!;
     }
 

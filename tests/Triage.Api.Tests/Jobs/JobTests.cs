@@ -28,9 +28,9 @@ public sealed class JobsFactory : TriageApiFactory
     {
         public string Kind => "test-count";
 
-        public async Task<string> RunAsync(string inputJson, IProgress<JobProgress> progress, CancellationToken ct)
+        public async Task<string> RunAsync(JobRun run, IProgress<JobProgress> progress, CancellationToken ct)
         {
-            var n = JsonDocument.Parse(inputJson).RootElement.GetProperty("upTo").GetInt32();
+            var n = JsonDocument.Parse(run.InputJson).RootElement.GetProperty("upTo").GetInt32();
             var sum = 0;
             for (var i = 1; i <= n; i++)
             {
@@ -46,7 +46,7 @@ public sealed class JobsFactory : TriageApiFactory
     {
         public string Kind => "test-refuse";
 
-        public Task<string> RunAsync(string inputJson, IProgress<JobProgress> progress, CancellationToken ct) =>
+        public Task<string> RunAsync(JobRun run, IProgress<JobProgress> progress, CancellationToken ct) =>
             throw new JobInputException("the library folder holds no spectra");
     }
 }

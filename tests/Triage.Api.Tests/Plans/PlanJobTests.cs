@@ -21,53 +21,9 @@ public sealed class PlanJobTests(IsolatedDatabaseFactory api) : IClassFixture<Is
 {
     private static readonly DateOnly Night = new(2026, 12, 3);
 
-    private async Task<(HttpClient Scheduler, Dictionary<string, string> ObservatoryKeys)> ArrangeAsync()
-    {
-        var now = DateTimeOffset.UtcNow;
-        var (sites, spectrographs) = RosterJson.Parse(await File.ReadAllTextAsync(Repository.File("demo", "roster.json")));
-        var roster = api.Services.GetRequiredService<RosterStore>();
-        foreach (var s in sites)
-        {
-            await roster.InsertSiteAsync(s, now);
-        }
-        foreach (var s in spectrographs)
-        {
-            await roster.InsertSpectrographAsync(s, now);
-        }
-        var observatoryKeys = new Dictionary<string, string>();
-        foreach (var s in sites)
-        {
-            observatoryKeys[s.Id.ToString()] = await api.KeyAsync(Scope.Observatory, s.Observatory);
-        }
-        await api.Services.GetRequiredService<CalibrationStore>().AddAsync(new NewCalibration(
-            "synthetic", true, null, "test", null, null, await File.ReadAllTextAsync(Repository.File("demo", "calibration.json"))), true, now);
+    private Task<(HttpClient Scheduler, Dictionary<string, string> ObservatoryKeys)> ArrangeAsync() => DemoNetwork.ArrangeAsync(api);
 
-        // The first 80 demo candidates, as a broker posts them.
-        var batch = JsonNode.Parse(await File.ReadAllTextAsync(Repository.File("demo", "candidates.json")))!.AsObject();
-        var some = new JsonArray(batch["candidates"]!.AsArray().Take(80).Select(c => c!.DeepClone()).ToArray());
-        var broker = api.ClientWith(await api.KeyAsync(Scope.Broker));
-        var posted = await broker.PostAsync("/api/candidates/batches", Bodies.Json(new JsonObject { ["candidates"] = some }));
-        Assert.True(posted.IsSuccessStatusCode, await posted.Content.ReadAsStringAsync());
-        return (api.ClientWith(await api.KeyAsync(Scope.Scheduler)), observatoryKeys);
-    }
-
-    private static async Task<JsonElement> RunJobAsync(HttpClient client, HttpResponseMessage accepted)
-    {
-        Assert.Equal(HttpStatusCode.Accepted, accepted.StatusCode);
-        var jobUrl = JsonDocument.Parse(await accepted.Content.ReadAsStringAsync()).RootElement.GetProperty("jobUrl").GetString();
-        for (var i = 0; i < 600; i++)
-        {
-            var job = JsonDocument.Parse(await client.GetStringAsync(jobUrl)).RootElement;
-            var status = job.GetProperty("status").GetString();
-            if (status == "succeeded")
-            {
-                return job.GetProperty("result");
-            }
-            Assert.True(status != "failed", job.GetProperty("error").GetString());
-            await Task.Delay(200);
-        }
-        throw new TimeoutException("the plan job did not finish");
-    }
+    private static Task<JsonElement> RunJobAsync(HttpClient client, HttpResponseMessage accepted) => DemoNetwork.RunJobAsync(client, accepted);
 
     [Fact]
     public async Task WaitingCandidates_OneBulkRead_MatchesTheOneByOneReads()

@@ -13,8 +13,19 @@ public sealed class PlanVersionTests(TriageApiFactory api)
 {
     private static int _nightOffset;
 
-    /// <summary>A night no other test uses, far in the future.</summary>
-    private static DateOnly FreshNight() => new DateOnly(2090, 1, 1).AddDays(Interlocked.Increment(ref _nightOffset) + Random.Shared.Next(0, 20000) * 50);
+    /// <summary>
+    /// A night no other test of this run uses, inside the accepted years (1901–2099); versions an
+    /// earlier run stored for it are removed first, so numbering starts at 1.
+    /// </summary>
+    private DateOnly FreshNight()
+    {
+        var night = new DateOnly(1901, 1, 1).AddDays((Interlocked.Increment(ref _nightOffset) * 7919 + Random.Shared.Next(0, 72_000)) % 72_000);
+        using var conn = api.DataSource.OpenConnection();
+        using var cmd = new Npgsql.NpgsqlCommand("DELETE FROM plans WHERE night = @night", conn);
+        cmd.Parameters.AddWithValue("night", night);
+        cmd.ExecuteNonQuery();
+        return night;
+    }
 
     private static QueueEntry Entry(string id, DateTimeOffset start, double accuracy) => new(
         id, start, start.AddMinutes(20), 900, 1.3, 19.2, 25, accuracy, 0.5, accuracy, $"best value for {id}", [], null, 0);
@@ -126,7 +137,8 @@ public sealed class PlanVersionTests(TriageApiFactory api)
     {
         var broker = api.ClientWith(await api.KeyAsync(Scope.Broker));
         Assert.Equal(403, (int)(await broker.PostAsync("/api/plans", Bodies.Raw("{\"night\":\"2026-12-03\"}"))).StatusCode);
-        await Bodies.AssertProblemNamingAsync(await broker.GetAsync("/api/plans/2101-01-01"), 404, "night");
+        await Bodies.AssertProblemNamingAsync(await broker.GetAsync("/api/plans/1900-01-02"), 404, "night");
+        await Bodies.AssertProblemNamingAsync(await broker.GetAsync("/api/plans/2101-01-01"), 400, "night");
         await Bodies.AssertProblemNamingAsync(await broker.GetAsync("/api/plans/tonight"), 400, "night");
     }
 }
