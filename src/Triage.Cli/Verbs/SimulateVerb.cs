@@ -32,6 +32,7 @@ internal static class SimulateVerb
         var nights = new Option<int>("--nights") { Description = "Nights (default 10).", DefaultValueFactory = _ => 10 };
         var seed = new Option<int>("--seed") { Description = "First seed (default 1).", DefaultValueFactory = _ => 1 };
         var seeds = new Option<int>("--seeds") { Description = "Number of seeds, seed, seed+1, ... (default 1).", DefaultValueFactory = _ => 1 };
+        var peaks = new Option<double>("--peaks-per-day") { Description = "Transients peaking per day over the sky (default 12).", DefaultValueFactory = _ => new SkySettings().PeaksPerDay };
         var clear = new Option<double>("--clear-fraction") { Description = "Probability a site is clear on a night (default 0.7).", DefaultValueFactory = _ => 0.7 };
         var noLearning = new Option<bool>("--no-learning") { Description = "Plan with the calibration only (no outcome learning)." };
         var strategies = new Option<string?>("--strategies") { Description = "Comma-separated strategy names (default all)." };
@@ -39,7 +40,7 @@ internal static class SimulateVerb
         var plots = new Option<DirectoryInfo?>("--plots") { Description = "Folder for SVG plots of the first seed." };
         var output = new Option<FileInfo>("--out") { Description = "Season JSON to write.", Required = true };
         var cmd = new Command("simulate", "Simulate a season of the roster for Triage (with and without escalation) and the rule baselines.")
-            { roster, calibration, truth, degrade, nights, seed, seeds, clear, noLearning, strategies, whatIf, plots, output };
+            { roster, calibration, truth, degrade, nights, seed, seeds, peaks, clear, noLearning, strategies, whatIf, plots, output };
         cmd.SetAction((parse, ct) =>
         {
             try
@@ -54,6 +55,7 @@ internal static class SimulateVerb
                     Nights = parse.GetValue(nights) is var n and >= 1 and <= 366 ? n : throw new FormatException("--nights: 1 to 366."),
                     ClearFraction = parse.GetValue(clear) is var c and >= 0 and <= 1 ? c : throw new FormatException("--clear-fraction: 0 to 1."),
                     LearnUnitAccuracy = !parse.GetValue(noLearning),
+                    Sky = new SkySettings { PeaksPerDay = parse.GetValue(peaks) is var pd and > 0 and <= 1000 ? pd : throw new FormatException("--peaks-per-day: above 0, at most 1000.") },
                     TruthDegradation = Degradation(parse.GetValue(degrade), units),
                     Strategies = Strategies(parse.GetValue(strategies)),
                 };
