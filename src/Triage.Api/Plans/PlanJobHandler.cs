@@ -1,6 +1,7 @@
 using System.Text.Json;
 using Triage.Api.Jobs;
 using Triage.Core.Candidates;
+using Triage.Core.Identification;
 using Triage.Core.Planning;
 using Triage.Core.Roster;
 using Triage.Learning;
@@ -83,8 +84,12 @@ public sealed class PlanJobHandler(
             .ToList();
 
         progress.Report(new JobProgress(0.4, "building the night"));
+        // The identification objective plans with each unit's calibration combined with its own outcomes.
+        var sequential = input.Objective == PlanObjective.Identification
+            ? new SequentialPlanSettings { Channels = LearnedChannels(surface, await candidates.LabelledTrialsAsync(ct)) }
+            : new SequentialPlanSettings();
         var night = NightProblemBuilder.Build(sites, spectrographs, targets, surface, input.Night, from,
-            new NightBuildSettings { Objective = input.Objective, BusyUntilUtc = busy });
+            new NightBuildSettings { Objective = input.Objective, BusyUntilUtc = busy, Sequential = sequential });
         progress.Report(new JobProgress(0.5, "solving"));
         var plan = NightPlanning.Plan(night, new SolverSettings { TimeLimitSeconds = input.TimeLimitSeconds }, ct)
             with { Night = input.Night, GeneratedUtc = clock.GetUtcNow(), Pool = pool.Report };
@@ -122,6 +127,23 @@ public sealed class PlanJobHandler(
         log.LogInformation("Planned {Assigned} of {Candidates} candidates for {Night} as version {Version}; seconds per step: {Steps}",
             plan.Summary.Assigned, plan.Summary.Candidates, input.Night, row.Version, phases.Summary());
         return ResultJson(row);
+    }
+
+    /// <summary>The labelled reports of identified candidates as trials of their units (labels the calibration knows only).</summary>
+    private static UnitOutcomes LearnedChannels(AccuracySurface surface, IReadOnlyList<LabelledTrialRow> trials)
+    {
+        var outcomes = new UnitOutcomes(surface);
+        var index = surface.Subtypes.Select((s, i) => (s, i)).ToDictionary(t => t.s, t => t.i, StringComparer.Ordinal);
+        foreach (var t in trials)
+        {
+            if (index.TryGetValue(t.Truth, out var truth) && index.TryGetValue(t.Answer, out var answer))
+            {
+                var phase = t.PhaseDays is { } p ? new PhaseBelief(p, 0) : new PhaseBelief(0, AssessedTargetForecast.UnknownPhaseSigmaDays);
+                outcomes.Add(new UnitTrial(t.SpectrographId.ToString(), t.ResolvingPower, t.Snr, phase, truth, answer));
+            }
+        }
+
+        return outcomes;
     }
 
     private static string ResultJson(PlanVersionRow row) => JsonSerializer.Serialize(new
