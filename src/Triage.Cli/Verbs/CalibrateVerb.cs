@@ -24,11 +24,15 @@ internal static class CalibrateVerb
         var model = new Option<string>("--model") { Description = $"Classifier: {string.Join(", ", SubtypeClassifiers.Names)} (default linear).", DefaultValueFactory = _ => "linear" };
         var continuum = new Option<ContinuumHandling>("--continuum") { Description = "Continuum handling (default DivideKeepColour).", DefaultValueFactory = _ => ContinuumHandling.DivideKeepColour };
         var maxBins = new Option<int>("--max-bins") { Description = "Upper bound on flux bins of the feature vector (default 200).", DefaultValueFactory = _ => new PreprocessOptions().MaxBins };
+        var defaults = new PreprocessOptions();
+        var lowBelow = new Option<double?>("--low-r-below") { Description = $"Below this R use the low-R feature choice (default {defaults.LowResolutionBelow.ToString(CultureInfo.InvariantCulture)}; 0: one choice for every R)." };
+        var lowContinuum = new Option<ContinuumHandling?>("--low-r-continuum") { Description = $"Continuum handling below --low-r-below (default {defaults.LowResolution?.Continuum.ToString() ?? "none"})." };
+        var lowMinBins = new Option<int?>("--low-r-min-bins") { Description = $"Minimum flux bins below --low-r-below (default {defaults.LowResolution?.MinBins.ToString(CultureInfo.InvariantCulture) ?? "4"})." };
         var unweighted = new Option<bool>("--unweighted") { Description = "Train without balanced class weights." };
         var taxonomy = new Option<FileInfo?>("--taxonomy") { Description = "Taxonomy file (default: the built-in one, as config/taxonomy.txt)." };
         var plots = new Option<DirectoryInfo?>("--plots") { Description = "Folder for SVG plots (recall curves per S/N, confusion heatmaps)." };
         var cmd = new Command("calibrate", "Compute per-subtype classification accuracy versus R, S/N and phase from a labelled library.")
-            { library, output, resolutions, snr, folds, seed, model, continuum, maxBins, unweighted, taxonomy, plots };
+            { library, output, resolutions, snr, folds, seed, model, continuum, maxBins, lowBelow, lowContinuum, lowMinBins, unweighted, taxonomy, plots };
         cmd.SetAction((parse, ct) =>
         {
             CalibrationSettings settings;
@@ -43,7 +47,11 @@ internal static class CalibrateVerb
                     Folds = parse.GetValue(folds) is var k and >= 2 ? k : throw new FormatException("--folds: at least 2."),
                     Seed = parse.GetValue(seed),
                     Model = SubtypeClassifiers.Names.Contains(parse.GetValue(model)) ? parse.GetValue(model)! : throw new FormatException($"--model: unknown '{parse.GetValue(model)}'."),
-                    Preprocess = new PreprocessOptions { Continuum = parse.GetValue(continuum), MaxBins = parse.GetValue(maxBins) is var mb and >= 8 ? mb : throw new FormatException("--max-bins: at least 8.") },
+                    Preprocess = LowResolutionChoice(new PreprocessOptions
+                    {
+                        Continuum = parse.GetValue(continuum),
+                        MaxBins = parse.GetValue(maxBins) is var mb and >= 8 ? mb : throw new FormatException("--max-bins: at least 8."),
+                    }, parse.GetValue(lowBelow), parse.GetValue(lowContinuum), parse.GetValue(lowMinBins)),
                     BalancedClassWeights = !parse.GetValue(unweighted),
                 };
                 tax = LibraryFiles.LoadTaxonomy(parse.GetValue(taxonomy)?.FullName);
@@ -97,6 +105,19 @@ internal static class CalibrateVerb
             return Task.FromResult(0);
         });
         return cmd;
+    }
+
+    // The low-R band: the defaults' band unless overridden; --low-r-below 0 switches it off.
+    private static PreprocessOptions LowResolutionChoice(PreprocessOptions o, double? below, ContinuumHandling? continuum, int? minBins)
+    {
+        var defaults = new PreprocessOptions();
+        double threshold = below ?? defaults.LowResolutionBelow;
+        if (threshold < 0) throw new FormatException("--low-r-below: must be ≥ 0.");
+        if (minBins is < 4) throw new FormatException("--low-r-min-bins: at least 4.");
+        if (threshold == 0) return o with { LowResolutionBelow = 0, LowResolution = null };
+        var low = (defaults.LowResolution ?? o) with { MaxBins = o.MaxBins };
+        low = low with { Continuum = continuum ?? low.Continuum, MinBins = minBins ?? low.MinBins };
+        return o with { LowResolutionBelow = threshold, LowResolution = low };
     }
 
     internal static void WritePlots(AccuracyModelDocument doc, string dir)

@@ -5,7 +5,9 @@
 // 2. Normalisation: divide by the mean flux (distance and exposure carry no class information).
 // 3. Continuum: a least-squares polynomial c(t) of low degree in t = scaled ln λ ∈ [−1, 1];
 //    features are f/c − 1 (line strengths), and optionally log(c(t_k)/c̄) at a few t_k (the
-//    colour, a low-frequency component that dividing would otherwise throw away).
+//    colour, a low-frequency component that dividing would otherwise throw away); or ln(f) per bin
+//    (LogFlux: dust and calibration tilts become additive). The choice may differ below a resolving power
+//    (PreprocessOptions.LowResolutionBelow), measured per R band in docs/calibration.md.
 // Bins outside the spectrum's coverage take the nearest covered value.
 // References:
 //  1. Blondin, S. & Tonry, J. L., "Determining the type, redshift, and age of a supernova spectrum",
@@ -24,6 +26,12 @@ public enum ContinuumHandling
 
     /// <summary>Divide, and append the continuum's colour at a few wavelengths (default).</summary>
     DivideKeepColour,
+
+    /// <summary>
+    /// ln of the mean-normalised flux per bin (all colours at once): dust and flux-calibration tilts become additive
+    /// and smooth, which a linear model can discount; measured per R band in docs/calibration.md.
+    /// </summary>
+    LogFlux,
 }
 
 /// <summary>Options of <see cref="Preprocessing"/>; defaults are the measured choices in docs/calibration.md.</summary>
@@ -49,18 +57,41 @@ public sealed record PreprocessOptions
 
     /// <summary>Colour points appended with <see cref="ContinuumHandling.DivideKeepColour"/>. Default 6.</summary>
     public int ColourPoints { get; init; } = 6;
+
+    /// <summary>
+    /// Lower bound on the number of flux bins: below R ≈ 23 the grid is oversampled (2 pixels per element would leave
+    /// only 9 bins at R = 5). Default 40, measured in docs/calibration.md ("Low R").
+    /// </summary>
+    public int MinBins { get; init; } = 40;
+
+    /// <summary>
+    /// Below this resolving power <see cref="LowResolution"/> replaces these options (a feature choice per R band).
+    /// Default 0: one choice for every R.
+    /// </summary>
+    public double LowResolutionBelow { get; init; }
+
+    /// <summary>Options used below <see cref="LowResolutionBelow"/> (their own band settings are ignored); null: none.</summary>
+    public PreprocessOptions? LowResolution { get; init; }
+
+    /// <summary>The options in force at resolving power <paramref name="resolution"/>.</summary>
+    public PreprocessOptions At(double resolution) =>
+        LowResolution is { } low && resolution < LowResolutionBelow ? low with { LowResolutionBelow = 0, LowResolution = null } : this;
 }
 
 /// <summary>Turns degraded spectra into fixed-length feature vectors.</summary>
 public static class Preprocessing
 {
     /// <summary>Number of flux bins of the common rest-frame grid at resolving power R.</summary>
-    public static int BinCount(double resolution, PreprocessOptions o) =>
-        Math.Clamp((int)Math.Round(resolution * o.PixelsPerElement * Math.Log(o.RestToAngstrom / o.RestFromAngstrom)), 4, o.MaxBins);
+    public static int BinCount(double resolution, PreprocessOptions o)
+    {
+        o = o.At(resolution);
+        return Math.Clamp((int)Math.Round(resolution * o.PixelsPerElement * Math.Log(o.RestToAngstrom / o.RestFromAngstrom)),
+            Math.Min(Math.Max(4, o.MinBins), o.MaxBins), o.MaxBins);
+    }
 
     /// <summary>Length of the feature vector at resolving power R.</summary>
     public static int FeatureLength(double resolution, PreprocessOptions o) =>
-        BinCount(resolution, o) + (o.Continuum == ContinuumHandling.DivideKeepColour ? o.ColourPoints : 0);
+        BinCount(resolution, o) + (o.At(resolution).Continuum == ContinuumHandling.DivideKeepColour ? o.At(resolution).ColourPoints : 0);
 
     /// <summary>
     /// Feature vector of a spectrum sampled at <paramref name="wavelengthAngstrom"/> (observed frame).
@@ -69,6 +100,7 @@ public static class Preprocessing
     public static float[] Features(ReadOnlySpan<double> wavelengthAngstrom, ReadOnlySpan<double> flux, double redshift,
         double resolution, PreprocessOptions o)
     {
+        o = o.At(resolution);
         var (w, f) = Finite(wavelengthAngstrom, flux);
         int bins = BinCount(resolution, o);
         var grid = LogWavelengthGrid.WithCount(o.RestFromAngstrom, o.RestToAngstrom, bins);
@@ -86,6 +118,11 @@ public static class Preprocessing
             for (int i = 0; i < bins; i++) features[i] = (float)rest[i];
             return features;
         }
+        if (o.Continuum == ContinuumHandling.LogFlux)
+        {
+            for (int i = 0; i < bins; i++) features[i] = (float)Math.Log(Math.Max(LogFloor, rest[i]));
+            return features;
+        }
         var t = new double[bins];
         for (int i = 0; i < bins; i++) t[i] = bins == 1 ? 0 : -1 + 2.0 * i / (bins - 1);
         int degree = Math.Min(o.ContinuumDegree, bins - 1);
@@ -100,6 +137,9 @@ public static class Preprocessing
         }
         return features;
     }
+
+    // Flux below 1 % of the mean (noise at a blue edge) is clipped before the logarithm.
+    private const double LogFloor = 0.01;
 
     private static double Poly(double[] c, double t)
     {

@@ -33,6 +33,31 @@ public class PreprocessingTests
     }
 
     [Fact]
+    public void At_BelowTheLowResolutionBand_UsesTheBandsChoice()
+    {
+        var o = new PreprocessOptions { LowResolutionBelow = 30, LowResolution = new PreprocessOptions { Continuum = ContinuumHandling.LogFlux, MinBins = 64 } };
+
+        Assert.Equal(ContinuumHandling.LogFlux, o.At(10).Continuum);
+        Assert.Equal(ContinuumHandling.DivideKeepColour, o.At(30).Continuum);
+        Assert.Equal(64, Preprocessing.FeatureLength(10, o));
+        Assert.Equal(new PreprocessOptions().MinBins + o.ColourPoints, Preprocessing.FeatureLength(10, o with { LowResolutionBelow = 0 }));
+    }
+
+    [Fact]
+    public void Features_LogFlux_IsTheLogOfTheMeanNormalisedFlux()
+    {
+        // A power law f ∝ λ^-2 (no lines): ln(f/mean) is linear in ln λ with slope −2 across the grid.
+        var w = Enumerable.Range(0, 4000).Select(i => 3400 + i * 1.5).ToArray();
+        var f = w.Select(x => Math.Pow(x / 6000, -2)).ToArray();
+        var o = new PreprocessOptions { Continuum = ContinuumHandling.LogFlux, MinBins = 4 };
+        var x = Preprocessing.Features(w, f, 0, 100, o);
+        int n = x.Length;
+        // Bins are uniform in ln λ: centres n − 2 and 1 lie (n − 3)·ln(8600/3600)/n apart.
+        double slope = (x[n - 2] - x[1]) / (Math.Log(8600.0 / 3600) * (n - 3) / n);
+        Assert.Equal(-2, slope, 1);
+    }
+
+    [Fact]
     public void FeatureLength_CappedAndWithColours()
     {
         var o = new PreprocessOptions();
@@ -40,6 +65,9 @@ public class PreprocessingTests
         Assert.Equal((int)Math.Round(2 * 50 * Math.Log(8600.0 / 3600)) + o.ColourPoints, Preprocessing.FeatureLength(50, o));
         Assert.Equal(o.MaxBins + o.ColourPoints, Preprocessing.FeatureLength(1500, o));
         Assert.Equal(o.MaxBins, Preprocessing.FeatureLength(1500, o with { Continuum = ContinuumHandling.Divide }));
+        // Low R: at least MinBins (40) flux bins; R = 5 at 2 pixels per element would give 9.
+        Assert.Equal(40 + o.ColourPoints, Preprocessing.FeatureLength(5, o));
+        Assert.Equal(9 + o.ColourPoints, Preprocessing.FeatureLength(5, o with { MinBins = 4 }));
     }
 
     [Fact]

@@ -179,3 +179,25 @@ public class CalibrationPipelineTests(SyntheticCalibrationFixture f)
         Assert.Throws<ArgumentException>(() => CalibrationPlots.ConfusionSvg(f.Native, 12345, null));
     }
 }
+
+/// <summary>
+/// Low R (issue 11): oversampling the rest-frame grid to at least 40 bins keeps the broad shape that 9 bins at R = 5
+/// (2 pixels per element) blur away. Measured on the shared synthetic library against the previous setting.
+/// </summary>
+[Collection(SyntheticCalibrationCollection.Name)]
+public class LowResolutionFeatureTests(SyntheticCalibrationFixture f)
+{
+    [Fact]
+    public void Run_R5Native_OversampledGridBeatsTwoPixelsPerElement()
+    {
+        var settings = new CalibrationSettings { Resolutions = [5], SnrLevels = [null], Folds = 4, Seed = 5 };
+        var now = CalibrationPipeline.Run(f.Library, Triage.Core.Spectra.Taxonomy.Default, settings, "test").Summaries.Single();
+        var before = CalibrationPipeline.Run(f.Library, Triage.Core.Spectra.Taxonomy.Default,
+            settings with { Preprocess = new Triage.Core.Spectra.PreprocessOptions { MinBins = 4 } }, "test").Summaries.Single();
+
+        // Measured on this 160-object fixture: 0.353 vs 0.325; on the default 400-object library 0.598 vs 0.433 (docs/calibration.md).
+        Assert.True(now.Accuracy > before.Accuracy + 0.01, $"R = 5: {now.Accuracy:0.000} with ≥ 40 bins vs {before.Accuracy:0.000} with 9");
+        // Mean recall is not asserted: with 8–12 objects in most classes its noise at R = 5 (±0.03) is as large as the effect
+        // on this fixture (measured 0.251 vs 0.259 here after merging main); on the full libraries it rose by 5–6 points.
+    }
+}
