@@ -4,6 +4,11 @@
 # Safe to run again: every step checks before it acts.
 set -euo pipefail
 
+# Only the steps that need root go through as_root: run directly as root, through sudo otherwise.
+if [ "$(id -u)" != 0 ] && ! command -v sudo >/dev/null 2>&1; then
+  echo "provision: installing and configuring PostgreSQL needs root: run this as root, or install sudo and run it as a user allowed to use it." >&2
+  exit 1
+fi
 as_root() { if [ "$(id -u)" = 0 ]; then "$@"; else sudo "$@"; fi; }
 as_postgres() { (cd /tmp && as_root runuser -u postgres -- "$@"); }
 

@@ -14,7 +14,7 @@ dotnet build src/Triage.Api/Triage.Api.csproj -c Release -v quiet -nologo >/dev/
 dotnet build src/Triage.Cli/Triage.Cli.csproj -c Release -v quiet -nologo >/dev/null
 triage() { dotnet src/Triage.Cli/bin/Release/net10.0/linux-x64/triage.dll "$@"; }
 
-triage db migrate
+triage db advance
 demo_night="${TRIAGE_DEMO_NIGHT:-2026-12-02}"
 triage demo load --roster demo/roster.json --keys-file var/demo-keys.json \
   --calibration demo/calibration.json --candidates demo/candidates.json --plan-night "$demo_night"

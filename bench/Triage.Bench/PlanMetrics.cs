@@ -4,10 +4,18 @@ using Triage.Core.Planning;
 namespace Triage.Bench;
 
 /// <summary>Figures compared between plans.</summary>
-public sealed record PlanFigures(string Name, int Assigned, double ExpectedCorrect, double Objective, double HighRShareOnHard)
+/// <param name="HighRShareOnHard">Share of the highest-R unit's time on candidates whose best low-R A is below 0.5.</param>
+/// <param name="GainOnHighR">Mean over entries on units with R ≥ 1000 of A(chosen) − best A over units with R &lt; 1000 (NaN: none).</param>
+/// <param name="GainOnLowR">The same over entries on units with R &lt; 1000 (≤ 0 by construction; NaN: none).</param>
+/// <param name="HighREntries">Entries on units with R ≥ 1000.</param>
+/// <param name="LowREntries">Entries on units with R &lt; 1000.</param>
+/// <param name="HighRTimeShareOnHard">Share of all R ≥ 1000 time on candidates whose best R &lt; 1000 option is below 0.5 expected accuracy.</param>
+public sealed record PlanFigures(string Name, int Assigned, double ExpectedCorrect, double Objective, double HighRShareOnHard,
+    double GainOnHighR = double.NaN, double GainOnLowR = double.NaN, int HighREntries = 0, int LowREntries = 0, double HighRTimeShareOnHard = 0)
 {
     public override string ToString() => string.Create(CultureInfo.InvariantCulture,
-        $"{Name,-44} assigned {Assigned,4}  expected correct {ExpectedCorrect,7:F1}  objective {Objective,7:F1}  high-R time on low-R-hard candidates {HighRShareOnHard,6:P1}");
+        $"{Name,-44} assigned {Assigned,4}  expected correct {ExpectedCorrect,7:F1}  objective {Objective,7:F1}  high-R time on low-R-hard candidates {HighRShareOnHard,6:P1}  " +
+        $"gain over best R<1000: {GainOnHighR:+0.000;-0.000} on {HighREntries} R≥1000 entries, {GainOnLowR:+0.000;-0.000} on {LowREntries} R<1000 entries; R≥1000 time on hard {HighRTimeShareOnHard:P1}");
 }
 
 /// <summary>Computes <see cref="PlanFigures"/>.</summary>
@@ -66,8 +74,34 @@ public static class PlanMetrics
             }
         }
 
+        // Gain over the best option below R = 1000, and the R ≥ 1000 time on candidates low R cannot identify.
+        var gainsHigh = new List<double>();
+        var gainsLow = new List<double>();
+        double allHighTime = 0, allHighHard = 0;
+        foreach (var o in plan)
+        {
+            var option = problem.Options[o.Option];
+            var level = option.Levels[o.Level];
+            var gain = level.ExpectedAccuracy - bestLowR[option.Candidate];
+            if (problem.Units[option.Unit].ResolvingPower >= LowResolutionBelow)
+            {
+                gainsHigh.Add(gain);
+                allHighTime += level.DurationSeconds;
+                if (bestLowR[option.Candidate] < 0.5)
+                {
+                    allHighHard += level.DurationSeconds;
+                }
+            }
+            else
+            {
+                gainsLow.Add(gain);
+            }
+        }
+
         var correct = plan.Sum(o => problem.Options[o.Option].Levels[o.Level].ExpectedAccuracy);
         var objective = plan.Sum(o => problem.NetValue(problem.Options[o.Option], problem.Options[o.Option].Levels[o.Level]));
-        return new PlanFigures(name, plan.Count, correct, objective, highTime > 0 ? highHard / highTime : 0);
+        return new PlanFigures(name, plan.Count, correct, objective, highTime > 0 ? highHard / highTime : 0,
+            gainsHigh.Count > 0 ? gainsHigh.Average() : double.NaN, gainsLow.Count > 0 ? gainsLow.Average() : double.NaN,
+            gainsHigh.Count, gainsLow.Count, allHighTime > 0 ? allHighHard / allHighTime : 0);
     }
 }

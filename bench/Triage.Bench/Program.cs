@@ -12,6 +12,12 @@ if (args.Length > 0 && args[0] == "flood")
 {
     return await Triage.Bench.Harness.FloodPlan.RunAsync(args);
 }
+// `demo-night` prints the demo night's plan figures (the setup of PlanQualityBenchmarks) without timing anything.
+if (args.Length > 0 && args[0] == "demo-night")
+{
+    new Triage.Bench.PlanQualityBenchmarks().Setup();
+    return 0;
+}
 // The build timeout is raised because the shared build machine can be slow to compile the generated project.
 var config = ManualConfig.Create(DefaultConfig.Instance);
 config.BuildTimeout = TimeSpan.FromMinutes(10);

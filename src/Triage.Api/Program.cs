@@ -15,6 +15,7 @@ builder.Services.AddSingleton(TimeProvider.System);
 builder.Services.AddTriageJson();
 builder.Services.AddTriageProblems();
 builder.AddHttpHardening();
+builder.Services.AddTriageOpenApi();
 builder.Services.AddDatabase(builder.Configuration);
 builder.Services.AddAccess(builder.Configuration);
 builder.Services.AddRoster();
@@ -24,6 +25,7 @@ builder.Services.AddPlans();
 builder.Services.AddCalibrations();
 builder.Services.AddSky();
 builder.Services.AddTriageCompression();
+builder.Services.AddDatabaseNotifications(builder.Configuration);
 
 var app = builder.Build();
 // Outermost, so that the logged status is the one the exception handler actually sent.

@@ -22,4 +22,6 @@ foreach (var verb in verbs)
 {
     root.Subcommands.Add(verb);
 }
-return await root.Parse(args).InvokeAsync();
+var parse = root.Parse(args);
+// Usage errors exit 2 with the offending option named and no help dump (help stays on --help).
+return parse.Errors.Count > 0 ? VerbParsing.ReportUsageErrors(parse, Console.Error) : await parse.InvokeAsync();

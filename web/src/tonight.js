@@ -1,7 +1,9 @@
 // Tonight: one lane per spectrograph on a UTC axis, sky shading per site, blocks per observation.
 import { getJson } from './api.js';
-import { loadNetwork, loadPlan, loadVersions, loadDetails, entryState } from './data.js';
+import { loadNetwork, loadPlan, loadVersions, loadDetails } from './data.js';
 import { el, utc, local, offsetLabel, num, percent, utcDateTime } from './format.js';
+import { axisRow, layoutAxes, followWidth } from './timeaxis.js';
+import { STATES, observationState, fitBlockLabels } from './blocklook.js';
 
 const HOUR = 3600 * 1000;
 
@@ -53,10 +55,12 @@ export function createTonight(root, night, { pollSeconds = 20 } = {}) {
   let shownVersion = null;
   let selected = null;
   let timer = null;
+  let unfollow = () => {};
   const live = el('p', { class: 'live', role: 'status', 'aria-live': 'polite' });
 
   async function render() {
     const [plan, network] = await Promise.all([loadPlan(night), loadNetwork()]);
+    unfollow();
     root.replaceChildren();
     root.append(el('h2', {}, `Tonight · night of ${night}`), live);
     if (!plan) {
@@ -96,11 +100,12 @@ export function createTonight(root, night, { pollSeconds = 20 } = {}) {
     }
     const panel = el('aside', { class: 'block-detail', 'aria-live': 'polite' }, el('p', { class: 'hint' }, 'Select a block (click, or Tab to it and press Enter) to see why it was planned.'));
     const board = el('div', { class: 'board', role: 'group', 'aria-label': 'Planned observations per spectrograph, UTC time axis' });
-    board.append(axis(range));
-    lanes.forEach((lane, laneIndex) => board.append(laneRow(lane, laneIndex, range, details, panel)));
+    board.append(axisRow(range));
+    lanes.forEach((lane, laneIndex) => board.append(laneRow(lane, laneIndex, range, details, panel, plan.version.createdAt)));
     const sites = [...new Map(lanes.filter((l) => l.site).map((l) => [l.site.id, l.site])).values()];
-    sites.forEach((site) => board.append(axis(range, site)));
+    sites.forEach((site) => board.append(axisRow(range, site)));
     root.append(board, panel);
+    unfollow = followWidth(board, () => { layoutAxes(board); fitBlockLabels(board); });
     if (!anySky) {
       root.append(el('p', { class: 'note' }, 'Sky times (dark window, twilights) are not available from the service; the lanes show only the span the plan uses.'));
     }
@@ -112,25 +117,12 @@ export function createTonight(root, night, { pollSeconds = 20 } = {}) {
 
   function legend(anySky) {
     return el('ul', { class: 'legend', 'aria-label': 'Legend' },
-      el('li', {}, el('span', { class: 'swatch block state-pending' }), 'pending'),
-      el('li', {}, el('span', { class: 'swatch block state-done' }), 'done (observed)'),
-      el('li', {}, el('span', { class: 'swatch block state-lost' }), 'lost (weather or failure)'),
+      STATES.map(([state, meaning]) => el('li', {}, el('span', { class: `swatch block state-${state}` }, el('span', { class: 'block-text' })), meaning)),
       anySky ? el('li', {}, el('span', { class: 'swatch sky-twilight' }), 'twilight') : null,
       anySky ? el('li', {}, el('span', { class: 'swatch sky-dark' }), 'dark window') : el('li', {}, el('span', { class: 'swatch sky-span' }), 'span used by the plan'));
   }
 
-  /** The UTC axis, or the same instants as local mean solar time of a site. */
-  function axis(range, site = null) {
-    const track = el('div', { class: 'track axis-track', 'aria-hidden': 'true' });
-    for (let t = range.lo; t <= range.hi; t += HOUR) {
-      const edge = t === range.lo ? ' first' : t === range.hi ? ' last' : '';
-      const text = site ? local(new Date(t), site.longitudeDeg) : utc(new Date(t));
-      track.append(el('span', { class: `tick${edge}`, style: `left:${pos(t, range)}%` }, text));
-    }
-    return el('div', { class: 'lane axis' }, el('div', { class: 'lane-label' }, site ? `Time (local, ${site.name})` : 'Time (UTC)'), track);
-  }
-
-  function laneRow(lane, laneIndex, range, details, panel) {
+  function laneRow(lane, laneIndex, range, details, panel, versionCreatedAt) {
     const { queue, site } = lane;
     const track = el('div', { class: 'track' });
     for (const t of lane.twilights) {
@@ -146,7 +138,7 @@ export function createTonight(root, night, { pollSeconds = 20 } = {}) {
     }
     queue.queue.forEach((entry, i) => {
       const detail = details.get(entry.candidateId.toLowerCase());
-      const state = entryState(detail, queue.spectrographId);
+      const state = observationState(entry, detail, queue.spectrographId, versionCreatedAt);
       const name = detail?.candidate?.brokerCandidateId ?? entry.candidateId;
       const block = el('button', {
         type: 'button',
@@ -156,6 +148,7 @@ export function createTonight(root, night, { pollSeconds = 20 } = {}) {
         'data-lane': laneIndex,
         'data-index': i,
         'data-state': state,
+        'data-tip': `${name} · ${utc(entry.startUtc)} – ${utc(entry.endUtc)} · ${state}`,
         'aria-label': `${name} on ${queue.name}, ${utc(entry.startUtc)} to ${utc(entry.endUtc)}, ${state}`,
         onclick: () => select(block, entry, queue, lane, detail, state, panel),
         onkeydown: (ev) => moveFocus(ev, block),

@@ -65,6 +65,9 @@ public sealed class KeyCache(KeyStore keys, TimeProvider clock, KeyCacheOptions 
         return key;
     }
 
+    /// <summary>Forgets every key (the notification listener reconnected and may have missed a revocation).</summary>
+    public void ForgetAll() => _entries.Clear();
+
     /// <summary>Forgets every key remembered as unknown (after a key was issued or registered here).</summary>
     public void ForgetUnknown()
     {

@@ -20,6 +20,10 @@ public static class ProblemSetup
         services.AddProblemDetails(o => o.CustomizeProblemDetails = ctx =>
         {
             ctx.ProblemDetails.Extensions["requestId"] = ctx.HttpContext.TraceIdentifier;
+            if (ctx.ProblemDetails.Type is null || ctx.ProblemDetails.Type.StartsWith("https://tools.ietf.org/", StringComparison.Ordinal))
+            {
+                ctx.ProblemDetails.Type = ProblemTypes.For(ctx.ProblemDetails.Status ?? ctx.HttpContext.Response.StatusCode);
+            }
             if (ctx.ProblemDetails.Status == StatusCodes.Status415UnsupportedMediaType && !ctx.ProblemDetails.Extensions.ContainsKey("field"))
             {
                 // Name what this route accepts (a CSV import is not told to send JSON).
@@ -109,6 +113,15 @@ internal sealed class BadRequestProblemHandler(IProblemDetailsService problems, 
 
         var (where, name, text) = Describe(bad, http);
         var status = bad.StatusCode;
+        long? limit = status == StatusCodes.Status413PayloadTooLarge
+            ? http.Items[BodySizeLimitMiddleware.LimitItem] as long?
+              ?? http.Features.Get<IHttpMaxRequestBodySizeFeature>()?.MaxRequestBodySize
+            : null;
+        if (limit is { } max)
+        {
+            text = string.Create(System.Globalization.CultureInfo.InvariantCulture,
+                $"is larger than the {max:N0} bytes ({max / 1048576.0:0.##} MiB) this endpoint accepts");
+        }
         var title = status switch
         {
             StatusCodes.Status413PayloadTooLarge => "Request body too large",
@@ -127,6 +140,10 @@ internal sealed class BadRequestProblemHandler(IProblemDetailsService problems, 
             Title = title,
             Detail = $"{name}: {text}",
         };
+        if (limit is { } bytes)
+        {
+            details.Extensions["limitBytes"] = bytes;
+        }
         http.Response.StatusCode = status;
         return await problems.TryWriteAsync(new ProblemDetailsContext { HttpContext = http, ProblemDetails = details });
     }
@@ -199,6 +216,34 @@ internal sealed class BadRequestProblemHandler(IProblemDetailsService problems, 
         }
         return TypeNames.Strip(m);
     }
+}
+
+/// <summary>
+/// The <c>type</c> of every problem: the definition of its HTTP status (RFC 9110 section 15 for
+/// the standard codes, RFC 6585 for 428 and 429), so a client can tell kinds apart without parsing text.
+/// </summary>
+public static class ProblemTypes
+{
+    public static string For(int status) => status switch
+    {
+        400 => "https://www.rfc-editor.org/rfc/rfc9110#section-15.5.1",
+        401 => "https://www.rfc-editor.org/rfc/rfc9110#section-15.5.2",
+        403 => "https://www.rfc-editor.org/rfc/rfc9110#section-15.5.4",
+        404 => "https://www.rfc-editor.org/rfc/rfc9110#section-15.5.5",
+        405 => "https://www.rfc-editor.org/rfc/rfc9110#section-15.5.6",
+        406 => "https://www.rfc-editor.org/rfc/rfc9110#section-15.5.7",
+        408 => "https://www.rfc-editor.org/rfc/rfc9110#section-15.5.9",
+        409 => "https://www.rfc-editor.org/rfc/rfc9110#section-15.5.10",
+        412 => "https://www.rfc-editor.org/rfc/rfc9110#section-15.5.13",
+        413 => "https://www.rfc-editor.org/rfc/rfc9110#section-15.5.14",
+        415 => "https://www.rfc-editor.org/rfc/rfc9110#section-15.5.16",
+        422 => "https://www.rfc-editor.org/rfc/rfc9110#section-15.5.21",
+        428 => "https://www.rfc-editor.org/rfc/rfc6585#section-3",
+        429 => "https://www.rfc-editor.org/rfc/rfc6585#section-4",
+        500 => "https://www.rfc-editor.org/rfc/rfc9110#section-15.6.1",
+        503 => "https://www.rfc-editor.org/rfc/rfc9110#section-15.6.4",
+        _ => "about:blank",
+    };
 }
 
 /// <summary>Reads ASP.NET Core's parameter-binding messages (<c>Failed to bind parameter "int? limit" from "abc".</c>).</summary>
@@ -276,11 +321,15 @@ internal static class JsonPath
 /// </summary>
 public sealed class BodySizeLimitMiddleware(RequestDelegate next)
 {
+    /// <summary>Key in <see cref="HttpContext.Items"/> of the endpoint's body limit, bytes (the 413 problem states it).</summary>
+    public const string LimitItem = "triage.bodyLimitBytes";
+
     public async Task InvokeAsync(HttpContext http)
     {
         var limit = http.GetEndpoint()?.Metadata.GetMetadata<IRequestSizeLimitMetadata>()?.MaxRequestBodySize;
         if (limit is { } max)
         {
+            http.Items[LimitItem] = max;
             if (http.Request.ContentLength > max)
             {
                 throw new BadHttpRequestException($"The body is larger than {max} bytes.", StatusCodes.Status413PayloadTooLarge);

@@ -22,9 +22,17 @@ public sealed record JobResponse(
     JsonElement? Result)
 {
     public static JobResponse From(JobRow j, bool withResult) => new(
-        j.Id, j.Kind, j.Status.ToString().ToLowerInvariant(), Math.Round(100 * j.Progress, 1), j.ProgressNote,
-        j.EtaSeconds is { } e ? Math.Round(e, 1) : null, j.Attempts, j.CreatedAt, j.StartedAt, j.FinishedAt, j.Error,
+        j.Id, j.Kind, j.Status.ToString().ToLowerInvariant(), Math.Round(100 * j.Progress, 1), StepOf(j),
+        j.Status is JobStatus.Succeeded or JobStatus.Failed ? null : j.EtaSeconds is { } e ? Math.Round(e, 1) : null, j.Attempts, j.CreatedAt, j.StartedAt, j.FinishedAt, j.Error,
         withResult && j.Result is not null ? JsonDocument.Parse(j.Result).RootElement.Clone() : null);
+
+    /// <summary>The current step; once the job has ended, that it finished and how (the last working step is kept after a colon).</summary>
+    public static string? StepOf(JobRow j) => j.Status switch
+    {
+        JobStatus.Succeeded => "finished: succeeded" + (string.IsNullOrEmpty(j.ProgressNote) ? "" : $" (last step: {j.ProgressNote})"),
+        JobStatus.Failed => "finished: failed" + (string.IsNullOrEmpty(j.ProgressNote) ? "" : $" (last step: {j.ProgressNote})"),
+        _ => j.ProgressNote,
+    };
 }
 
 public static class JobEndpoints

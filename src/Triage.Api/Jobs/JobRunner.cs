@@ -13,6 +13,7 @@ public sealed class JobRunner(
     IEnumerable<IJobHandler> handlers,
     TimeProvider clock,
     IOptions<JobOptions> options,
+    Triage.Api.Operations.JobWakeup wakeup,
     ILogger<JobRunner> log) : BackgroundService
 {
     private readonly Dictionary<string, IJobHandler> _handlers = handlers.ToDictionary(h => h.Kind, StringComparer.Ordinal);
@@ -43,7 +44,8 @@ public sealed class JobRunner(
                 }
                 if (job is null)
                 {
-                    await Task.Delay(o.PollInterval, clock, stoppingToken);
+                    // Polling stays the fallback; a job queued on any replica wakes the worker at once.
+                    await wakeup.WaitAsync(o.PollInterval, stoppingToken);
                     continue;
                 }
                 await RunOneAsync(job, o, stoppingToken);

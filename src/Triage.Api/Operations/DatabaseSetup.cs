@@ -9,7 +9,7 @@ namespace Triage.Api.Operations;
 /// <summary>Service options (section <c>Triage</c>).</summary>
 public sealed record TriageOptions
 {
-    /// <summary>Apply pending migrations when the service starts (default false: the run script and <c>triage db migrate</c> do it).</summary>
+    /// <summary>Apply pending migrations when the service starts (default false: the run script and <c>triage db advance</c> do it).</summary>
     public bool MigrateOnStart { get; init; }
 }
 
@@ -70,15 +70,19 @@ public static class DatabaseSetup
     /// <summary>The one data source, from <c>ConnectionStrings:Triage</c> or <c>TRIAGE_CONNECTION</c>.</summary>
     public static IServiceCollection AddDatabase(this IServiceCollection services, IConfiguration config)
     {
-        var cs = config.GetConnectionString("Triage")
-            ?? Environment.GetEnvironmentVariable(TriageDataSource.EnvironmentVariable)
-            ?? TriageDataSource.LocalDefault;
+        var cs = ConnectionString(config);
         var limits = config.GetSection("Triage:Database").Get<DatabaseLimits>() ?? new DatabaseLimits();
         services.AddSingleton(limits);
         services.AddSingleton(_ => TriageDataSource.Create(limits.Apply(cs)));
         services.AddHealthChecks().AddCheck<DatabaseReadyCheck>("database", tags: ["ready"]);
         return services;
     }
+
+    /// <summary>The configured connection string: <c>ConnectionStrings:Triage</c>, else <c>TRIAGE_CONNECTION</c>, else the local default.</summary>
+    internal static string ConnectionString(IConfiguration config) =>
+        config.GetConnectionString("Triage")
+        ?? Environment.GetEnvironmentVariable(TriageDataSource.EnvironmentVariable)
+        ?? TriageDataSource.LocalDefault;
 
     /// <summary>Migrations (when configured) and the first admin key, before the first request.</summary>
     public static async Task PrepareDatabaseAsync(this WebApplication app)
@@ -121,10 +125,10 @@ internal sealed class DatabaseReadyCheck(NpgsqlDataSource data, DatabaseLimits l
         bounded.CancelAfter(TimeSpan.FromSeconds(limits.ReadyCheckSeconds));
         try
         {
-            var version = await MigrationRunner.CurrentVersionAsync(data, bounded.Token);
-            return version >= MigrationRunner.LatestVersion
-                ? HealthCheckResult.Healthy($"migration {version}")
-                : HealthCheckResult.Unhealthy($"database at migration {version}, this build needs {MigrationRunner.LatestVersion}; run 'triage db migrate'");
+            var pending = await MigrationRunner.PendingVersionsAsync(data, bounded.Token);
+            return pending.Count == 0
+                ? HealthCheckResult.Healthy($"schema step {MigrationRunner.LatestVersion}")
+                : HealthCheckResult.Unhealthy($"database lacks schema step(s) {string.Join(", ", pending)} of this build; run 'triage db advance'");
         }
         catch (OperationCanceledException) when (bounded.IsCancellationRequested && !ct.IsCancellationRequested)
         {

@@ -90,8 +90,7 @@ internal static class CalibrateVerb
             }
             catch (ArgumentException ex)
             {
-                Console.Error.WriteLine(ex.Message);
-                return Task.FromResult(1);
+                return Task.FromResult(VerbParsing.FailArgument(Console.Error, parse, ex));
             }
             var outPath = parse.GetValue(output)!.FullName;
             Directory.CreateDirectory(Path.GetDirectoryName(outPath)!);

@@ -15,8 +15,18 @@ internal static class CliJson
         DefaultIgnoreCondition = JsonIgnoreCondition.Never,
         NumberHandling = JsonNumberHandling.AllowNamedFloatingPointLiterals,
         Encoder = JavaScriptEncoder.UnsafeRelaxedJsonEscaping,
-        Converters = { new JsonStringEnumConverter(JsonNamingPolicy.CamelCase) },
+        Converters = { new JsonStringEnumConverter(JsonNamingPolicy.CamelCase), new SecondsUtcConverter() },
     };
+
+    /// <summary>Writes instants as <c>2026-01-16T01:23:03Z</c> (UTC, nearest second); reads any ISO 8601 instant.</summary>
+    public sealed class SecondsUtcConverter : JsonConverter<DateTimeOffset>
+    {
+        public override DateTimeOffset Read(ref Utf8JsonReader reader, Type typeToConvert, JsonSerializerOptions options) =>
+            reader.GetDateTimeOffset().ToUniversalTime();
+
+        public override void Write(Utf8JsonWriter writer, DateTimeOffset value, JsonSerializerOptions options) =>
+            writer.WriteStringValue(Utc(value));
+    }
 
     /// <summary>An instant as ISO 8601 UTC to the second, e.g. 2026-01-16T01:23:03Z.</summary>
     public static string? Utc(DateTimeOffset? t) => t is { } v

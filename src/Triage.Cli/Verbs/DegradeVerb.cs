@@ -39,10 +39,13 @@ internal static class DegradeVerb
                     $"degraded from {inFile.Name} to R = {r}, {p} pixels per element{(parse.GetValue(snr) is double v ? $", S/N {v} per element at 6000 Å" : "")}")]);
                 return 0;
             }
-            catch (Exception ex) when (ex is FormatException or ArgumentException)
+            catch (ArgumentException ex)
             {
-                Console.Error.WriteLine(ex.Message);
-                return 1;
+                return VerbParsing.FailArgument(Console.Error, parse, ex);
+            }
+            catch (FormatException ex)
+            {
+                return CliJson.Fail(Console.Error, ex.Message);
             }
         });
         return cmd;

@@ -75,7 +75,7 @@ internal static class ExptimeVerb
             }
             catch (ArgumentOutOfRangeException ex)
             {
-                return CliJson.Fail(error, ex.Message);
+                return VerbParsing.FailArgument(error, parse, ex);
             }
         });
         return command;

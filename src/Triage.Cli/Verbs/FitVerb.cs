@@ -35,7 +35,7 @@ internal static class FitVerb
                 .AsParallel().AsOrdered()
                 .Select(c => FitOutputRow.From(CandidateAssessment.Assess(c, labelSet.ToArray()), when))
                 .ToArray();
-            string json = JsonSerializer.Serialize(new FitOutput(when, rows, result.Notices), new JsonSerializerOptions(BrokerBatchJson.Options) { WriteIndented = true });
+            string json = JsonSerializer.Serialize(new FitOutput(when, rows, result.Notices), new JsonSerializerOptions(BrokerBatchJson.Options) { WriteIndented = true, Converters = { new CliJson.SecondsUtcConverter() } });
             var outFile = parse.GetValue(output);
             if (outFile is null)
             {

@@ -21,13 +21,20 @@ internal static class LibraryVerb
     private static Command Synth()
     {
         var outDir = new Option<DirectoryInfo>("--out") { Description = "Folder to write manifest.csv and spectra/ into.", Required = true };
-        var objects = new Option<int>("--objects") { Description = "Number of objects (default 400).", DefaultValueFactory = _ => 400 };
+        var floor = new SynthOptions().MinObjectsPerSubtype;
+        int subtypes = SubtypeModels.All.Count;
+        var objects = new Option<int>("--objects")
+        {
+            Description = string.Create(CultureInfo.InvariantCulture,
+                $"Number of objects (default 400). Each of the {subtypes} subtypes gets at least {floor} objects (enough for grouped cross-validation), so the library holds at least {subtypes * floor}; a smaller number is raised to that floor."),
+            DefaultValueFactory = _ => 400,
+        };
         var seed = new Option<int>("--seed") { Description = "Random seed (default 1).", DefaultValueFactory = _ => 1 };
         var cmd = new Command("synth", "Generate the SYNTHETIC demo library (invented spectra) in the library format.") { outDir, objects, seed };
         cmd.SetAction(parse =>
         {
             int n = parse.GetValue(objects);
-            if (n < 14) { Console.Error.WriteLine("--objects: at least 14 (one per subtype) are needed."); return 2; }
+            if (n < 1) return CliJson.Fail(Console.Error, "--objects: must be at least 1.");
             var (lib, _) = SyntheticLibrary.Generate(new SynthOptions { Objects = n, Seed = parse.GetValue(seed) });
             var dir = parse.GetValue(outDir)!.FullName;
             LibraryFiles.Write(dir, lib, [SyntheticLibrary.Label, $"seed {parse.GetValue(seed)}, {n} objects; see docs/synthetic-library.md"]);
@@ -36,6 +43,11 @@ internal static class LibraryVerb
                 "The physics and the class rates are described in docs/synthetic-library.md of the Triage repository.\n");
             Console.WriteLine(string.Create(CultureInfo.InvariantCulture,
                 $"Wrote {lib.Spectra.Count} synthetic spectra of {lib.ObjectCount} objects to {dir}"));
+            if (lib.ObjectCount != n)
+            {
+                Console.WriteLine(string.Create(CultureInfo.InvariantCulture,
+                    $"Asked for {n} objects; each of the {subtypes} subtypes gets at least {floor}, so the library holds {lib.ObjectCount}."));
+            }
             return 0;
         });
         return cmd;
@@ -43,14 +55,25 @@ internal static class LibraryVerb
 
     private static Command Check()
     {
-        var dir = new Option<DirectoryInfo>("--library") { Description = "Library folder with manifest.csv.", Required = true };
+        var folder = new Argument<DirectoryInfo?>("DIR") { Description = "Library folder with manifest.csv.", Arity = ArgumentArity.ZeroOrOne };
+        // An unknown option must not be taken for the folder's name.
+        folder.Validators.Add(result =>
+        {
+            if (result.Tokens.FirstOrDefault()?.Value is { } token && token.StartsWith('-'))
+                result.AddError($"Unrecognized command or argument '{token}'.");
+        });
+        var dir = new Option<DirectoryInfo?>("--library") { Description = "The library folder, as an option (same as DIR)." };
         var taxonomy = new Option<FileInfo?>("--taxonomy") { Description = "Taxonomy file (default: the built-in one)." };
-        var cmd = new Command("check", "Validate a library folder and report every problem with file and line.") { dir, taxonomy };
+        var cmd = new Command("check", "Validate a library folder (triage library check DIR) and report every problem with file and line.") { folder, dir, taxonomy };
         cmd.SetAction(parse =>
         {
+            var chosen = parse.GetValue(folder) ?? parse.GetValue(dir);
+            if (chosen is null) return CliJson.Fail(Console.Error, "DIR: give the library folder (triage library check DIR).");
+            if (parse.GetValue(folder) is not null && parse.GetValue(dir) is not null)
+                return CliJson.Fail(Console.Error, "--library: give the folder either as DIR or as --library, not both.");
             try
             {
-                var lib = LibraryFiles.Load(parse.GetValue(dir)!.FullName, LibraryFiles.LoadTaxonomy(parse.GetValue(taxonomy)?.FullName));
+                var lib = LibraryFiles.Load(chosen.FullName, LibraryFiles.LoadTaxonomy(parse.GetValue(taxonomy)?.FullName));
                 foreach (var w in lib.Warnings) Console.Error.WriteLine($"warning: {w}");
                 Console.WriteLine(string.Create(CultureInfo.InvariantCulture,
                     $"OK: {lib.Spectra.Count} spectra of {lib.ObjectCount} objects, fingerprint {lib.Fingerprint()}"));

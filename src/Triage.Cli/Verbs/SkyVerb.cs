@@ -72,7 +72,7 @@ internal static class SkyVerb
             }
             catch (ArgumentOutOfRangeException ex)
             {
-                return CliJson.Fail(error, ex.Message);
+                return VerbParsing.FailArgument(error, parse, ex);
             }
         });
         return command;

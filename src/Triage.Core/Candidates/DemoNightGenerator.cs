@@ -36,6 +36,12 @@ public static class DemoNightGenerator
 {
     private static readonly string[] SurveyBands = ["g", "r"];
 
+    /// <summary>Prefix of the invented candidate ids (<c>TG26-00001</c> ...).</summary>
+    public const string IdPrefix = "TG26-";
+
+    /// <summary>The only band letters the invented photometry uses (Sloan-like ugriz).</summary>
+    public static IReadOnlyList<string> Bands { get; } = ["u", "g", "r", "i", "z"];
+
     /// <summary>Generates the batch.</summary>
     /// <param name="labels">Taxonomy labels to draw subtypes and probabilities over.</param>
     /// <param name="options">Options; defaults when null.</param>
@@ -49,7 +55,7 @@ public static class DemoNightGenerator
         while (list.Count < options.Count)
         {
             serial++;
-            var candidate = TryOne(rng, rates, options, $"DN26-{serial:00000}");
+            var candidate = TryOne(rng, rates, options, $"{IdPrefix}{serial:00000}");
             if (candidate is not null)
             {
                 list.Add(candidate);
@@ -85,11 +91,12 @@ public static class DemoNightGenerator
         {
             bands.Add(("i", 0.15 + 0.1 * Gaussian(rng), 1.15));
         }
-        bool broadFilters = rng.NextDouble() < 0.25;
-        if (broadFilters)
+        bool outerBands = rng.NextDouble() < 0.25;
+        if (outerBands)
         {
-            bands.Add(("c", 0.05, 0.92));
-            bands.Add(("o", 0.02, 1.05));
+            // Invented colours: fainter in u and z than in r, a faster u decline, a slower z one.
+            bands.Add(("u", 0.45, 0.75));
+            bands.Add(("z", 0.25, 1.2));
         }
         var phiFor = bands.ToDictionary(b => b.Band, b => Phi(AbMagnitude.ToMicroJansky(peakMag + b.Offset), peakMjd, tauRise, tauFall * b.FallScale));
 

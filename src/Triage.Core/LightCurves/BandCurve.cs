@@ -125,8 +125,9 @@ public sealed class MagnitudeSlopeCurve : BandCurve
 {
     private readonly double _meanMjd, _magAtMean, _slope, _varMag, _varSlope;
     private readonly LightCurveOptions _options;
+    private readonly Estimate _risingPeak;
 
-    internal MagnitudeSlopeCurve(PhotometricBand band, double[] mjd, double[] mag, double[] magErr, LightCurveOptions options)
+    internal MagnitudeSlopeCurve(PhotometricBand band, double[] mjd, double[] mag, double[] magErr, double? redshift, LightCurveOptions options)
         : base(band, mjd.Length, mjd.Min(), mjd.Max())
     {
         _options = options;
@@ -165,6 +166,7 @@ public sealed class MagnitudeSlopeCurve : BandCurve
             Trend = Trend.Rising;
             // A young object rising now: peak ~16 d after first detection, not before the last point.
             PeakMjd = new(Math.Max(LastMjd, FirstMjd + 16), 7);
+            _risingPeak = RisingPeak(redshift, options);
         }
         else if (_slope > 2 * slopeSigma)
         {
@@ -180,6 +182,40 @@ public sealed class MagnitudeSlopeCurve : BandCurve
 
     /// <summary>Trend shown by the points themselves.</summary>
     public Trend Trend { get; }
+
+    /// <summary>
+    /// Peak magnitude of a rising curve with 1σ, bounded by the rise prior (see
+    /// <see cref="MagnitudeSlopeCurve"/>); NaN for other trends.
+    /// </summary>
+    public Estimate RisingPeakMagnitude => Trend == Trend.Rising ? _risingPeak : new(double.NaN, double.PositiveInfinity);
+
+    private Estimate LineAt(double mjd)
+    {
+        double dt = mjd - _meanMjd;
+        return new(_magAtMean + _slope * dt, Math.Sqrt(_varMag + dt * dt * _varSlope));
+    }
+
+    // The brightening slows to zero at the peak (a parabola in magnitude tangent to the fitted line at
+    // the last point), so the gain after the last point is half the straight line's, ±50 % for the
+    // shape; with a redshift, combined with the absolute-magnitude prior (inverse-variance weights)
+    // and never brighter than the brightest allowed peak. Never fainter than the last point.
+    private Estimate RisingPeak(double? redshift, LightCurveOptions options)
+    {
+        var last = LineAt(LastMjd);
+        double dt = PeakMjd.Value - LastMjd;
+        double gain = -_slope * dt / 2;
+        double gainSigma = Math.Sqrt(Math.Pow(0.5 * gain, 2) + _varSlope * dt * dt / 4);
+        var peak = new Estimate(last.Value - gain, Math.Sqrt(last.Sigma * last.Sigma + gainSigma * gainSigma));
+        if (redshift is double z && z > 0.001)
+        {
+            double mu = LightCurveFeatures.DistanceModulus(z);
+            var prior = new Estimate(mu + options.RisingPeakAbsMag.Value, options.RisingPeakAbsMag.Sigma);
+            double wData = 1 / (peak.Sigma * peak.Sigma), wPrior = 1 / (prior.Sigma * prior.Sigma);
+            peak = new Estimate((wData * peak.Value + wPrior * prior.Value) / (wData + wPrior), Math.Sqrt(1 / (wData + wPrior)));
+            peak = peak with { Value = Math.Max(peak.Value, mu + options.BrightestPeakAbsMag) };
+        }
+        return peak with { Value = Math.Min(peak.Value, last.Value) };
+    }
 
     /// <summary>Fitted slope with 1σ, mag/day (negative: brightening).</summary>
     public Estimate SlopeMagPerDay => new(_slope, Math.Sqrt(_varSlope));
@@ -198,9 +234,22 @@ public sealed class MagnitudeSlopeCurve : BandCurve
         double lineAt;
         switch (Trend)
         {
+            case Trend.Rising when mjd > LastMjd:
+                {
+                    var last = LineAt(LastMjd);
+                    double span = PeakMjd.Value - LastMjd;
+                    double u = span > 0 ? Math.Min(1, (mjd - LastMjd) / span) : 1;
+                    double f = 1 - (1 - u) * (1 - u);
+                    double gainSigma = Math.Sqrt(Math.Max(0, _risingPeak.Sigma * _risingPeak.Sigma - last.Sigma * last.Sigma));
+                    double after = Math.Max(0, mjd - peak);
+                    return new Estimate(last.Value + (_risingPeak.Value - last.Value) * f + _options.TemplateDeclineMagPerDay * after,
+                            Math.Sqrt(last.Sigma * last.Sigma + f * f * gainSigma * gainSigma))
+                        .WithExtraSigma(0.05)
+                        .WithExtraSigma(3 * _options.ExtrapolationMagPerDay * after);
+                }
             case Trend.Rising:
-                lineAt = Math.Min(mjd, peak);
-                m = _magAtMean + _slope * (lineAt - _meanMjd) + _options.TemplateDeclineMagPerDay * Math.Max(0, mjd - peak);
+                lineAt = mjd;
+                m = _magAtMean + _slope * (lineAt - _meanMjd);
                 break;
             case Trend.Declining:
                 lineAt = mjd;

@@ -39,7 +39,8 @@ public static class LightCurveFitter
             {
                 var curve = new BazinCurve(points[0].Band, fit, points[0].Mjd, points[^1].Mjd, options);
                 var peak = curve.PeakMjd;
-                if (peak.Sigma <= options.MaxBazinPeakSigmaDays && peak.Value > points[0].Mjd - 100 && peak.Value < points[^1].Mjd + 100)
+                if (peak.Sigma <= options.MaxBazinPeakSigmaDays && peak.Value > points[0].Mjd - 100 && peak.Value < points[^1].Mjd + 100
+                    && !BrighterThanAllowed(curve, candidate.Redshift, options))
                 {
                     curves[name] = curve;
                 }
@@ -54,7 +55,7 @@ public static class LightCurveFitter
                 continue;
             }
             BandCurve? curve = shapeSource is not null ? TryScaledShape(points, shapeSource, options) : null;
-            curve ??= TrySlope(points, options);
+            curve ??= TrySlope(points, candidate.Redshift, options);
             curve ??= TryTemplate(points, limits, options);
             if (curve is not null)
             {
@@ -70,6 +71,15 @@ public static class LightCurveFitter
         return new LightCurveState(candidate.Id, candidate.Redshift, candidate.RedshiftError,
             curves.Values.OrderBy(c => c.Band.EffectiveWavelengthAngstrom).ToArray(), reference, candidate.BrokerState, options);
     }
+
+    /// <summary>
+    /// A Bazin fit whose peak lies after the data (rising only) and is brighter than the brightest
+    /// allowed peak at the known redshift is an unphysical extrapolation: the cruder, bounded methods
+    /// take over.
+    /// </summary>
+    private static bool BrighterThanAllowed(BazinCurve curve, double? redshift, LightCurveOptions options) =>
+        redshift is double z && z > 0.001 && curve.PeakMjd.Value > curve.LastMjd
+        && curve.MagnitudeAt(curve.PeakMjd.Value).Value < LightCurveFeatures.DistanceModulus(z) + options.BrightestPeakAbsMag;
 
     private static ScaledShapeCurve? TryScaledShape(PhotometryPoint[] points, BazinCurve shape, LightCurveOptions options)
     {
@@ -102,7 +112,7 @@ public static class LightCurveFitter
         return new ScaledShapeCurve(points[0].Band, shape, offset, points.Select(p => p.Mjd).ToArray(), options);
     }
 
-    private static MagnitudeSlopeCurve? TrySlope(PhotometryPoint[] points, LightCurveOptions options)
+    private static MagnitudeSlopeCurve? TrySlope(PhotometryPoint[] points, double? redshift, LightCurveOptions options)
     {
         var positive = points.Where(p => p.FluxMicroJy > 2 * p.FluxErrorMicroJy).ToArray();
         if (positive.Length < 2 || positive[^1].Mjd - positive[0].Mjd < 0.5)
@@ -113,7 +123,7 @@ public static class LightCurveFitter
             positive.Select(p => p.Mjd).ToArray(),
             positive.Select(p => AbMagnitude.FromMicroJansky(p.FluxMicroJy)).ToArray(),
             positive.Select(p => Math.Max(0.01, AbMagnitude.MagErrorFromFluxError(p.FluxMicroJy, p.FluxErrorMicroJy))).ToArray(),
-            options);
+            redshift, options);
     }
 
     private static TemplateCurve? TryTemplate(PhotometryPoint[] points, PhotometryPoint[] limits, LightCurveOptions options)

@@ -33,4 +33,17 @@ public sealed record LightCurveOptions
     /// <summary>Extra σ for a band predicted from the spectral energy distribution of neighbouring bands, mag
     /// per 1,000 Å beyond the observed wavelength range. Default 0.15.</summary>
     public double WavelengthExtrapolationMagPer1000Angstrom { get; init; } = 0.15;
+
+    /// <summary>
+    /// Prior on the peak absolute magnitude of an object seen only rising, used when the redshift is
+    /// known: mean and 1σ, AB mag. Default −18.5 ± 1.5, spanning faint core-collapse (≈ −16) to
+    /// bright thermonuclear (≈ −19.5) supernovae (typical peak values, <b>from memory</b>).
+    /// </summary>
+    public Estimate RisingPeakAbsMag { get; init; } = new(-18.5, 1.5);
+
+    /// <summary>
+    /// Brightest peak absolute magnitude a rising-only extrapolation may reach when the redshift is
+    /// known, AB mag. Default −22.5, the bright end of superluminous supernovae (<b>from memory</b>).
+    /// </summary>
+    public double BrightestPeakAbsMag { get; init; } = -22.5;
 }

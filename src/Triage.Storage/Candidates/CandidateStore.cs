@@ -127,7 +127,7 @@ public sealed partial class CandidateStore(NpgsqlDataSource dataSource)
         CREATE TEMP TABLE stage_candidates (
             n int, id uuid, broker_candidate_id text, ra_deg float8, dec_deg float8, ux float8, uy float8, uz float8,
             discovered_at timestamptz, redshift float8, redshift_error float8, subtype_probabilities jsonb,
-            science_weight float8, notes text, broker_state jsonb, content_hash bytea, peak_flux_microjy float8) ON COMMIT DROP;
+            science_weight float8, notes text, broker_state jsonb, content_hash bytea, peak_flux_microjy float8, newest_observed_at timestamptz) ON COMMIT DROP;
         """;
 
     private const string CreatePhotometryStagingSql = """
@@ -136,16 +136,17 @@ public sealed partial class CandidateStore(NpgsqlDataSource dataSource)
             upper_limit boolean, mag_ab float8, mag_ab_error float8) ON COMMIT DROP;
         """;
 
-    // Inserts new candidates and updates changed ones (content hash differs), writes their events,
+    // Inserts new candidates and updates changed ones (content hash differs and the submission is
+    // not an older snapshot: its newest point is not earlier than the stored newest), writes their events,
     // and yields the candidates it touched: their ordinal n in the batch (via the staging rows),
     // stored id, and whether this statement created them. Rows are taken in broker-id order so
     // concurrent batches lock candidates in the same order.
     private const string CandidateMergeSql = """
         up AS (
             INSERT INTO candidates (id, broker, broker_candidate_id, ra_deg, dec_deg, ux, uy, uz, discovered_at, redshift,
-                redshift_error, subtype_probabilities, science_weight, notes, broker_state, content_hash, peak_flux_microjy, created_at, updated_at)
+                redshift_error, subtype_probabilities, science_weight, notes, broker_state, content_hash, peak_flux_microjy, newest_observed_at, created_at, updated_at)
             SELECT id, @broker, broker_candidate_id, ra_deg, dec_deg, ux, uy, uz, discovered_at, redshift, redshift_error,
-                subtype_probabilities, science_weight, notes, broker_state, content_hash, peak_flux_microjy, @now, @now
+                subtype_probabilities, science_weight, notes, broker_state, content_hash, peak_flux_microjy, newest_observed_at, @now, @now
             FROM {0} ORDER BY broker_candidate_id
             ON CONFLICT (broker, broker_candidate_id) DO UPDATE SET
                 ra_deg = EXCLUDED.ra_deg, dec_deg = EXCLUDED.dec_deg, ux = EXCLUDED.ux, uy = EXCLUDED.uy, uz = EXCLUDED.uz,
@@ -153,9 +154,11 @@ public sealed partial class CandidateStore(NpgsqlDataSource dataSource)
                 subtype_probabilities = EXCLUDED.subtype_probabilities, science_weight = EXCLUDED.science_weight,
                 notes = EXCLUDED.notes, broker_state = EXCLUDED.broker_state, content_hash = EXCLUDED.content_hash,
                 peak_flux_microjy = GREATEST(candidates.peak_flux_microjy, EXCLUDED.peak_flux_microjy),
+                newest_observed_at = GREATEST(candidates.newest_observed_at, EXCLUDED.newest_observed_at),
                 data_version = candidates.data_version + 1, version = candidates.version + 1, updated_at = EXCLUDED.updated_at,
                 state = CASE WHEN candidates.state = 'stale' THEN 'new' ELSE candidates.state END
             WHERE candidates.content_hash <> EXCLUDED.content_hash
+              AND (candidates.newest_observed_at IS NULL OR EXCLUDED.newest_observed_at >= candidates.newest_observed_at)
             RETURNING id, broker_candidate_id, (xmax = 0) AS inserted
         ), events AS (
             INSERT INTO candidate_events (candidate_id, at, kind, actor)
@@ -193,13 +196,13 @@ public sealed partial class CandidateStore(NpgsqlDataSource dataSource)
         stage_candidates AS (
             SELECT * FROM unnest(@ids::uuid[], @cids::text[], @ras::float8[], @decs::float8[], @uxs::float8[], @uys::float8[], @uzs::float8[],
                 @discovered::timestamptz[], @redshifts::float8[], @redshiftErrors::float8[], @probabilities::text[], @weights::float8[],
-                @notes::text[], @states::text[], @hashes::bytea[], @peaks::float8[]) WITH ORDINALITY
+                @notes::text[], @states::text[], @hashes::bytea[], @peaks::float8[], @newest::timestamptz[]) WITH ORDINALITY
                 AS t(id, broker_candidate_id, ra_deg, dec_deg, ux, uy, uz, discovered_at, redshift, redshift_error, probabilities_text,
-                     science_weight, notes, broker_state_text, content_hash, peak_flux_microjy, n)
+                     science_weight, notes, broker_state_text, content_hash, peak_flux_microjy, newest_observed_at, n)
         ), stage_candidates_typed AS (
             SELECT id, broker_candidate_id, ra_deg, dec_deg, ux, uy, uz, discovered_at, redshift, redshift_error,
                 probabilities_text::jsonb AS subtype_probabilities, science_weight, notes, broker_state_text::jsonb AS broker_state, content_hash,
-                peak_flux_microjy
+                peak_flux_microjy, newest_observed_at
             FROM stage_candidates
         ), stage_photometry AS (
             SELECT * FROM unnest(@pns::int[], @bands::text[], @times::timestamptz[], @fluxes::float8[], @fluxErrors::float8[],
@@ -264,7 +267,7 @@ public sealed partial class CandidateStore(NpgsqlDataSource dataSource)
         // 1. The candidates into staging, then merged; the answer says which ones changed.
         await using (var copy = await conn.BeginBinaryImportAsync(
             "COPY stage_candidates (n, id, broker_candidate_id, ra_deg, dec_deg, ux, uy, uz, discovered_at, redshift, redshift_error, " +
-            "subtype_probabilities, science_weight, notes, broker_state, content_hash, peak_flux_microjy) FROM STDIN (FORMAT BINARY)", ct))
+            "subtype_probabilities, science_weight, notes, broker_state, content_hash, peak_flux_microjy, newest_observed_at) FROM STDIN (FORMAT BINARY)", ct))
         {
             var ids = NewIds(batch.Count, now);
             for (int n = 0; n < batch.Count; n++)
@@ -296,6 +299,7 @@ public sealed partial class CandidateStore(NpgsqlDataSource dataSource)
                 WriteJson(copy, c.BrokerState is null ? null : JsonSerializer.Serialize(c.BrokerState, BrokerBatchJson.Options));
                 copy.Write(hash, NpgsqlDbType.Bytea);
                 WriteNullable(copy, PeakFlux(c));
+                copy.Write(NewestObservation(c), NpgsqlDbType.TimestampTz);
             }
             await copy.CompleteAsync(ct);
         }
@@ -356,6 +360,9 @@ public sealed partial class CandidateStore(NpgsqlDataSource dataSource)
 
     private sealed record ChangedCandidate(int N, Guid Id, bool Inserted);
 
+    /// <summary>The time of a candidate's newest photometry point (detection or limit).</summary>
+    private static DateTime NewestObservation(Candidate c) => c.Photometry.Max(p => p.TimeUtc).UtcDateTime;
+
     private async Task<IntakeSummary> UpsertFromArraysAsync(string broker, IReadOnlyList<CandidateIntake> batch, DateTimeOffset now, CancellationToken ct)
     {
         var candidates = batch.Select(b => b.Candidate).ToArray();
@@ -379,6 +386,7 @@ public sealed partial class CandidateStore(NpgsqlDataSource dataSource)
             weights = candidates.Select(c => c.ScienceWeight).ToArray(),
             notes = candidates.Select(c => c.Notes).ToArray(),
             states = candidates.Select(c => c.BrokerState is null ? null : JsonSerializer.Serialize(c.BrokerState, BrokerBatchJson.Options)).ToArray(),
+            newest = candidates.Select(NewestObservation).ToArray(),
             hashes = batch.Select(b => b.ContentHash).ToArray(),
             peaks = candidates.Select(PeakFlux).ToArray(),
             pns = points.Select(p => p.N).ToArray(),

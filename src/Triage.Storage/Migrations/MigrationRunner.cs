@@ -19,11 +19,27 @@ public sealed record MigrationReport(IReadOnlyList<int> Applied, int CurrentVers
 /// <summary>
 /// Applies the embedded migrations in order, each in its own transaction, under a
 /// PostgreSQL advisory lock so that concurrent runners (several test hosts, a run
-/// script and a CLI) never apply the same migration twice.
+/// script and a CLI) never apply the same migration twice. Applied steps are recorded in
+/// <see cref="HistoryTable"/>; numbers may have gaps and a lower number shipped later is
+/// still applied.
 /// </summary>
+/// <remarks>
+/// Databases made before migration <see cref="RenameVersion"/> keep their history in
+/// <see cref="LegacyHistoryTable"/>; on such a database the runner applies that migration
+/// (which renames the table) first, together with its own history row, in one transaction.
+/// </remarks>
 public static class MigrationRunner
 {
     private const long LockKey = 0x7472696167650001; // arbitrary, stable
+
+    /// <summary>The table recording applied schema steps.</summary>
+    public const string HistoryTable = "triage_schema_steps";
+
+    /// <summary>The history table's name before migration <see cref="RenameVersion"/>.</summary>
+    public const string LegacyHistoryTable = "schema_migrations";
+
+    /// <summary>The migration that renames <see cref="LegacyHistoryTable"/> to <see cref="HistoryTable"/>.</summary>
+    public const int RenameVersion = 10;
 
     /// <summary>The migrations shipped with this build, ordered by version.</summary>
     public static IReadOnlyList<Migration> Embedded { get; } = LoadEmbedded();
@@ -37,11 +53,20 @@ public static class MigrationRunner
         await conn.ExecuteAsync(new CommandDefinition("SELECT pg_advisory_lock(@k)", new { k = LockKey }, cancellationToken: ct));
         try
         {
+            var done = new List<int>();
+            if (await TableExistsAsync(conn, LegacyHistoryTable, ct) && !await TableExistsAsync(conn, HistoryTable, ct))
+            {
+                var rename = Embedded.Single(m => m.Version == RenameVersion);
+                await using var tx = await conn.BeginTransactionAsync(ct);
+                await conn.ExecuteAsync(new CommandDefinition(rename.Sql, transaction: tx, cancellationToken: ct));
+                await RecordAsync(conn, tx, rename, clock, ct);
+                await tx.CommitAsync(ct);
+                done.Add(rename.Version);
+            }
             await conn.ExecuteAsync(new CommandDefinition(CreateHistorySql, cancellationToken: ct));
             var applied = (await conn.QueryAsync<(int Version, string Checksum)>(
-                new CommandDefinition("SELECT version, checksum FROM schema_migrations", cancellationToken: ct)))
+                new CommandDefinition($"SELECT version, checksum FROM {HistoryTable}", cancellationToken: ct)))
                 .ToDictionary(r => r.Version, r => r.Checksum);
-            var done = new List<int>();
             foreach (var m in Embedded)
             {
                 if (applied.TryGetValue(m.Version, out var checksum))
@@ -56,9 +81,7 @@ public static class MigrationRunner
                 await using var tx = await conn.BeginTransactionAsync(ct);
                 // No client-side timeout: a migration that rewrites a large table must finish (or roll back), not be cut at 30 s.
                 await conn.ExecuteAsync(new CommandDefinition(m.Sql, transaction: tx, commandTimeout: 0, cancellationToken: ct));
-                await conn.ExecuteAsync(new CommandDefinition(
-                    "INSERT INTO schema_migrations (version, name, checksum, applied_at) VALUES (@Version, @Name, @Checksum, @At)",
-                    new { m.Version, m.Name, m.Checksum, At = clock.GetUtcNow() }, tx, cancellationToken: ct));
+                await RecordAsync(conn, tx, m, clock, ct);
                 await tx.CommitAsync(ct);
                 done.Add(m.Version);
             }
@@ -70,22 +93,43 @@ public static class MigrationRunner
         }
     }
 
-    /// <summary>The version the database is at, or 0 when no migration was ever applied.</summary>
+    /// <summary>The highest version applied, or 0 when no migration was ever applied.</summary>
     public static async Task<int> CurrentVersionAsync(NpgsqlDataSource dataSource, CancellationToken ct = default)
     {
-        await using var conn = await dataSource.OpenConnectionAsync(ct);
-        var exists = await conn.ExecuteScalarAsync<bool>(new CommandDefinition(
-            "SELECT to_regclass('schema_migrations') IS NOT NULL", cancellationToken: ct));
-        if (!exists)
-        {
-            return 0;
-        }
-        return await conn.ExecuteScalarAsync<int?>(new CommandDefinition(
-            "SELECT max(version) FROM schema_migrations", cancellationToken: ct)) ?? 0;
+        var applied = await AppliedVersionsAsync(dataSource, ct);
+        return applied.Count == 0 ? 0 : applied.Max();
     }
 
-    private const string CreateHistorySql = """
-        CREATE TABLE IF NOT EXISTS schema_migrations (
+    /// <summary>Versions shipped with this build that the database does not carry yet (empty when up to date).</summary>
+    public static async Task<IReadOnlyList<int>> PendingVersionsAsync(NpgsqlDataSource dataSource, CancellationToken ct = default)
+    {
+        var applied = await AppliedVersionsAsync(dataSource, ct);
+        return Embedded.Select(m => m.Version).Where(v => !applied.Contains(v)).ToList();
+    }
+
+    private static async Task<HashSet<int>> AppliedVersionsAsync(NpgsqlDataSource dataSource, CancellationToken ct)
+    {
+        await using var conn = await dataSource.OpenConnectionAsync(ct);
+        string? table = await TableExistsAsync(conn, HistoryTable, ct) ? HistoryTable
+            : await TableExistsAsync(conn, LegacyHistoryTable, ct) ? LegacyHistoryTable
+            : null;
+        if (table is null)
+        {
+            return [];
+        }
+        return (await conn.QueryAsync<int>(new CommandDefinition($"SELECT version FROM {table}", cancellationToken: ct))).ToHashSet();
+    }
+
+    private static Task<bool> TableExistsAsync(NpgsqlConnection conn, string table, CancellationToken ct) =>
+        conn.ExecuteScalarAsync<bool>(new CommandDefinition("SELECT to_regclass(@table) IS NOT NULL", new { table }, cancellationToken: ct));
+
+    private static Task RecordAsync(NpgsqlConnection conn, NpgsqlTransaction tx, Migration m, TimeProvider clock, CancellationToken ct) =>
+        conn.ExecuteAsync(new CommandDefinition(
+            $"INSERT INTO {HistoryTable} (version, name, checksum, applied_at) VALUES (@Version, @Name, @Checksum, @At)",
+            new { m.Version, m.Name, m.Checksum, At = clock.GetUtcNow() }, tx, cancellationToken: ct));
+
+    private const string CreateHistorySql = $$"""
+        CREATE TABLE IF NOT EXISTS {{HistoryTable}} (
             version    integer PRIMARY KEY,
             name       text NOT NULL,
             checksum   text NOT NULL,

@@ -61,6 +61,39 @@ public sealed class CandidateIntakeTests(TriageApiFactory api)
     }
 
     [Theory]
+    [InlineData(40)] // staged with binary COPY
+    [InlineData(2)] // merged from array parameters
+    public async Task PostBatch_OlderSnapshotAfterNewer_UnchangedNoHistoryEventNothingOverwritten(int count)
+    {
+        var client = api.ClientWith(await api.KeyAsync(Scope.Broker));
+        var newer = Enumerable.Range(0, count).Select(_ => CandidateBodies.Candidate(points: 10)).ToArray();
+        foreach (var c in newer) c["subtypeProbabilities"] = new JsonObject { ["Ia"] = 0.9, ["II"] = 0.1 };
+        await (await client.PostAsync("/api/candidates/batches", Bodies.Json(CandidateBodies.Batch(newer)))).ReadObjectAsync();
+
+        // The same candidates as the broker saw them earlier: six points and older probabilities.
+        var older = newer.Select(c =>
+        {
+            var o = CandidateBodies.Candidate((string)c["id"]!, points: 6);
+            o["subtypeProbabilities"] = new JsonObject { ["II"] = 0.7, ["Ia"] = 0.3 };
+            return o;
+        }).ToArray();
+        var answer = await (await client.PostAsync("/api/candidates/batches", Bodies.Json(CandidateBodies.Batch(older)))).ReadObjectAsync();
+
+        Assert.Equal(count, (int)answer["unchanged"]!);
+        Assert.Equal(0, (int)answer["updated"]!);
+        Assert.Equal(0, (int)answer["photometryWritten"]!);
+        await using var conn = await api.DataSource.OpenConnectionAsync();
+        var list = newer.Select(c => (string)c["id"]!).ToArray();
+        var events = await conn.QueryAsync<string>(
+            "SELECT e.kind FROM candidate_events e JOIN candidates c ON c.id = e.candidate_id WHERE c.broker_candidate_id = ANY(@list)", new { list });
+        Assert.All(events, kind => Assert.Equal("created", kind));
+        Assert.Equal(count, events.Count());
+        var probabilities = await conn.QueryAsync<string>(
+            "SELECT subtype_probabilities::text FROM candidates WHERE broker_candidate_id = ANY(@list)", new { list });
+        Assert.All(probabilities, p => Assert.Contains("0.9", p, StringComparison.Ordinal));
+    }
+
+    [Theory]
     [InlineData(40)] // staged with binary COPY: the existing candidates' points go through the staging merge
     [InlineData(3)] // merged from array parameters
     public async Task PostBatch_ExtendedNextToNewCandidates_OnlyNewPointsWritten(int count)

@@ -13,8 +13,8 @@ public static class Bodies
         var o = new JsonObject
         {
             ["name"] = name ?? Unique.Name("site"),
-            ["latitudeDeg"] = -24.6,
-            ["longitudeDeg"] = -70.4,
+            ["latitudeDeg"] = -26.4, // empty ground (a salt flat), over 1° from any observatory
+            ["longitudeDeg"] = -69.1,
             ["elevationM"] = 2600,
             ["minAltitudeDeg"] = 25,
             ["sunAvoidanceDeg"] = 45,

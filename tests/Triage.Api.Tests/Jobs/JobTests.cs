@@ -79,6 +79,8 @@ public sealed class JobTests(JobsFactory api) : IClassFixture<JobsFactory>
 
         Assert.Equal("succeeded", job.GetProperty("status").GetString());
         Assert.Equal(100, job.GetProperty("percentDone").GetDouble());
+        Assert.StartsWith("finished: succeeded", job.GetProperty("step").GetString(), StringComparison.Ordinal);
+        Assert.Equal(JsonValueKind.Null, job.GetProperty("etaSeconds").ValueKind);
         Assert.Equal(210, job.GetProperty("result").GetProperty("sum").GetInt32());
         Assert.Equal(1, job.GetProperty("attempts").GetInt32());
     }

@@ -51,16 +51,6 @@ public sealed class NightScenario
         var byBroker = page!["items"]!.AsArray().ToDictionary(i => (string)i!["brokerCandidateId"]!, i => (string)i!["id"]!);
         var ids = brokerIds.Select(b => byBroker[b]).ToArray();
 
-        var observedUtc = DateTimeOffset.UtcNow.AddMinutes(-30).ToString("O");
-        await PostAsync(client, $"/api/candidates/{ids[0]}/observations", new JsonObject
-        {
-            ["spectrographId"] = spectrographs[0], ["outcome"] = "done", ["achievedSnr"] = 18.0, ["observedUtc"] = observedUtc,
-        });
-        await PostAsync(client, $"/api/candidates/{ids[1]}/observations", new JsonObject
-        {
-            ["spectrographId"] = spectrographs[1], ["outcome"] = "weather", ["observedUtc"] = observedUtc,
-        });
-
         var night = new DateOnly(2040, 1, 1).AddDays(Interlocked.Increment(ref _nights) + Random.Shared.Next(0, 20000)); // within the sky model's years
         var scenario = new NightScenario
         {
@@ -71,6 +61,17 @@ public sealed class NightScenario
         await scenario.StorePlanAsync(host,
             [Entry(ids[0], t0, 18.4), Entry(ids[2], t0.AddMinutes(40), 19.1)],
             [Entry(ids[1], t0.AddMinutes(10), 20.2), Entry(ids[3], t0.AddMinutes(90), 20.8)]);
+        // Reported after the version was computed, so the reports are about its entries.
+        var observedUtc = DateTimeOffset.UtcNow.AddMinutes(-30).ToString("O");
+        await PostAsync(client, $"/api/candidates/{ids[0]}/observations", new JsonObject
+        {
+            ["spectrographId"] = spectrographs[0], ["outcome"] = "done", ["achievedSnr"] = 18.0, ["observedUtc"] = observedUtc,
+        });
+        await PostAsync(client, $"/api/candidates/{ids[1]}/observations", new JsonObject
+        {
+            ["spectrographId"] = spectrographs[1], ["outcome"] = "weather", ["observedUtc"] = observedUtc,
+        });
+
         return scenario;
     }
 
@@ -104,7 +105,7 @@ public sealed class NightScenario
     private static JsonObject SiteBody(string name) => new()
     {
         ["name"] = name, ["observatory"] = "Invented Ridge Observatory",
-        ["latitudeDeg"] = -29.3, ["longitudeDeg"] = -70.7, ["elevationM"] = 2300,
+        ["latitudeDeg"] = -28.5, ["longitudeDeg"] = -68.9, ["elevationM"] = 2300,
         ["minAltitudeDeg"] = 25, ["sunAvoidanceDeg"] = 45, ["moonAvoidanceDeg"] = 20, ["seeingArcsec"] = 1.0,
         ["darkSkyMagArcsec2"] = 21.6, ["skyReferenceWavelengthAngstrom"] = 6000, ["extinctionMagPerAirmass"] = 0.12,
     };

@@ -72,9 +72,11 @@ public class LightCurveFitterTests
         Assert.Equal(Trend.Rising, curve.Trend);
         Assert.Equal(-0.2, curve.SlopeMagPerDay.Value, 6);
         Assert.True(state.PeakMjd.Sigma >= 5);
-        // Two days after the last point the line continues: 19.2 − 0.4 = 18.8, with σ growing outside the data.
+        // After the last point the rise slows to zero at the assumed peak 12 d later (first + 16 d):
+        // a parabola tangent to the line, gaining 0.2 × 12 / 2 = 1.2 mag in all; two days on,
+        // 19.2 − 1.2 × (1 − (10/12)²) = 18.8333, with σ growing outside the data.
         var m = state.PredictMagnitude(Peak.AddDays(-4), "r");
-        Assert.Equal(18.8, m.Value, 6);
+        Assert.Equal(19.2 - 1.2 * (1 - Math.Pow(10.0 / 12, 2)), m.Value, 6);
         Assert.True(m.Sigma > state.PredictMagnitude(Peak.AddDays(-8), "r").Sigma);
     }
 
@@ -138,5 +140,49 @@ public class LightCurveFitterTests
         Assert.False(state.HasCurve);
         Assert.True(double.IsNaN(state.PredictMagnitude(Peak, "r").Value));
         Assert.Null(state.Snapshot(Peak).PhaseDays);
+    }
+
+    /// <summary>
+    /// 18.9 → 18.0 mag in r over 3 days at z = 0.03 (μ ≈ 35.6): a straight line continued to the
+    /// assumed peak 16 d after the first point reached 14.1 mag (M ≈ −21.5, only superluminous
+    /// objects get there, and they do not rise 0.3 mag/day). The bounded rise stays at a normal
+    /// supernova's luminosity and says how uncertain it is.
+    /// </summary>
+    [Theory]
+    [InlineData(4, 0.03)]
+    [InlineData(7, 0.03)]
+    [InlineData(4, null)]
+    public void Fit_RisingOnlyThreeDays_PeakBoundedByThePriorWithWideUncertainty(int points, double? redshift)
+    {
+        var rng = new Random(14);
+        var data = Enumerable.Range(0, points).Select(i =>
+        {
+            double t = CurveSimulator.PeakMjd - 20 + 3.0 * i / (points - 1);
+            double trueMag = 18.9 - 0.9 * i / (points - 1);
+            double flux = AbMagnitude.ToMicroJansky(trueMag), error = 0.03 * flux;
+            return CurveSimulator.Point(t, "r", flux + error * CurveSimulator.Gaussian(rng), error);
+        }).ToList();
+
+        var state = LightCurveFitter.Fit(CurveSimulator.Candidate("riser", data, redshift));
+
+        var curve = Assert.IsType<MagnitudeSlopeCurve>(state.Reference);
+        Assert.Equal(Trend.Rising, curve.Trend);
+        var peak = state.PeakMagnitude;
+        Assert.True(peak.Value < 18.0, $"still rising, so the peak is brighter than the last point: {peak}");
+        Assert.True(peak.Sigma >= 0.5, $"a peak extrapolated ~13 days must say it is uncertain: {peak}");
+        if (redshift is double z)
+        {
+            double absolute = peak.Value - LightCurveFeatures.DistanceModulus(z);
+            // Bright thermonuclear supernovae peak near −19.5 (from memory); −20.5 leaves room for the 1σ spread.
+            Assert.InRange(absolute, -20.5, -17.6);
+        }
+        else
+        {
+            // Without a redshift only the slowing rise bounds it: at most half the straight line's gain.
+            Assert.True(peak.Value > 18.0 - 0.3 * 13 / 2 - 0.3, $"{peak}");
+        }
+        // The predicted magnitude tonight (5 days after the last point) lies between the last point and the peak.
+        var tonight = state.PredictMagnitude(ModifiedJulianDate.ToUtc(CurveSimulator.PeakMjd - 12), "r");
+        Assert.InRange(tonight.Value, peak.Value, 18.1);
     }
 }

@@ -1,0 +1,145 @@
+using System.Collections.Concurrent;
+using System.Diagnostics;
+using System.Net;
+using Dapper;
+using Microsoft.AspNetCore.Hosting;
+using Microsoft.AspNetCore.TestHost;
+using Microsoft.Extensions.DependencyInjection;
+using Triage.Api.Jobs;
+using Triage.Api.Tests.Infrastructure;
+using Triage.Storage.Access;
+using Triage.Storage.Jobs;
+
+namespace Triage.Api.Tests.Operations;
+
+/// <summary>A job kind only the replica tests queue: records which replica ran which job.</summary>
+public sealed class ProbeHandler(string replica, ConcurrentQueue<(Guid Job, string Replica)> runs) : IJobHandler
+{
+    public const string JobKind = "replica-probe";
+
+    public string Kind => JobKind;
+
+    public async Task<string> RunAsync(JobRun run, IProgress<JobProgress> progress, CancellationToken ct)
+    {
+        var job = System.Text.Json.JsonDocument.Parse(run.InputJson).RootElement.GetProperty("probe").GetGuid();
+        runs.Enqueue((job, replica));
+        // Long enough that both replicas find work while the other is busy.
+        await Task.Delay(100, ct);
+        return $$"""{"replica":"{{replica}}"}""";
+    }
+}
+
+/// <summary>Replica A: its own database; keys cached for a minute so only a notification can refuse a revoked key in time.</summary>
+public class ReplicaAFactory : IsolatedDatabaseFactory
+{
+    public ConcurrentQueue<(Guid Job, string Replica)> Runs { get; } = new();
+
+    protected virtual string Replica => "A";
+
+    protected override void ConfigureWebHost(IWebHostBuilder builder)
+    {
+        base.ConfigureWebHost(builder);
+        builder.UseSetting("Triage:Access:KeyCacheSeconds", "60");
+        builder.UseSetting("Triage:Jobs:PollInterval", "00:00:05");
+        builder.ConfigureTestServices(s => s.AddSingleton<IJobHandler>(new ProbeHandler(Replica, Runs)));
+    }
+}
+
+/// <summary>Replica B: a second host on replica A's database.</summary>
+public sealed class ReplicaBFactory(ReplicaAFactory first) : TriageApiFactory
+{
+    protected override void ConfigureWebHost(IWebHostBuilder builder)
+    {
+        base.ConfigureWebHost(builder);
+        builder.UseSetting("ConnectionStrings:Triage", first.IsolatedConnectionString);
+        builder.UseSetting("Triage:Access:KeyCacheSeconds", "60");
+        builder.UseSetting("Triage:Jobs:PollInterval", "00:00:05");
+        builder.ConfigureTestServices(s => s.AddSingleton<IJobHandler>(new ProbeHandler("B", first.Runs)));
+    }
+}
+
+/// <summary>Two in-process hosts on one database, as two replicas behind a proxy would be.</summary>
+public sealed class ReplicaPair : IDisposable
+{
+    public ReplicaAFactory A { get; } = new();
+
+    public ReplicaBFactory B { get; }
+
+    public ReplicaPair()
+    {
+        B = new ReplicaBFactory(A);
+        _ = A.Server;
+        _ = B.Server;
+    }
+
+    public void Dispose()
+    {
+        B.Dispose();
+        A.Dispose();
+    }
+}
+
+/// <summary>
+/// Several replicas on one database: a key revoked through one is refused by the other within a
+/// second although both cache keys for a minute (LISTEN/NOTIFY), and jobs queued once are each
+/// run exactly once, by both replicas between them (claims with FOR UPDATE SKIP LOCKED; idle
+/// workers woken by the notification, not by their 5 s poll).
+/// </summary>
+public sealed class ReplicaTests(ReplicaPair pair) : IClassFixture<ReplicaPair>
+{
+    [Fact]
+    public async Task RevokeOnOneReplica_OtherReplicaRefusesTheKeyWithinOneSecond()
+    {
+        var keys = pair.A.Services.GetRequiredService<KeyStore>();
+        var admin = pair.A.ClientWith(await pair.A.KeyAsync(Scope.Admin));
+        var issued = await keys.IssueAsync("replica test broker", [Scope.Broker], null, DateTimeOffset.UtcNow);
+        var onB = pair.B.ClientWith(issued.Secret);
+        var onA = pair.A.ClientWith(issued.Secret);
+        // Both replicas have the key in their caches.
+        Assert.Equal(HttpStatusCode.OK, (await onB.GetAsync("/api/plans/2026-12-02/versions")).StatusCode);
+        Assert.Equal(HttpStatusCode.OK, (await onA.GetAsync("/api/plans/2026-12-02/versions")).StatusCode);
+
+        var revoked = await admin.DeleteAsync($"/api/keys/{issued.Key.Id}");
+        Assert.True(revoked.IsSuccessStatusCode, await revoked.Content.ReadAsStringAsync());
+        var clock = Stopwatch.StartNew();
+        HttpStatusCode status;
+        do
+        {
+            status = (await onB.GetAsync("/api/plans/2026-12-02/versions")).StatusCode;
+        }
+        while (status == HttpStatusCode.OK && clock.Elapsed < TimeSpan.FromSeconds(5));
+
+        Assert.Equal(HttpStatusCode.Unauthorized, status);
+        Assert.True(clock.Elapsed < TimeSpan.FromSeconds(1), $"replica B still accepted the key {clock.ElapsedMilliseconds} ms after the revocation");
+    }
+
+    [Fact]
+    public async Task JobsQueuedOnce_AreEachRunExactlyOnce_ByBothReplicas()
+    {
+        const int count = 24;
+        var jobs = pair.A.Services.GetRequiredService<JobStore>();
+        var probes = new List<Guid>();
+        for (var i = 0; i < count; i++)
+        {
+            var probe = Guid.NewGuid();
+            probes.Add(probe);
+            await jobs.EnqueueAsync(ProbeHandler.JobKind, $$"""{"probe":"{{probe}}"}""", null, DateTimeOffset.UtcNow);
+        }
+
+        await using var conn = await pair.A.DataSource.OpenConnectionAsync();
+        var clock = Stopwatch.StartNew();
+        while (await conn.ExecuteScalarAsync<int>("SELECT count(*) FROM jobs WHERE kind = @k AND status = 'succeeded'", new { k = ProbeHandler.JobKind }) < count)
+        {
+            Assert.True(clock.Elapsed < TimeSpan.FromSeconds(60), "the probes did not all finish within 60 s");
+            await Task.Delay(100);
+        }
+
+        var runs = pair.A.Runs.Where(r => probes.Contains(r.Job)).ToList();
+        Assert.Equal(probes.Order(), runs.Select(r => r.Job).Order());
+        Assert.Contains(runs, r => r.Replica == "A");
+        Assert.Contains(runs, r => r.Replica == "B");
+        Assert.Equal(0, await conn.ExecuteScalarAsync<int>("SELECT count(*) FROM jobs WHERE kind = @k AND attempts <> 1", new { k = ProbeHandler.JobKind }));
+        // 24 probes of 100 ms on two workers woken by the notification: far less than one 5 s poll per job.
+        Assert.True(clock.Elapsed < TimeSpan.FromSeconds(30), $"took {clock.Elapsed.TotalSeconds:F1} s");
+    }
+}
