@@ -17,6 +17,7 @@ Command[] verbs =
     DegradeVerb.Create(),
     CalibrateVerb.Create(),
     PlotVerb.Create(),
+    SimulateVerb.Create(),
 ];
 foreach (var verb in verbs)
 {

@@ -10,6 +10,12 @@ public sealed record CandidateOptions
     /// <summary>Subtype labels of the active taxonomy (default: the 14 standard labels).</summary>
     public string[] SubtypeLabels { get; init; } = [.. DefaultSubtypeLabels.All];
 
+    /// <summary>
+    /// Posterior probability of one subtype at which a labelled report identifies the candidate
+    /// (default 0.9); below it the candidate becomes unsettled.
+    /// </summary>
+    public double IdentificationConfidence { get; init; } = Triage.Core.Identification.PosteriorUpdate.DefaultConfidence;
+
     /// <summary>Most candidates per batch (default 5,000).</summary>
     public int MaxCandidatesPerBatch { get; init; } = 5000;
 
@@ -63,7 +69,11 @@ public sealed record CandidateDetailResponse(
     SubtypePriorResponse Prior,
     IReadOnlyDictionary<string, double>? BrokerSubtypeProbabilities,
     IReadOnlyList<CandidateEventRow> History,
-    IReadOnlyList<ObservationReportRow> Observations);
+    IReadOnlyList<ObservationReportRow> Observations)
+{
+    /// <summary>Subtype probabilities after the labelled reports (null: none weighed yet).</summary>
+    public IReadOnlyDictionary<string, double>? Posterior { get; init; }
+}
 
 /// <summary>A subtype prior.</summary>
 public sealed record SubtypePriorResponse(string Source, IReadOnlyDictionary<string, double> Probabilities, IReadOnlyList<string> Evidence)
@@ -77,15 +87,38 @@ public sealed record SubtypePriorResponse(string Source, IReadOnlyDictionary<str
 /// <summary>Body of a state change by a scheduler: <c>to</c> is new, planned, abandoned or stale; <c>force</c> re-plans a classified candidate.</summary>
 public sealed record TransitionRequest(string? To, bool? Force, string? Reason);
 
+/// <summary>Body of a confirmed identification by a scheduler or admin: the subtype <c>label</c> and an optional reason.</summary>
+public sealed record IdentificationRequest(string? Label, string? Reason);
+
 /// <summary>Answer to a state change.</summary>
 public sealed record TransitionResponse(Guid Id, string From, string To);
 
-/// <summary>Body of an observation report. <c>outcome</c>: done (needs achievedSnr), weather, failed.</summary>
-public sealed record ObservationReportRequest(Guid? SpectrographId, string? Outcome, double? AchievedSnr, string? ClassifiedLabel, DateTimeOffset? ObservedUtc);
+/// <summary>
+/// Body of an observation report. <c>outcome</c>: done (needs achievedSnr &gt; 0), weather, failed.
+/// With outcome done, <c>classifiedLabel</c> (a subtype or a broad class), optional
+/// <c>classProbabilities</c> (label → probability, summing to 1 ± 0.05) and optional
+/// <c>phaseDays</c> (rest-frame days from peak; default: the fitted light curve's phase) say what
+/// the spectrum showed.
+/// </summary>
+public sealed record ObservationReportRequest(Guid? SpectrographId, string? Outcome, double? AchievedSnr, string? ClassifiedLabel, DateTimeOffset? ObservedUtc)
+{
+    /// <summary>Reported probabilities per label (subtypes or broad classes), summing to 1 ± 0.05.</summary>
+    public IReadOnlyDictionary<string, double>? ClassProbabilities { get; init; }
 
-/// <summary>Answer to an observation report.</summary>
+    /// <summary>Phase of the spectrum, rest-frame days from peak (−100…1000).</summary>
+    public double? PhaseDays { get; init; }
+}
+
+/// <summary>Answer to an observation report. <c>state</c> is classified, unsettled, observed, new...</summary>
 public sealed record ObservationReportResponse(Guid ReportId, Guid CandidateId, string State)
 {
+    /// <summary>Subtype probabilities after a weighed label (null without a label or calibration).</summary>
+    public IReadOnlyDictionary<string, double>? Posterior { get; init; }
+
+    /// <summary>The history line: cell used, probability moved, verdict.</summary>
+    public string? Detail { get; init; }
+
     /// <summary>Why the report looks odd although it was accepted (far from its planned slot, not in the plan, another unit); empty when none.</summary>
     public IReadOnlyList<string> Warnings { get; init; } = [];
 }
+

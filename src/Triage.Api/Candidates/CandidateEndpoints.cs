@@ -2,6 +2,7 @@ using System.Security.Claims;
 using System.Security.Cryptography;
 using System.Text.Json;
 using Microsoft.AspNetCore.Http.HttpResults;
+using Microsoft.Extensions.DependencyInjection.Extensions;
 using Microsoft.Extensions.Options;
 using Triage.Api.Access;
 using Triage.Api.Errors;
@@ -28,6 +29,8 @@ public static class CandidateEndpoints
         services.Configure<CandidateOptions>(config.GetSection("Triage:Candidates"));
         services.AddSingleton<CandidateStore>();
         services.AddSingleton<CandidateFitting>();
+        services.AddSingleton<IdentificationModel>();
+        services.TryAddSingleton<IObservationFollowUp, NoObservationFollowUp>();
         if (config.GetSection("Triage:Candidates").Get<CandidateOptions>()?.FitInBackground ?? true)
         {
             services.AddHostedService<CandidateFitWorker>();
@@ -45,6 +48,7 @@ public static class CandidateEndpoints
         group.MapGet("/{id:guid}", GetCandidate).RequireAuthorization(Policies.AnyKey).WithName("GetCandidate");
         group.MapGet("/by-broker-id/{brokerId}", GetCandidateByBrokerId).RequireAuthorization(Policies.AnyKey).WithName("GetCandidateByBrokerId");
         group.MapPost("/{id:guid}/transitions", Transition).RequireAuthorization(Policies.Scheduler).WithBodyLimit(16 * 1024).WithName("TransitionCandidate");
+        group.MapPost("/{id:guid}/identification", ConfirmIdentification).RequireAuthorization(Policies.Scheduler).WithBodyLimit(16 * 1024).WithName("ConfirmIdentification");
         group.MapPost("/{id:guid}/observations", ReportObservation).RequireAuthorization(Policies.Observatory).WithBodyLimit(16 * 1024).WithName("ReportObservation");
         return app;
     }
@@ -228,7 +232,7 @@ public static class CandidateEndpoints
             SubtypePriorResponse.From(assessment.Prior),
             c.SubtypeProbabilities,
             detail.History,
-            detail.Observations));
+            detail.Observations) { Posterior = detail.Posterior });
     }
 
     /// <summary>
@@ -290,9 +294,44 @@ public static class CandidateEndpoints
         return TypedResults.Ok(new TransitionResponse(id, CandidateLifecycle.Name(from), CandidateLifecycle.Name(to)));
     }
 
+    /// <summary>
+    /// A scheduler or admin confirms the subtype: the candidate becomes classified with the label
+    /// (its earlier labelled reports then count as trials of the units that made them).
+    /// </summary>
+    public static async Task<Results<Ok<TransitionResponse>, ValidationProblem, ProblemHttpResult>> ConfirmIdentification(
+        Guid id, IdentificationRequest request, CandidateStore store, IOptions<CandidateOptions> options, ClaimsPrincipal user,
+        TimeProvider clock, CancellationToken ct)
+    {
+        var checks = new FieldChecks();
+        if (request.Label is not { } label)
+        {
+            checks.Fail("label", "is required");
+        }
+        else if (!options.Value.SubtypeLabels.Contains(label, StringComparer.Ordinal))
+        {
+            checks.Fail("label", $"'{label}' is not a subtype of the active taxonomy");
+        }
+        if (request.Reason is { Length: > 500 })
+        {
+            checks.Fail("reason", "is longer than 500 characters");
+        }
+        if (!checks.IsValid)
+        {
+            return TypedResults.ValidationProblem(checks.ToDictionary());
+        }
+        var (previous, confirmed) = await store.ConfirmLabelAsync(id, request.Label!, Caller.From(user).PublicId, request.Reason, clock.GetUtcNow(), ct);
+        return previous switch
+        {
+            null => Problems.NotFound("id", $"No candidate {id}."),
+            _ when !confirmed => Problems.Conflict("id", $"The candidate is {CandidateLifecycle.Name(previous.Value)}; its label cannot be confirmed."),
+            _ => TypedResults.Ok(new TransitionResponse(id, CandidateLifecycle.Name(previous.Value), CandidateLifecycle.Name(CandidateState.Classified))),
+        };
+    }
+
     public static async Task<Results<Ok<ObservationReportResponse>, ValidationProblem, ProblemHttpResult>> ReportObservation(
         Guid id, ObservationReportRequest request, CandidateStore store, RosterStore roster, IOptions<CandidateOptions> options,
-        PlanStore plans, ReplanScheduler replans, ClaimsPrincipal user, TimeProvider clock, CancellationToken ct)
+        PlanStore plans, ReplanScheduler replans, IdentificationModel identification, CandidateFitting fitting,
+        IObservationFollowUp followUp, ILogger<IObservationFollowUp> log, ClaimsPrincipal user, TimeProvider clock, CancellationToken ct)
     {
         var now = clock.GetUtcNow();
         var checks = new FieldChecks();
@@ -310,7 +349,7 @@ public static class CandidateEndpoints
         }
         if (outcome == ObservationOutcome.Done && request.Outcome == "done")
         {
-            checks.Number("achievedSnr", request.AchievedSnr, 0, 100000);
+            checks.Number("achievedSnr", request.AchievedSnr, 0, 100000, minExclusive: true);
         }
         else if (request.AchievedSnr is { } snr && (!double.IsFinite(snr) || snr < 0))
         {
@@ -322,11 +361,9 @@ public static class CandidateEndpoints
             {
                 checks.Fail("classifiedLabel", "is only accepted with outcome 'done'");
             }
-            else if (!options.Value.SubtypeLabels.Contains(label, StringComparer.Ordinal))
-            {
-                checks.Fail("classifiedLabel", $"'{label}' is not a subtype of the active taxonomy");
-            }
         }
+        var channel = request.ClassifiedLabel is null && request.ClassProbabilities is null ? null : await identification.GetAsync(ct);
+        ReportWeighing.Check(request, checks, options.Value.SubtypeLabels, channel);
         if (request.ObservedUtc is not { } observed)
         {
             checks.Fail("observedUtc", "is required");
@@ -353,23 +390,67 @@ public static class CandidateEndpoints
         {
             return Problems.Forbidden("spectrographId", "This spectrograph belongs to another observatory.");
         }
+        if (await store.GetAsync(id, ct) is not { } detail)
+        {
+            return Problems.NotFound("id", $"No candidate {id}.");
+        }
         var (refusal, warnings, night) = await ReportSanity.CheckAsync(site.Value, id, spectrograph.Value.Id, outcome, request.ObservedUtc!.Value.ToUniversalTime(), plans, ct);
         if (refusal is not null)
         {
             return TypedResults.ValidationProblem(new Dictionary<string, string[]> { ["observedUtc"] = [refusal] });
         }
-        var (result, state, reportId) = await store.ReportObservationAsync(id, spectrograph.Value.Id, outcome, request.AchievedSnr,
-            request.ClassifiedLabel, request.ObservedUtc!.Value.ToUniversalTime(), Caller.From(user).PublicId, now, ct);
-        if (result == ReportOutcome.Recorded && outcome != ObservationOutcome.Done)
+        LabelEvidence? evidence = null;
+        if (request.ClassifiedLabel is not null)
         {
-            // A lost observation frees its slot and puts the candidate back in the waiting set: replan from now.
-            replans.Request(night, "report", $"observation lost ({request.Outcome}) on {spectrograph.Value.Name}");
+            var assessment = await fitting.AssessAsync(detail, ct);
+            evidence = ReportWeighing.Evidence(request, channel, assessment, spectrograph.Value.ResolvingPower, spectrograph.Value.Name,
+                options.Value.IdentificationConfidence);
+        }
+        ReportOutcome result;
+        CandidateState? state;
+        Guid reportId;
+        WeighedLabel? weighed;
+        try
+        {
+            (result, state, reportId, weighed) = await store.ReportObservationAsync(id, spectrograph.Value.Id, outcome, request.AchievedSnr,
+                request.ClassifiedLabel, request.ObservedUtc!.Value.ToUniversalTime(), Caller.From(user).PublicId, now, evidence, ct);
+        }
+        catch (ArgumentException e)
+        {
+            checks.Fail("classifiedLabel", e.Message);
+            return TypedResults.ValidationProblem(checks.ToDictionary());
+        }
+        if (result == ReportOutcome.Recorded)
+        {
+            if (outcome != ObservationOutcome.Done)
+            {
+                // A lost observation frees its slot and puts the candidate back in the waiting set: replan from now.
+                replans.Request(night, "report", $"observation lost ({request.Outcome}) on {spectrograph.Value.Name}");
+            }
+            else if (state == CandidateState.Unsettled)
+            {
+                // A spectrum that left the subtype open: a sharper one is wanted, so replan from now.
+                replans.Request(night, "report", $"a report on {spectrograph.Value.Name} left candidate {id} unsettled");
+            }
+            try
+            {
+                await followUp.ReportedAsync(new ObservationFollowUp(id, spectrograph.Value.Id, request.ObservedUtc!.Value.ToUniversalTime(), state!.Value), ct);
+            }
+            catch (Exception e) when (e is not OperationCanceledException)
+            {
+                log.LogWarning(e, "Follow-up of the report on candidate {CandidateId} failed", id);
+            }
         }
         return result switch
         {
             ReportOutcome.UnknownCandidate => Problems.NotFound("id", $"No candidate {id}."),
             ReportOutcome.RefusedInState => Problems.Conflict("id", $"The candidate is {CandidateLifecycle.Name(state!.Value)}; reports are not accepted."),
-            _ => TypedResults.Ok(new ObservationReportResponse(reportId, id, CandidateLifecycle.Name(state!.Value)) { Warnings = warnings }),
+            _ => TypedResults.Ok(new ObservationReportResponse(reportId, id, CandidateLifecycle.Name(state!.Value))
+            {
+                Posterior = weighed?.PosteriorJson is { } p ? JsonSerializer.Deserialize<Dictionary<string, double>>(p) : null,
+                Detail = weighed?.Detail,
+                Warnings = warnings,
+            }),
         };
     }
 }

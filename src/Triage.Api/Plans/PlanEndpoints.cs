@@ -167,7 +167,7 @@ public static class PlanEndpoints
     }
 
     internal static readonly IReadOnlyDictionary<string, PlanObjective> Objectives =
-        new Dictionary<string, PlanObjective> { ["accuracy"] = PlanObjective.Accuracy, ["information"] = PlanObjective.Information };
+        new Dictionary<string, PlanObjective> { ["accuracy"] = PlanObjective.Accuracy, ["information"] = PlanObjective.Information, ["identification"] = PlanObjective.Identification };
 
     internal static bool TryNight(string text, out DateOnly night, out ProblemHttpResult problem)
     {

@@ -2,6 +2,7 @@ using System.Text.Json;
 using Triage.Api.Events;
 using Triage.Api.Jobs;
 using Triage.Core.Candidates;
+using Triage.Core.Identification;
 using Triage.Core.Planning;
 using Triage.Core.Roster;
 using Triage.Learning;
@@ -79,7 +80,8 @@ public sealed class PlanJobHandler(
         var mustKeep = PreviouslyAssigned(previousVersion?.BodyJson, start.KeptIds);
         var pool = await PoolAsync(sites, spectrographs, surface, input, from, mustKeep, start.KeptIds, ct);
         progress.Report(new JobProgress(0.15, "reading the pool's photometry"));
-        var waiting = (await candidates.WithPhotometryAsync(pool.Kept.Select(Guid.Parse).ToList(), ct))
+        // A candidate with labelled reports is valued from its posterior (what a sharper spectrum would add).
+        var waiting = (await candidates.WithPhotometryAsync(pool.Kept.Select(Guid.Parse).ToList(), ct, posteriorAsPrior: true))
             .Select(w => w.Candidate with { Id = w.Id.ToString() })
             .ToList();
         progress.Report(new JobProgress(0.25, $"fitting {waiting.Count} light curves"));
@@ -89,6 +91,10 @@ public sealed class PlanJobHandler(
             .ToList();
 
         progress.Report(new JobProgress(0.4, "building the night"));
+        // The identification objective plans with each unit's calibration combined with its own outcomes.
+        var sequential = input.Objective == PlanObjective.Identification
+            ? new SequentialPlanSettings { Channels = LearnedChannels(surface, await candidates.LabelledTrialsAsync(ct)) }
+            : new SequentialPlanSettings();
         var night = NightProblemBuilder.Build(sites, spectrographs, targets, surface, input.Night, from, new NightBuildSettings
         {
             Objective = input.Objective,
@@ -96,6 +102,7 @@ public sealed class PlanJobHandler(
             Previous = start.Anchors,
             Closures = NightOperationsStore.ForPlanner(closures),
             Conditions = NightOperationsStore.ForPlanner(conditions),
+            Sequential = sequential,
         });
         var plannedFrom = from > night.Problem.EpochUtc ? from : night.Problem.EpochUtc;
         progress.Report(new JobProgress(0.5, "solving"));
@@ -141,6 +148,23 @@ public sealed class PlanJobHandler(
         return ResultJson(row);
     }
 
+    /// <summary>The labelled reports of identified candidates as trials of their units (labels the calibration knows only).</summary>
+    private static UnitOutcomes LearnedChannels(AccuracySurface surface, IReadOnlyList<LabelledTrialRow> trials)
+    {
+        var outcomes = new UnitOutcomes(surface);
+        var index = surface.Subtypes.Select((s, i) => (s, i)).ToDictionary(t => t.s, t => t.i, StringComparer.Ordinal);
+        foreach (var t in trials)
+        {
+            if (index.TryGetValue(t.Truth, out var truth) && index.TryGetValue(t.Answer, out var answer))
+            {
+                var phase = t.PhaseDays is { } p ? new PhaseBelief(p, 0) : new PhaseBelief(0, AssessedTargetForecast.UnknownPhaseSigmaDays);
+                outcomes.Add(new UnitTrial(t.SpectrographId.ToString(), t.ResolvingPower, t.Snr, phase, truth, answer));
+            }
+        }
+
+        return outcomes;
+    }
+
     private static string ResultJson(PlanVersionRow row) => JsonSerializer.Serialize(new
     {
         night = row.Night.ToString("yyyy-MM-dd", System.Globalization.CultureInfo.InvariantCulture),
@@ -152,7 +176,7 @@ public sealed class PlanJobHandler(
     });
 
     /// <summary>
-    /// The bounded pool: a light row per waiting candidate (new or planned; those executing at the
+    /// The bounded pool: a light row per waiting candidate (new, unsettled or planned; those executing at the
     /// replanning instant are kept apart), ranked by an upper bound of value per hour; the latest
     /// version's assignments always stay, so a replan can keep what it planned.
     /// </summary>
@@ -160,7 +184,7 @@ public sealed class PlanJobHandler(
         IReadOnlyList<Site> sites, IReadOnlyList<Spectrograph> spectrographs, AccuracySurface surface, PlanJobInput input, DateTimeOffset from,
         IReadOnlySet<string> mustKeep, IReadOnlySet<string> exclude, CancellationToken ct)
     {
-        var rows = await candidates.PoolRowsAsync([CandidateState.New, CandidateState.Planned], ct);
+        var rows = await candidates.PoolRowsAsync([CandidateState.New, CandidateState.Unsettled, CandidateState.Planned], ct);
         var night = NightStartUtc(input.Night);
         var pool = rows
             .Where(r => !exclude.Contains(r.Id.ToString()))

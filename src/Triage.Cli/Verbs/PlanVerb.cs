@@ -10,7 +10,7 @@ using Triage.Scheduling;
 namespace Triage.Cli.Verbs;
 
 /// <summary>
-/// <c>plan --roster FILE --candidates FILE --calibration FILE --night YYYY-MM-DD [--objective accuracy|information]
+/// <c>plan --roster FILE --candidates FILE --calibration FILE --night YYYY-MM-DD [--objective accuracy|information|identification]
 /// [--time-limit S] [--from UTC] --out FILE</c>: tonight's plan without a database.
 /// </summary>
 internal static class PlanVerb
@@ -21,7 +21,7 @@ internal static class PlanVerb
         var candidates = new Option<FileInfo>("--candidates") { Description = "Broker batch JSON (the intake API's body).", Required = true };
         var calibration = new Option<FileInfo>("--calibration") { Description = "Calibration JSON as written by `calibrate`.", Required = true };
         var night = new Option<string>("--night") { Description = "Local date of the evening the night starts, YYYY-MM-DD.", Required = true };
-        var objective = new Option<string>("--objective") { Description = "accuracy (expected correct identifications) or information (bits).", DefaultValueFactory = _ => "accuracy" };
+        var objective = new Option<string>("--objective") { Description = "accuracy (expected correct identifications), information (bits) or identification (sequential: posterior ≥ 0.9, with escalation).", DefaultValueFactory = _ => "accuracy" };
         var timeLimit = new Option<double>("--time-limit") { Description = "Solver time limit in seconds (default 5).", DefaultValueFactory = _ => 5 };
         var from = new Option<DateTimeOffset?>("--from") { Description = "Plan nothing before this instant (UTC, ISO 8601); default the start of the night." };
         var output = new Option<FileInfo>("--out") { Description = "Where to write the plan JSON.", Required = true };
@@ -55,7 +55,8 @@ internal static class PlanVerb
         {
             case "accuracy": objective = PlanObjective.Accuracy; break;
             case "information": objective = PlanObjective.Information; break;
-            default: return Fail($"--objective: '{objectiveText}' is not 'accuracy' or 'information'.");
+            case "identification": objective = PlanObjective.Identification; break;
+            default: return Fail($"--objective: '{objectiveText}' is not 'accuracy', 'information' or 'identification'.");
         }
 
         if (!(timeLimit > 0 && timeLimit <= 3600))

@@ -606,7 +606,7 @@ public sealed class AccuracySurface
             channel[i] = (1 - t) * _channel[lo * channel.Length + i] + t * _channel[hi * channel.Length + i];
         }
 
-        return new ResolutionSlice(this, resolvingPower, clamped, channel);
+        return new ResolutionSlice(this, resolvingPower, clamped, channel, Resolutions[lo], Resolutions[hi]);
     }
 
     /// <summary>
@@ -674,9 +674,14 @@ public sealed class ResolutionSlice
     private readonly AccuracySurface _surface;
     private readonly double[] _channel;
 
-    internal ResolutionSlice(AccuracySurface surface, double resolvingPower, bool clamped, double[] channel)
+    private readonly double _gridRLow;
+    private readonly double _gridRHigh;
+
+    internal ResolutionSlice(AccuracySurface surface, double resolvingPower, bool clamped, double[] channel, double gridRLow, double gridRHigh)
     {
         _surface = surface;
+        _gridRLow = gridRLow;
+        _gridRHigh = gridRHigh;
         ResolvingPower = resolvingPower;
         ResolutionClamped = clamped;
         _channel = channel;
@@ -765,6 +770,49 @@ public sealed class ResolutionSlice
         return chan;
     }
 
+    /// <summary>
+    /// The same channel as <see cref="Channel(double, PhaseBelief)"/> written into <paramref name="channel"/>,
+    /// with a description of the calibration cells it came from (for the history of a report).
+    /// </summary>
+    /// <param name="snr">S/N per resolution element, &gt; 0.</param>
+    /// <param name="phase">Phase belief, rest-frame days from peak.</param>
+    /// <param name="channel">Receives K·K values, row-major: row s = answers given true subtype s.</param>
+    /// <returns>Which grid cells were used, with their weights.</returns>
+    /// <exception cref="ArgumentException"><paramref name="channel"/> does not hold K·K values.</exception>
+    /// <exception cref="ArgumentOutOfRangeException">S/N is not positive, or the phase is not finite.</exception>
+    public ChannelCell Channel(double snr, PhaseBelief phase, Span<double> channel)
+    {
+        var clamped = FillChannel(snr, phase, channel);
+        var bins = _surface.Bins;
+        Span<double> w = stackalloc double[bins.Length];
+        PhaseWeights(bins, phase, w);
+        var weights = new List<PhaseBinWeight>();
+        for (var b = 0; b < bins.Length; b++)
+        {
+            if (w[b] != 0)
+            {
+                weights.Add(new PhaseBinWeight(bins[b].Name, w[b]));
+            }
+        }
+
+        var (lo, hi, _, _) = AccuracySurface.Bracket(_surface.LogSnr, Math.Log(snr));
+        var axis = _surface.SnrAxis;
+        return new ChannelCell(ResolvingPower, _gridRLow, _gridRHigh, snr, axis[lo], axis[hi], weights, clamped);
+    }
+
+    /// <summary>The channel written into <paramref name="channel"/> (K·K) without allocating, for valuing many options.</summary>
+    /// <returns>True when R, S/N or phase were clamped to the grid's edge.</returns>
+    /// <exception cref="ArgumentException"><paramref name="channel"/> does not hold K·K values.</exception>
+    public bool FillChannel(double snr, PhaseBelief phase, Span<double> channel)
+    {
+        if (channel.Length != _surface.SubtypeCount * _surface.SubtypeCount)
+        {
+            throw new ArgumentException("The channel must hold K×K values.", nameof(channel));
+        }
+
+        return Mix(snr, phase, channel);
+    }
+
     // Phase-weighted, S/N-interpolated channel; returns whether anything was clamped.
     private bool Mix(double snr, PhaseBelief phase, Span<double> chan)
     {
@@ -843,3 +891,30 @@ public sealed class ResolutionSlice
 
     internal static double NormalCdf(double z) => 0.5 * MathNet.Numerics.SpecialFunctions.Erfc(-z / Math.Sqrt(2));
 }
+
+/// <summary>Weight of one phase bin in a phase-averaged channel.</summary>
+/// <param name="Bin">Phase bin name of the calibration.</param>
+/// <param name="Weight">Probability of the bin under the phase belief, 0…1.</param>
+public readonly record struct PhaseBinWeight(string Bin, double Weight);
+
+/// <summary>
+/// The calibration cells behind one interpolated confusion channel: the requested R and S/N, the
+/// grid points that bracket them (equal when exact or clamped) and the phase bins with weights.
+/// </summary>
+/// <param name="ResolvingPower">Requested R.</param>
+/// <param name="GridResolutionLow">Grid R at or below the request (the edge when clamped).</param>
+/// <param name="GridResolutionHigh">Grid R at or above the request.</param>
+/// <param name="Snr">Requested S/N per resolution element.</param>
+/// <param name="GridSnrLow">Grid S/N at or below the request.</param>
+/// <param name="GridSnrHigh">Grid S/N at or above the request.</param>
+/// <param name="PhaseBins">Phase bins used, with weights summing to 1.</param>
+/// <param name="Clamped">True when R, S/N or phase lay outside the grid and its edge was used.</param>
+public sealed record ChannelCell(
+    double ResolvingPower,
+    double GridResolutionLow,
+    double GridResolutionHigh,
+    double Snr,
+    double GridSnrLow,
+    double GridSnrHigh,
+    IReadOnlyList<PhaseBinWeight> PhaseBins,
+    bool Clamped);

@@ -61,6 +61,39 @@ public sealed record NightBuildSettings
     /// of the value of every assignment it undoes. 0…1; default 0.1.
     /// </summary>
     public double StabilityShare { get; init; } = 0.1;
+
+    /// <summary>Settings of <see cref="PlanObjective.Identification"/> (ignored by the other objectives). Default: τ = 0.9, escalation on.</summary>
+    public SequentialPlanSettings Sequential { get; init; } = new();
+}
+
+/// <summary>Settings of the sequential (identification) objective.</summary>
+public sealed record SequentialPlanSettings
+{
+    /// <summary>Posterior probability τ at which a candidate counts as identified. Default 0.9.</summary>
+    public double Confidence { get; init; } = Identification.PosteriorUpdate.DefaultConfidence;
+
+    /// <summary>Value escalating unsettled answers to the sharpest available unit. Default true.</summary>
+    public bool Escalate { get; init; } = true;
+
+    /// <summary>S/N per resolution element assumed for the follow-up spectrum. Default 20.</summary>
+    public double FollowUpSnr { get; init; } = 20;
+
+    /// <summary>
+    /// q: share of unsettled results the remaining high-R capacity can take, 0…1. Default 0.5 (the
+    /// season simulator sets it each night from the pool and the capacity).
+    /// </summary>
+    public double CapacityShare { get; init; } = 0.5;
+
+    /// <summary>Where each unit's confusion channel comes from. Default: the calibration's (no outcome learning).</summary>
+    public IUnitChannels? Channels { get; init; }
+}
+
+/// <summary>A unit's confusion channel: the calibration's, or the calibration combined with the unit's outcomes.</summary>
+public interface IUnitChannels
+{
+    /// <summary>Fills C(j|k) (K·K) for a spectrum on unit <paramref name="unitId"/> at S/N and phase.</summary>
+    /// <returns>True when the calibration grid was clamped.</returns>
+    bool Fill(string unitId, ResolutionSlice slice, double snr, PhaseBelief phase, Span<double> channel);
 }
 
 /// <summary>A span when a site (all its units) or one spectrograph is closed.</summary>
@@ -313,6 +346,10 @@ public static class NightProblemBuilder
         var dimming = unitRoster.Select(u => settings.Conditions.TryGetValue(u.Item1.Id, out var sc) ? sc.ExtinctionOffsetMag ?? 0 : 0).ToArray();
         // Only the measured S/N levels: a noiseless cell is no exposure anyone can take.
         var snrLevels = surface.FiniteSnrLevels;
+        var sequential = settings.Objective == PlanObjective.Identification ? settings.Sequential : null;
+        var followUnit = sequential is { Escalate: true } && units.Count > 0
+            ? Enumerable.Range(0, units.Count).MaxBy(u => units[u].ResolvingPower)
+            : -1;
 
         // Candidates are independent: built in parallel, gathered in input order.
         (PlanningCandidate Candidate, List<PlanOption> Options, bool Clamped) BuildCandidate(int c)
@@ -414,9 +451,21 @@ public static class NightProblemBuilder
 
                             var value = slices[u].Evaluate(prior, snr, phase);
                             clamped |= value.Clamped && !slices[u].ResolutionClamped;
-                            var unweighted = settings.Objective == PlanObjective.Accuracy ? value.ExpectedAccuracy : value.InformationBits;
+                            string? explanation = null;
+                            double unweighted;
+                            if (sequential is not null)
+                            {
+                                var v = SequentialLevelValue(sequential, units, slices, u, followUnit, prior, snr, phase);
+                                unweighted = v.Total;
+                                explanation = followUnit >= 0 ? Identification.SequentialValuation.Explain(v, surface.Subtypes, units[followUnit].ResolvingPower) : null;
+                            }
+                            else
+                            {
+                                unweighted = settings.Objective == PlanObjective.Accuracy ? value.ExpectedAccuracy : value.InformationBits;
+                            }
+
                             levels.Add(new ExposureLevel(snr, estimate.ExposureSeconds, estimate.ElapsedSeconds, value.ExpectedAccuracy,
-                                value.InformationBits, target.ScienceWeight * unweighted, estimate.ExposureCount));
+                                value.InformationBits, target.ScienceWeight * unweighted, estimate.ExposureCount) { Explanation = explanation });
                         }
 
                         if (levels.Count > 0)
@@ -489,5 +538,34 @@ public static class NightProblemBuilder
         }
 
         return pieces.Where(p => p.LengthSeconds > 0).ToList();
+    }
+
+    private static Identification.SequentialValue SequentialLevelValue(
+        SequentialPlanSettings sequential, List<PlanningUnit> units, ResolutionSlice[] slices, int u, int followUnit,
+        double[] prior, double snr, PhaseBelief phase)
+    {
+        var k = prior.Length;
+        var channel = new double[k * k];
+        Fill(sequential, units[u].Id, slices[u], snr, phase, channel);
+        var follow = Array.Empty<double>();
+        if (followUnit >= 0 && units[followUnit].ResolvingPower > units[u].ResolvingPower)
+        {
+            follow = new double[k * k];
+            Fill(sequential, units[followUnit].Id, slices[followUnit], sequential.FollowUpSnr, phase, follow);
+        }
+
+        return Identification.SequentialValuation.Evaluate(prior, channel, follow, sequential.CapacityShare, sequential.Confidence);
+    }
+
+    private static void Fill(SequentialPlanSettings sequential, string unitId, ResolutionSlice slice, double snr, PhaseBelief phase, double[] channel)
+    {
+        if (sequential.Channels is { } channels)
+        {
+            channels.Fill(unitId, slice, snr, phase, channel);
+        }
+        else
+        {
+            slice.FillChannel(snr, phase, channel);
+        }
     }
 }

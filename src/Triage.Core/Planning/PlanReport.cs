@@ -156,6 +156,11 @@ public static class PlanReport
         var here = problem.Units[option.Unit];
         var text = string.Create(inv,
             $"A={level.ExpectedAccuracy:F2} at S/N {level.Snr:F0} per resolution element on {here.Name} (R={here.ResolvingPower:F0}) in {level.DurationSeconds / 60:F0} min, value {level.Value:F3}");
+        if (level.Explanation is { } why)
+        {
+            text += "; " + why;
+        }
+
         if (runnerUp is null)
         {
             text += "; no other unit can take it tonight";

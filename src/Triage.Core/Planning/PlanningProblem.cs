@@ -8,6 +8,12 @@ public enum PlanObjective
 
     /// <summary>Expected information gained about the subtypes, Σ weight · I (bits).</summary>
     Information,
+
+    /// <summary>
+    /// Expected correct identifications under the sequential rule (posterior ≥ τ), with the value of
+    /// escalating unsettled answers to a sharper unit (see <c>SequentialValuation</c>).
+    /// </summary>
+    Identification,
 }
 
 /// <summary>A time interval in seconds from a problem's epoch, [From, To).</summary>
@@ -75,7 +81,11 @@ public sealed record ExposureLevel(
     double ExpectedAccuracy,
     double InformationBits,
     double Value,
-    int ExposureCount = 1);
+    int ExposureCount = 1)
+{
+    /// <summary>Plain-words account of the value when it has parts worth naming (escalation), else null.</summary>
+    public string? Explanation { get; init; }
+}
 
 /// <summary>
 /// A way to observe one candidate on one unit: any start such that the whole observation lies

@@ -108,6 +108,13 @@ public sealed class CalibrationStore(NpgsqlDataSource dataSource)
         return rows.Select(r => r.ToRow()).ToList();
     }
 
+    /// <summary>Id of the active calibration, or null when none is active.</summary>
+    public async Task<Guid?> ActiveIdAsync(CancellationToken ct = default)
+    {
+        await using var conn = await dataSource.OpenConnectionAsync(ct);
+        return await conn.QuerySingleOrDefaultAsync<Guid?>(new CommandDefinition("SELECT id FROM calibrations WHERE active", cancellationToken: ct));
+    }
+
     /// <summary>One calibration with its document; the active one when <paramref name="id"/> is null.</summary>
     public async Task<(CalibrationRow Row, string DocumentJson)?> GetAsync(Guid? id, CancellationToken ct = default)
     {

@@ -68,15 +68,18 @@ public sealed partial class CandidateStore
         FROM candidate_photometry WHERE candidate_id = ANY(@ids) ORDER BY candidate_id, observed_at, band;
         """;
 
-    /// <summary>The candidates with the given ids (those that exist) with their photometry, in one round trip, ordered by id.</summary>
-    public async Task<IReadOnlyList<(Guid Id, Candidate Candidate)>> WithPhotometryAsync(IReadOnlyCollection<Guid> ids, CancellationToken ct = default)
+    /// <summary>
+    /// The candidates with the given ids (those that exist) with their photometry, in one round trip, ordered by id.
+    /// With <paramref name="posteriorAsPrior"/> a stored posterior (after labelled reports) replaces the broker's probabilities.
+    /// </summary>
+    public async Task<IReadOnlyList<(Guid Id, Candidate Candidate)>> WithPhotometryAsync(IReadOnlyCollection<Guid> ids, CancellationToken ct = default, bool posteriorAsPrior = false)
     {
         ArgumentNullException.ThrowIfNull(ids);
         await using var conn = await dataSource.OpenConnectionAsync(ct);
         await using var grid = await conn.QueryMultipleAsync(new CommandDefinition(ByIdsSql, new { ids = ids.ToArray() }, cancellationToken: ct));
         var rows = (await grid.ReadAsync<DetailRowData>()).ToList();
         var photometry = (await grid.ReadAsync<OwnedPhotometryRowData>()).ToLookup(p => p.CandidateId, p => p.Point.ToPoint());
-        return rows.Select(r => (r.Id, r.ToCandidate(photometry[r.Id].ToList()))).ToList();
+        return rows.Select(r => (r.Id, r.ToCandidate(photometry[r.Id].ToList(), posteriorAsPrior))).ToList();
     }
 
     private sealed class PoolRowData

@@ -49,12 +49,60 @@ public sealed record CandidateEventRow(DateTimeOffset At, string Kind, string? F
 
 /// <summary>One observation report.</summary>
 public sealed record ObservationReportRow(
-    Guid Id, Guid SpectrographId, string Outcome, double? AchievedSnr, string? ClassifiedLabel, DateTimeOffset ObservedAt, DateTimeOffset ReportedAt, string Reporter);
+    Guid Id, Guid SpectrographId, string Outcome, double? AchievedSnr, string? ClassifiedLabel, DateTimeOffset ObservedAt, DateTimeOffset ReportedAt, string Reporter)
+{
+    /// <summary>Reported probabilities per label (null: only a label, or no label).</summary>
+    public IReadOnlyDictionary<string, double>? ReportedProbabilities { get; init; }
+
+    /// <summary>Reported phase, rest-frame days from peak (null when not given).</summary>
+    public double? PhaseDays { get; init; }
+
+    /// <summary>R of the unit when the report was weighed.</summary>
+    public double? ResolvingPower { get; init; }
+
+    /// <summary>Subtype probabilities before the report (null: the label was not weighed).</summary>
+    public IReadOnlyDictionary<string, double>? Prior { get; init; }
+
+    /// <summary>Subtype probabilities after the report.</summary>
+    public IReadOnlyDictionary<string, double>? Posterior { get; init; }
+
+    /// <summary>The calibration cells whose confusion channel weighed the label (JSON).</summary>
+    public System.Text.Json.JsonElement? ConfusionCell { get; init; }
+
+    /// <summary>Calibration used.</summary>
+    public Guid? CalibrationId { get; init; }
+}
+
+/// <summary>What the store holds about a candidate's subtype belief when a report arrives (read under the row lock).</summary>
+/// <param name="PosteriorJson">Label → probability after the last weighed report, or null.</param>
+public sealed record StoredBelief(string? PosteriorJson);
+
+/// <summary>How a labelled report was weighed (computed by the caller under the row lock).</summary>
+/// <param name="Settled">The posterior reached the identification confidence: the candidate becomes classified.</param>
+/// <param name="StoredLabel">Label kept on the candidate: the winning subtype when settled, else null.</param>
+/// <param name="PriorJson">Label → probability before the report.</param>
+/// <param name="PosteriorJson">Label → probability after it.</param>
+/// <param name="CellJson">The calibration cells used, or null when the label was taken as reported.</param>
+/// <param name="ResolvingPower">R of the unit.</param>
+/// <param name="CalibrationId">Calibration whose channel was used, or null.</param>
+/// <param name="Detail">History line.</param>
+public sealed record WeighedLabel(bool Settled, string? StoredLabel, string? PriorJson, string? PosteriorJson, string? CellJson,
+    double? ResolvingPower, Guid? CalibrationId, string Detail);
+
+/// <summary>The extra content of a labelled report.</summary>
+/// <param name="ProbabilitiesJson">Reported probabilities per label, or null.</param>
+/// <param name="PhaseDays">Reported phase, or null.</param>
+/// <param name="Weigh">Computes the update from the belief read under the lock; may throw <see cref="ArgumentException"/> to refuse (nothing is stored).</param>
+public sealed record LabelEvidence(string? ProbabilitiesJson, double? PhaseDays, Func<StoredBelief, WeighedLabel> Weigh);
 
 /// <summary>Everything stored about one candidate.</summary>
 public sealed record CandidateDetail(
     CandidateListRow Summary, Candidate Candidate, int DataVersion, int FitVersion, string? FitJson, string? PriorJson,
-    IReadOnlyList<CandidateEventRow> History, IReadOnlyList<ObservationReportRow> Observations);
+    IReadOnlyList<CandidateEventRow> History, IReadOnlyList<ObservationReportRow> Observations)
+{
+    /// <summary>Subtype probabilities after the last weighed labelled report (null: none yet).</summary>
+    public IReadOnlyDictionary<string, double>? Posterior { get; init; }
+}
 
 /// <summary>A fit computed for a stored candidate.</summary>
 public sealed record StoredFit(Guid Id, int DataVersion, string FitJson, string PriorJson, double? PredictedMag, double? PredictedMagRate, DateTimeOffset FittedAt);
@@ -481,7 +529,7 @@ public sealed partial class CandidateStore(NpgsqlDataSource dataSource)
     private const string DetailColumns = $"""
         {ListColumns}, redshift_error AS RedshiftError, subtype_probabilities::text AS SubtypeProbabilities,
             notes AS Notes, broker_state::text AS BrokerState, data_version AS DataVersion, fit_version AS FitVersion,
-            fit::text AS Fit, prior::text AS Prior
+            fit::text AS Fit, prior::text AS Prior, posterior::text AS Posterior
         """;
 
     private const string GetSql = $"""
@@ -493,7 +541,9 @@ public sealed partial class CandidateStore(NpgsqlDataSource dataSource)
         SELECT at AS At, kind AS Kind, from_state AS FromState, to_state AS ToState, actor AS Actor, detail AS Detail
         FROM candidate_events WHERE candidate_id = @id ORDER BY id;
         SELECT id AS Id, spectrograph_id AS SpectrographId, outcome AS Outcome, achieved_snr AS AchievedSnr,
-            classified_label AS ClassifiedLabel, observed_at AS ObservedAt, reported_at AS ReportedAt, reporter AS Reporter
+            classified_label AS ClassifiedLabel, observed_at AS ObservedAt, reported_at AS ReportedAt, reporter AS Reporter,
+            reported_probabilities::text AS ReportedProbabilities, phase_days AS PhaseDays, resolving_power AS ResolvingPower,
+            prior::text AS Prior, posterior::text AS Posterior, confusion_cell::text AS ConfusionCell, calibration_id AS CalibrationId
         FROM observation_reports WHERE candidate_id = @id ORDER BY observed_at, reported_at;
         """;
 
@@ -509,9 +559,11 @@ public sealed partial class CandidateStore(NpgsqlDataSource dataSource)
         }
         var photometry = (await grid.ReadAsync<PhotometryRowData>()).Select(p => p.ToPoint()).ToList();
         var events = (await grid.ReadAsync<EventRowData>()).Select(e => new CandidateEventRow(Utc.From(e.At), e.Kind, e.FromState, e.ToState, e.Actor, e.Detail)).ToList();
-        var reports = (await grid.ReadAsync<ReportRowData>()).Select(r => new ObservationReportRow(
-            r.Id, r.SpectrographId, r.Outcome, r.AchievedSnr, r.ClassifiedLabel, Utc.From(r.ObservedAt), Utc.From(r.ReportedAt), r.Reporter)).ToList();
-        return new CandidateDetail(row.ToRow(), row.ToCandidate(photometry), row.DataVersion, row.FitVersion, row.Fit, row.Prior, events, reports);
+        var reports = (await grid.ReadAsync<ReportRowData>()).Select(r => r.ToRow()).ToList();
+        return new CandidateDetail(row.ToRow(), row.ToCandidate(photometry), row.DataVersion, row.FitVersion, row.Fit, row.Prior, events, reports)
+        {
+            Posterior = row.Posterior is null ? null : JsonSerializer.Deserialize<Dictionary<string, double>>(row.Posterior),
+        };
     }
 
     private const string InStatesSql = $"""
@@ -525,10 +577,12 @@ public sealed partial class CandidateStore(NpgsqlDataSource dataSource)
 
     /// <summary>
     /// Every candidate in one of <paramref name="states"/> with its photometry, in one round trip
-    /// (the planner reads the whole waiting set at once), ordered by id.
+    /// (the planner reads the whole waiting set at once), ordered by id. With
+    /// <paramref name="posteriorAsPrior"/> a candidate's stored posterior (after labelled reports)
+    /// replaces its broker probabilities, so that the planner values what a next spectrum adds.
     /// </summary>
     public async Task<IReadOnlyList<(Guid Id, Candidate Candidate)>> InStatesWithPhotometryAsync(
-        IReadOnlyCollection<CandidateState> states, CancellationToken ct = default)
+        IReadOnlyCollection<CandidateState> states, CancellationToken ct = default, bool posteriorAsPrior = false)
     {
         ArgumentNullException.ThrowIfNull(states);
         await using var conn = await dataSource.OpenConnectionAsync(ct);
@@ -536,7 +590,7 @@ public sealed partial class CandidateStore(NpgsqlDataSource dataSource)
             new { states = states.Select(CandidateLifecycle.Name).ToArray() }, cancellationToken: ct));
         var rows = (await grid.ReadAsync<DetailRowData>()).ToList();
         var photometry = (await grid.ReadAsync<OwnedPhotometryRowData>()).ToLookup(p => p.CandidateId, p => p.Point.ToPoint());
-        return rows.Select(r => (r.Id, r.ToCandidate(photometry[r.Id].ToList()))).ToList();
+        return rows.Select(r => (r.Id, r.ToCandidate(photometry[r.Id].ToList(), posteriorAsPrior))).ToList();
     }
 
     /// <summary>Deletes every candidate of one broker with its photometry, events and reports (the demo loader's reset); returns how many.</summary>
@@ -720,28 +774,70 @@ public sealed partial class CandidateStore(NpgsqlDataSource dataSource)
             detail,
         }, tx, cancellationToken: ct));
 
-    private const string InsertReportSql = """
-        INSERT INTO observation_reports (id, candidate_id, spectrograph_id, outcome, achieved_snr, classified_label, observed_at, reported_at, reporter)
-        VALUES (@reportId, @id, @spectrographId, @outcome, @snr, @label, @observedAt, @now, @actor)
-        """;
-
-    /// <summary>Records an observation report and moves the state as <see cref="CandidateLifecycle.AfterReport"/> says.</summary>
-    public async Task<(ReportOutcome Outcome, CandidateState? State, Guid ReportId)> ReportObservationAsync(
-        Guid id, Guid spectrographId, ObservationOutcome outcome, double? achievedSnr, string? label, DateTimeOffset observedAt,
-        string actor, DateTimeOffset now, CancellationToken ct = default)
+    /// <summary>
+    /// A scheduler or admin confirms the subtype: the candidate becomes classified with
+    /// <paramref name="label"/> whatever its posterior (refused when abandoned).
+    /// </summary>
+    /// <returns>The state before, and whether it was changed (false: unknown candidate or abandoned).</returns>
+    public async Task<(CandidateState? Previous, bool Confirmed)> ConfirmLabelAsync(
+        Guid id, string label, string actor, string? reason, DateTimeOffset now, CancellationToken ct = default)
     {
         await using var conn = await dataSource.OpenConnectionAsync(ct);
         await using var tx = await conn.BeginTransactionAsync(ct);
         var current = await conn.QuerySingleOrDefaultAsync<string?>(new CommandDefinition(LockStateSql, new { id }, tx, cancellationToken: ct));
         if (current is null || !CandidateLifecycle.TryParse(current, out var from))
         {
-            return (ReportOutcome.UnknownCandidate, null, Guid.Empty);
+            return (null, false);
         }
-        var next = CandidateLifecycle.AfterReport(from, outcome, label is not null);
-        if (next is not { } to)
+        if (from == CandidateState.Abandoned)
         {
-            return (ReportOutcome.RefusedInState, from, Guid.Empty);
+            return (from, false);
         }
+        await conn.ExecuteAsync(new CommandDefinition(SetStateSql, new { id, to = CandidateLifecycle.Name(CandidateState.Classified), label, now = now.UtcDateTime }, tx, cancellationToken: ct));
+        await InsertEventAsync(conn, tx, id, now, "transition", current, CandidateState.Classified, actor,
+            $"label {label} confirmed" + (string.IsNullOrWhiteSpace(reason) ? "" : $": {reason}"), ct);
+        await tx.CommitAsync(ct);
+        return (from, true);
+    }
+
+    private const string InsertReportSql = """
+        INSERT INTO observation_reports (id, candidate_id, spectrograph_id, outcome, achieved_snr, classified_label, observed_at, reported_at, reporter,
+            reported_probabilities, phase_days, resolving_power, confusion_cell, prior, posterior, calibration_id)
+        VALUES (@reportId, @id, @spectrographId, @outcome, @snr, @label, @observedAt, @now, @actor,
+            @probabilities::jsonb, @phaseDays, @resolvingPower, @cell::jsonb, @prior::jsonb, @posterior::jsonb, @calibrationId)
+        """;
+
+    private const string LockBeliefSql = "SELECT state AS State, posterior::text AS Posterior FROM candidates WHERE id = @id FOR UPDATE";
+
+    private const string SetPosteriorSql = "UPDATE candidates SET posterior = @posterior::jsonb WHERE id = @id";
+
+    private sealed record LockedBelief(string State, string? Posterior);
+
+    /// <summary>Records an observation report and moves the state as <see cref="CandidateLifecycle.AfterReport"/> says.</summary>
+    /// <remarks>
+    /// A labelled report with <paramref name="evidence"/> is weighed under the row lock: the
+    /// callback gets the stored posterior and decides classified or unsettled, the posterior is
+    /// stored on the candidate and the report, and the history line names the calibration cells.
+    /// When the callback throws, nothing is stored (the transaction is rolled back) and the
+    /// exception propagates.
+    /// </remarks>
+    public async Task<(ReportOutcome Outcome, CandidateState? State, Guid ReportId, WeighedLabel? Weighed)> ReportObservationAsync(
+        Guid id, Guid spectrographId, ObservationOutcome outcome, double? achievedSnr, string? label, DateTimeOffset observedAt,
+        string actor, DateTimeOffset now, LabelEvidence? evidence = null, CancellationToken ct = default)
+    {
+        await using var conn = await dataSource.OpenConnectionAsync(ct);
+        await using var tx = await conn.BeginTransactionAsync(ct);
+        var locked = await conn.QuerySingleOrDefaultAsync<LockedBelief>(new CommandDefinition(LockBeliefSql, new { id }, tx, cancellationToken: ct));
+        if (locked is null || !CandidateLifecycle.TryParse(locked.State, out var from))
+        {
+            return (ReportOutcome.UnknownCandidate, null, Guid.Empty, null);
+        }
+        if (CandidateLifecycle.AfterReport(from, outcome, label is not null) is null)
+        {
+            return (ReportOutcome.RefusedInState, from, Guid.Empty, null);
+        }
+        var weighed = label is not null && evidence is not null ? evidence.Weigh(new StoredBelief(locked.Posterior)) : null;
+        var to = CandidateLifecycle.AfterReport(from, outcome, label is not null, weighed?.Settled ?? true)!.Value;
         var reportId = Guid.CreateVersion7(now);
         string outcomeName = outcome.ToString().ToLowerInvariant();
         await conn.ExecuteAsync(new CommandDefinition(InsertReportSql, new
@@ -755,12 +851,24 @@ public sealed partial class CandidateStore(NpgsqlDataSource dataSource)
             observedAt = observedAt.UtcDateTime,
             now = now.UtcDateTime,
             actor,
+            probabilities = evidence?.ProbabilitiesJson,
+            phaseDays = evidence?.PhaseDays,
+            resolvingPower = weighed?.ResolvingPower,
+            cell = weighed?.CellJson,
+            prior = weighed?.PriorJson,
+            posterior = weighed?.PosteriorJson,
+            calibrationId = weighed?.CalibrationId,
         }, tx, cancellationToken: ct));
-        await conn.ExecuteAsync(new CommandDefinition(SetStateSql, new { id, to = CandidateLifecycle.Name(to), label, now = now.UtcDateTime }, tx, cancellationToken: ct));
-        await InsertEventAsync(conn, tx, id, now, "observation", current, to, actor,
-            label is null ? $"{outcomeName} on {spectrographId}" : $"{outcomeName} on {spectrographId}: {label}", ct);
+        var storedLabel = weighed is null ? label : weighed.StoredLabel;
+        await conn.ExecuteAsync(new CommandDefinition(SetStateSql, new { id, to = CandidateLifecycle.Name(to), label = storedLabel, now = now.UtcDateTime }, tx, cancellationToken: ct));
+        if (weighed?.PosteriorJson is { } posterior)
+        {
+            await conn.ExecuteAsync(new CommandDefinition(SetPosteriorSql, new { id, posterior }, tx, cancellationToken: ct));
+        }
+        await InsertEventAsync(conn, tx, id, now, "observation", locked.State, to, actor,
+            weighed?.Detail ?? (label is null ? $"{outcomeName} on {spectrographId}" : $"{outcomeName} on {spectrographId}: {label}"), ct);
         await tx.CommitAsync(ct);
-        return (ReportOutcome.Recorded, to, reportId);
+        return (ReportOutcome.Recorded, to, reportId, weighed);
     }
 
     // ---- row shapes (Dapper) --------------------------------------------------------------
@@ -797,10 +905,14 @@ public sealed partial class CandidateStore(NpgsqlDataSource dataSource)
         public int FitVersion { get; init; }
         public string? Fit { get; init; }
         public string? Prior { get; init; }
+        public string? Posterior { get; init; }
 
-        public Candidate ToCandidate(IReadOnlyList<PhotometryPoint> photometry) =>
+        // With posteriorAsPrior, the posterior after labelled reports stands in for the broker's probabilities.
+        public Candidate ToCandidate(IReadOnlyList<PhotometryPoint> photometry, bool posteriorAsPrior = false) =>
             new(BrokerCandidateId, RaDeg, DecDeg, Utc.From(DiscoveredAt), Redshift, RedshiftError, photometry,
-                SubtypeProbabilities is null ? null : JsonSerializer.Deserialize<Dictionary<string, double>>(SubtypeProbabilities),
+                (posteriorAsPrior ? Posterior ?? SubtypeProbabilities : SubtypeProbabilities) is { } probabilities
+                    ? JsonSerializer.Deserialize<Dictionary<string, double>>(probabilities)
+                    : null,
                 ScienceWeight, Notes,
                 BrokerState is null ? null : JsonSerializer.Deserialize<BrokerState>(BrokerState, BrokerBatchJson.Options));
     }
@@ -830,5 +942,35 @@ public sealed partial class CandidateStore(NpgsqlDataSource dataSource)
 
     private sealed record EventRowData(DateTime At, string Kind, string? FromState, string? ToState, string Actor, string? Detail);
 
-    private sealed record ReportRowData(Guid Id, Guid SpectrographId, string Outcome, double? AchievedSnr, string? ClassifiedLabel, DateTime ObservedAt, DateTime ReportedAt, string Reporter);
+    private sealed class ReportRowData
+    {
+        public Guid Id { get; init; }
+        public Guid SpectrographId { get; init; }
+        public string Outcome { get; init; } = "";
+        public double? AchievedSnr { get; init; }
+        public string? ClassifiedLabel { get; init; }
+        public DateTime ObservedAt { get; init; }
+        public DateTime ReportedAt { get; init; }
+        public string Reporter { get; init; } = "";
+        public string? ReportedProbabilities { get; init; }
+        public double? PhaseDays { get; init; }
+        public double? ResolvingPower { get; init; }
+        public string? Prior { get; init; }
+        public string? Posterior { get; init; }
+        public string? ConfusionCell { get; init; }
+        public Guid? CalibrationId { get; init; }
+
+        private static Dictionary<string, double>? Table(string? json) => json is null ? null : JsonSerializer.Deserialize<Dictionary<string, double>>(json);
+
+        public ObservationReportRow ToRow() => new(Id, SpectrographId, Outcome, AchievedSnr, ClassifiedLabel, Utc.From(ObservedAt), Utc.From(ReportedAt), Reporter)
+        {
+            ReportedProbabilities = Table(ReportedProbabilities),
+            PhaseDays = PhaseDays,
+            ResolvingPower = ResolvingPower,
+            Prior = Table(Prior),
+            Posterior = Table(Posterior),
+            ConfusionCell = ConfusionCell is null ? null : JsonDocument.Parse(ConfusionCell).RootElement.Clone(),
+            CalibrationId = CalibrationId,
+        };
+    }
 }

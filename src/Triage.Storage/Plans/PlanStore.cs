@@ -53,7 +53,7 @@ public sealed record NewPlanVersion(
     public IReadOnlyList<Guid> CandidateIds { get; init; } = [];
 
     /// <summary>States a candidate waits for a plan in (wire names), moved to planned when in the version. Default new.</summary>
-    public IReadOnlyList<string> WaitingStates { get; init; } = ["new"];
+    public IReadOnlyList<string> WaitingStates { get; init; } = ["new", "unsettled"];
 
     /// <summary>Body of the plan-version event stored with the version in the outbox, given the version number; null: none.</summary>
     public Func<int, string>? EventBody { get; init; }

@@ -77,6 +77,14 @@ public sealed class PlanJobTests(IsolatedDatabaseFactory api) : IClassFixture<Is
             observedUtc = Triage.Core.Sky.DarkTime.LatestDarkInstant((await api.Services.GetRequiredService<RosterStore>().GetSiteAsync(site))!.Value, DateTimeOffset.UtcNow)!.Value,
         })));
         Assert.True(report.IsSuccessStatusCode, await report.Content.ReadAsStringAsync());
+        var after = JsonDocument.Parse(await report.Content.ReadAsStringAsync()).RootElement.GetProperty("state").GetString();
+        Assert.Contains(after, new[] { "classified", "unsettled" });
+        if (after == "unsettled")
+        {
+            // One label at this R and S/N did not reach the identification confidence: the scheduler confirms it.
+            var confirmed = await scheduler.PostAsync($"/api/candidates/{candidateId}/identification", Bodies.Raw(JsonSerializer.Serialize(new { label = "Ia" })));
+            Assert.True(confirmed.IsSuccessStatusCode, await confirmed.Content.ReadAsStringAsync());
+        }
 
         // Replan from the middle of another entry: that entry is kept, the classified one is gone.
         var executing = entries1.First(e => e.Entry.GetProperty("candidateId").GetString() != candidateId);

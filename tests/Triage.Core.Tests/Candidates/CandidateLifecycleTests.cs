@@ -14,6 +14,8 @@ public class CandidateLifecycleTests
     [InlineData(CandidateState.Abandoned, CandidateState.New, false, true)]
     [InlineData(CandidateState.Stale, CandidateState.Planned, false, true)]
     [InlineData(CandidateState.New, CandidateState.Classified, true, false)]
+    [InlineData(CandidateState.Unsettled, CandidateState.Planned, false, true)]
+    [InlineData(CandidateState.Unsettled, CandidateState.Classified, true, false)]
     public void CanTransition_Table(CandidateState from, CandidateState to, bool force, bool expected) =>
         Assert.Equal(expected, CandidateLifecycle.CanTransition(from, to, force));
 
@@ -25,6 +27,14 @@ public class CandidateLifecycleTests
     [InlineData(CandidateState.New, ObservationOutcome.Done, true, CandidateState.Classified)]
     public void AfterReport_MovesState(CandidateState from, ObservationOutcome outcome, bool classified, CandidateState expected) =>
         Assert.Equal(expected, CandidateLifecycle.AfterReport(from, outcome, classified));
+
+    [Theory]
+    [InlineData(CandidateState.Planned, true, CandidateState.Classified)]
+    [InlineData(CandidateState.Planned, false, CandidateState.Unsettled)]
+    [InlineData(CandidateState.Unsettled, true, CandidateState.Classified)]
+    [InlineData(CandidateState.Unsettled, false, CandidateState.Unsettled)]
+    public void AfterReport_LabelSettledOrNot(CandidateState from, bool settled, CandidateState expected) =>
+        Assert.Equal(expected, CandidateLifecycle.AfterReport(from, ObservationOutcome.Done, classified: true, settled));
 
     [Fact]
     public void AfterReport_Abandoned_Refused() =>

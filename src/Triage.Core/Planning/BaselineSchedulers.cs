@@ -1,6 +1,4 @@
-using Triage.Core.Planning;
-
-namespace Triage.Bench;
+namespace Triage.Core.Planning;
 
 /// <summary>
 /// Two rules a scheduler would apply without Triage, on the same options, windows and budgets:
@@ -12,6 +10,8 @@ public static class BaselineSchedulers
     private const double TargetSnr = 10;
 
     /// <summary>Brightest candidate first; units tried from the largest aperture down.</summary>
+    /// <param name="problem">The night's problem.</param>
+    /// <param name="apertureByUnitId">Telescope aperture (m) of every unit id.</param>
     public static IReadOnlyList<PlannedObservation> BrightestFirstLargestTelescope(PlanningProblem problem, IReadOnlyDictionary<string, double> apertureByUnitId)
     {
         var candidateOrder = Enumerable.Range(0, problem.Candidates.Count)
@@ -22,6 +22,7 @@ public static class BaselineSchedulers
     }
 
     /// <summary>Highest science weight first (then brightest); units tried from the highest R down.</summary>
+    /// <param name="problem">The night's problem.</param>
     public static IReadOnlyList<PlannedObservation> PriorityHighestResolutionFirst(PlanningProblem problem)
     {
         var candidateOrder = Enumerable.Range(0, problem.Candidates.Count)

@@ -1,0 +1,55 @@
+using Triage.Core.Identification;
+
+namespace Triage.Core.Season;
+
+/// <summary>High-R hours spent on objects whose top subtype probability lay in [From, To) before the spectrum.</summary>
+/// <param name="From">Lower edge of the top posterior probability.</param>
+/// <param name="To">Upper edge (1 includes 1).</param>
+/// <param name="Hours">Hours (exposure plus overhead).</param>
+public sealed record SettledHours(double From, double To, double Hours);
+
+/// <summary>One strategy's season.</summary>
+/// <param name="Name">Strategy name.</param>
+/// <param name="CorrectIdentifications">Final labels equal to the true subtype.</param>
+/// <param name="WrongIdentifications">Final labels that differ from the true subtype.</param>
+/// <param name="Observations">Spectra taken (weather losses excluded).</param>
+/// <param name="WeatherLosses">Planned spectra lost to weather.</param>
+/// <param name="HoursPerUnit">Hours (exposure plus overhead) per spectrograph name.</param>
+/// <param name="HighResolutionHours">Hours on units with R at or above the high-R threshold.</param>
+/// <param name="IdentificationsPerHighResolutionHour">Correct identifications per high-R hour.</param>
+/// <param name="MedianDaysToIdentification">Median days from discovery (or the season's first evening, if later) to a correct identification (NaN: none).</param>
+/// <param name="RareSubtypeIdentifications">Correct identifications of subtypes with base rate below the rare threshold.</param>
+/// <param name="HighResolutionHoursOnAmbiguous">High-R hours on objects a low-R spectrum had left unsettled.</param>
+/// <param name="AmbiguousHighResolutionShare">That as a share of all high-R hours.</param>
+/// <param name="HighResolutionHoursBySettledness">High-R hours by the object's top probability before the spectrum.</param>
+/// <param name="CumulativeCorrectByNight">Correct identifications up to and including each night.</param>
+/// <param name="HoursPerUnitByNight">Hours per spectrograph name and night.</param>
+/// <param name="UnitAccuracy">Modelled against measured accuracy per unit (learning strategies).</param>
+/// <param name="FlaggedUnits">Unit name → first night (1-based) it was flagged as worse than modelled.</param>
+public sealed record StrategyResult(
+    string Name,
+    int CorrectIdentifications,
+    int WrongIdentifications,
+    int Observations,
+    int WeatherLosses,
+    IReadOnlyDictionary<string, double> HoursPerUnit,
+    double HighResolutionHours,
+    double IdentificationsPerHighResolutionHour,
+    double MedianDaysToIdentification,
+    int RareSubtypeIdentifications,
+    double HighResolutionHoursOnAmbiguous,
+    double AmbiguousHighResolutionShare,
+    IReadOnlyList<SettledHours> HighResolutionHoursBySettledness,
+    IReadOnlyList<int> CumulativeCorrectByNight,
+    IReadOnlyDictionary<string, double[]> HoursPerUnitByNight,
+    IReadOnlyList<UnitAccuracy> UnitAccuracy,
+    IReadOnlyDictionary<string, int> FlaggedUnits);
+
+/// <summary>A simulated season.</summary>
+/// <param name="Seed">Seed.</param>
+/// <param name="Nights">Nights.</param>
+/// <param name="FirstNight">First night.</param>
+/// <param name="Transients">Transients drawn (including never discovered).</param>
+/// <param name="Discovered">Discovered before the last night.</param>
+/// <param name="Strategies">One result per strategy, in the order run.</param>
+public sealed record SeasonResult(int Seed, int Nights, DateOnly FirstNight, int Transients, int Discovered, IReadOnlyList<StrategyResult> Strategies);
