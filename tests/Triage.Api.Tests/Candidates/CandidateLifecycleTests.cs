@@ -1,4 +1,5 @@
 using System.Net;
+using Microsoft.Extensions.DependencyInjection;
 using System.Text.Json.Nodes;
 using Triage.Api.Tests.Infrastructure;
 using Triage.Storage.Access;
@@ -28,16 +29,21 @@ public sealed class CandidateLifecycleTests(TriageApiFactory api)
         var client = api.ClientWith(await api.KeyAsync(Scope.Observatory, Unique.Name("obs")));
         var site = await (await client.PostAsync("/api/sites", Bodies.Json(Bodies.Site()))).ReadObjectAsync();
         var sp = await (await client.PostAsync($"/api/sites/{site["id"]}/spectrographs", Bodies.Json(Bodies.Spectrograph()))).ReadObjectAsync();
+        // A done report must lie in the site's dark window: the latest dark instant before now.
+        var stored = (await api.Services.GetRequiredService<Triage.Storage.Roster.RosterStore>().GetSiteAsync(Guid.Parse((string)site["id"]!)))!.Value;
+        _observedUtc = Triage.Core.Sky.DarkTime.LatestDarkInstant(stored, DateTimeOffset.UtcNow)!.Value;
         return (client, (string)sp["id"]!);
     }
 
-    private static StringContent Report(string spectrographId, string outcome, double? snr = null, string? label = null) => Bodies.Json(new JsonObject
+    private DateTimeOffset _observedUtc = DateTimeOffset.UtcNow.AddHours(-1);
+
+    private StringContent Report(string spectrographId, string outcome, double? snr = null, string? label = null) => Bodies.Json(new JsonObject
     {
         ["spectrographId"] = spectrographId,
         ["outcome"] = outcome,
         ["achievedSnr"] = snr,
         ["classifiedLabel"] = label,
-        ["observedUtc"] = DateTimeOffset.UtcNow.AddHours(-1).ToString("O"),
+        ["observedUtc"] = _observedUtc.ToString("O"),
     });
 
     private static StringContent To(string state, bool force = false) => Bodies.Json(new JsonObject { ["to"] = state, ["force"] = force });

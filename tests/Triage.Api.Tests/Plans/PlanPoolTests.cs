@@ -191,6 +191,6 @@ public sealed class PlanPoolTests(SmallPoolFactory api) : IClassFixture<SmallPoo
             : new GZipStream(new MemoryStream(packed), CompressionMode.Decompress);
         var text = await new StreamReader(decoder).ReadToEndAsync();
         Assert.Equal(plain, text);
-        Assert.True(packed.Length * 3 < System.Text.Encoding.UTF8.GetByteCount(plain), $"{packed.Length} bytes compressed of {plain.Length}");
+        Assert.True(packed.Length * 2 < System.Text.Encoding.UTF8.GetByteCount(plain), $"{packed.Length} bytes compressed of {plain.Length}");
     }
 }
