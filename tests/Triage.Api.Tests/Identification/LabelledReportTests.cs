@@ -50,6 +50,9 @@ public sealed class LabelledReportTests(IsolatedDatabaseFactory api) : IClassFix
         var body = Bodies.Spectrograph();
         body["resolvingPower"] = 100;
         var unit = await (await observatory.PostAsync($"/api/sites/{site["id"]}/spectrographs", Bodies.Json(body))).ReadObjectAsync();
+        // A done report must lie in the site's dark window: the latest dark instant before now.
+        var stored = (await api.Services.GetRequiredService<Triage.Storage.Roster.RosterStore>().GetSiteAsync(Guid.Parse((string)site["id"]!)))!.Value;
+        _observedUtc = Triage.Core.Sky.DarkTime.LatestDarkInstant(stored, DateTimeOffset.UtcNow)!.Value;
 
         var broker = api.ClientWith(await api.KeyAsync(Scope.Broker));
         var candidate = CandidateBodies.Candidate();
@@ -62,7 +65,9 @@ public sealed class LabelledReportTests(IsolatedDatabaseFactory api) : IClassFix
         return (observatory, reader, (string)unit["id"]!, id);
     }
 
-    private static StringContent Report(string unit, string label, double snr = 10, JsonObject? probabilities = null, double? phase = 0) => Bodies.Json(new JsonObject
+    private DateTimeOffset _observedUtc = DateTimeOffset.UtcNow.AddHours(-1);
+
+    private StringContent Report(string unit, string label, double snr = 10, JsonObject? probabilities = null, double? phase = 0) => Bodies.Json(new JsonObject
     {
         ["spectrographId"] = unit,
         ["outcome"] = "done",
@@ -70,7 +75,7 @@ public sealed class LabelledReportTests(IsolatedDatabaseFactory api) : IClassFix
         ["classifiedLabel"] = label,
         ["classProbabilities"] = probabilities,
         ["phaseDays"] = phase,
-        ["observedUtc"] = DateTimeOffset.UtcNow.AddHours(-1).ToString("O"),
+        ["observedUtc"] = _observedUtc.ToString("O"),
     });
 
     [Fact]
