@@ -17,10 +17,10 @@ internal static class PlanVerb
 {
     public static Command Create()
     {
-        var roster = new Option<FileInfo>("--roster") { Description = "Sites with their spectrographs (JSON array of { site, spectrographs }).", Required = true };
-        var candidates = new Option<FileInfo>("--candidates") { Description = "Broker batch JSON (the intake API's body).", Required = true };
-        var calibration = new Option<FileInfo>("--calibration") { Description = "Calibration JSON as written by `calibrate`.", Required = true };
-        var night = new Option<string>("--night") { Description = "Local date of the evening the night starts, YYYY-MM-DD.", Required = true };
+        var roster = NightInputOptions.Roster();
+        var candidates = NightInputOptions.Candidates();
+        var calibration = NightInputOptions.Calibration();
+        var night = NightInputOptions.Night();
         var objective = new Option<string>("--objective") { Description = "accuracy (expected correct identifications), information (bits) or identification (sequential: posterior ≥ 0.9, with escalation).", DefaultValueFactory = _ => "accuracy" };
         var timeLimit = new Option<double>("--time-limit") { Description = "Solver time limit in seconds (default 5).", DefaultValueFactory = _ => 5 };
         var from = new Option<DateTimeOffset?>("--from") { Description = "Plan nothing before this instant (UTC, ISO 8601); default the start of the night." };

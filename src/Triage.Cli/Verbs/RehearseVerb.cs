@@ -18,10 +18,10 @@ internal static class RehearseVerb
 {
     public static Command Create()
     {
-        var roster = new Option<FileInfo>("--roster") { Description = "Sites with their spectrographs (JSON array of { site, spectrographs }).", Required = true };
-        var candidates = new Option<FileInfo>("--candidates") { Description = "Broker batch JSON (the intake API's body).", Required = true };
-        var calibration = new Option<FileInfo>("--calibration") { Description = "Calibration JSON as written by `calibrate`.", Required = true };
-        var night = new Option<string>("--night") { Description = "Local date of the evening the night starts, YYYY-MM-DD.", Required = true };
+        var roster = NightInputOptions.Roster();
+        var candidates = NightInputOptions.Candidates();
+        var calibration = NightInputOptions.Calibration();
+        var night = NightInputOptions.Night();
         var every = new Option<double>("--every") { Description = "Minutes between replans (default 30).", DefaultValueFactory = _ => 30 };
         var lost = new Option<int>("--lost") { Description = "Observations lost to weather per replan, drawn from those that ended since the last one (default 1).", DefaultValueFactory = _ => 1 };
         var arrivals = new Option<int>("--arrivals") { Description = "Candidates held back from the file and arriving per replan (default 2).", DefaultValueFactory = _ => 2 };
