@@ -8,7 +8,14 @@ namespace Triage.Core.Calibration;
 /// </summary>
 public sealed record CalibrationSettings
 {
-    /// <summary>Resolving powers of the grid; null: <see cref="DefaultResolutions"/> up to the library's resolution.</summary>
+    /// <summary>
+    /// The lowest resolving power a calibration grid may hold: 5, the floor of <see cref="DefaultResolutions"/> and the
+    /// lowest R the low-R feature grid is built and measured for (docs/calibration.md, "Low R"). Below it a 3500–9200 Å
+    /// spectrum spans fewer than about five resolution elements.
+    /// </summary>
+    public const double MinimumResolution = 5;
+
+    /// <summary>Resolving powers of the grid (each ≥ <see cref="MinimumResolution"/>); null: <see cref="DefaultResolutions"/> up to the library's resolution.</summary>
     public IReadOnlyList<double>? Resolutions { get; init; }
 
     /// <summary>S/N per resolution element levels; null in the list means native (no noise added). Default 5, 10, 20, native.</summary>
