@@ -91,7 +91,7 @@ public static class SeasonEndpoints
         }
         if (request.Strategies is null)
         {
-            strategies.AddRange(StrategyNames.Keys);
+            strategies.AddRange(SeasonSettings.Compared.Select(SeasonSimulator.Name));
         }
         var units = (await roster.ListSpectrographsAsync(new SpectrographFilter(), ct)).Select(v => v.Value.Name).ToHashSet(StringComparer.Ordinal);
         foreach (var (unit, d) in request.Degrade ?? new Dictionary<string, double>())

@@ -29,7 +29,7 @@ internal static class SimulateVerb
         var maxPool = new Option<int>("--max-pool") { Description = "Most candidates planned per night, chosen like the service's bounded pool (default 600).", DefaultValueFactory = _ => new SeasonSettings().MaxPoolCandidates };
         var clear = new Option<double>("--clear-fraction") { Description = "Probability a site is clear on a night (default 0.7).", DefaultValueFactory = _ => 0.7 };
         var noLearning = new Option<bool>("--no-learning") { Description = "Plan with the calibration only (no outcome learning)." };
-        var strategies = new Option<string?>("--strategies") { Description = "Comma-separated strategy names (default all)." };
+        var strategies = new Option<string?>("--strategies") { Description = "Comma-separated strategy names (default: the five compared; triage-sequential-accuracy-objective on request)." };
         var whatIf = new Option<FileInfo?>("--what-if-roster") { Description = "A changed roster: run the same seeds with it and report the difference." };
         var plots = new Option<DirectoryInfo?>("--plots") { Description = "Folder for SVG plots of the first seed." };
         var output = new Option<FileInfo>("--out") { Description = "Season JSON to write.", Required = true };
@@ -112,7 +112,7 @@ internal static class SimulateVerb
     {
         if (string.IsNullOrWhiteSpace(text))
         {
-            return Enum.GetValues<SeasonStrategy>();
+            return SeasonSettings.Compared;
         }
 
         var all = Enum.GetValues<SeasonStrategy>().ToDictionary(SeasonSimulator.Name, s => s, StringComparer.Ordinal);
