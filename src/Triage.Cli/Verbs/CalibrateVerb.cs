@@ -26,9 +26,11 @@ internal static class CalibrateVerb
         var maxBins = new Option<int>("--max-bins") { Description = "Upper bound on flux bins of the feature vector (default 200).", DefaultValueFactory = _ => new PreprocessOptions().MaxBins };
         var unweighted = new Option<bool>("--unweighted") { Description = "Train without balanced class weights." };
         var taxonomy = new Option<FileInfo?>("--taxonomy") { Description = "Taxonomy file (default: the built-in one, as config/taxonomy.txt)." };
+        var cache = new Option<DirectoryInfo?>("--cache") { Description = "Folder of the binary cache of parsed libraries, keyed by content (default ~/.cache/triage/libraries)." };
+        var noCache = new Option<bool>("--no-cache") { Description = "Parse the library's text files without reading or writing the cache." };
         var plots = new Option<DirectoryInfo?>("--plots") { Description = "Folder for SVG plots (recall curves per S/N, confusion heatmaps)." };
         var cmd = new Command("calibrate", "Compute per-subtype classification accuracy versus R, S/N and phase from a labelled library.")
-            { library, output, resolutions, snr, folds, seed, model, continuum, maxBins, unweighted, taxonomy, plots };
+            { library, output, resolutions, snr, folds, seed, model, continuum, maxBins, unweighted, taxonomy, cache, noCache, plots };
         cmd.SetAction((parse, ct) =>
         {
             CalibrationSettings settings;
@@ -47,7 +49,9 @@ internal static class CalibrateVerb
                     BalancedClassWeights = !parse.GetValue(unweighted),
                 };
                 tax = LibraryFiles.LoadTaxonomy(parse.GetValue(taxonomy)?.FullName);
-                lib = LibraryFiles.Load(parse.GetValue(library)!.FullName, tax);
+                lib = parse.GetValue(noCache)
+                    ? LibraryFiles.Load(parse.GetValue(library)!.FullName, tax)
+                    : LibraryCache.Load(parse.GetValue(library)!.FullName, tax, parse.GetValue(cache)?.FullName ?? LibraryCache.DefaultFolder).Library;
             }
             catch (LibraryImportException ex)
             {
