@@ -54,6 +54,14 @@ public static class CalibrationPipeline
             return l.Select(c => w[c]).ToArray();
         }).ToArray();
         var parallel = new ParallelOptions { CancellationToken = cancellationToken, MaxDegreeOfParallelism = Environment.ProcessorCount };
+        // What does not depend on R is computed once per spectrum: its pixel bins and the noise it carries.
+        var bins = new PixelBins[spectra.Count];
+        var inputNoise = new InputNoiseSources[spectra.Count];
+        Parallel.For(0, spectra.Count, parallel, i =>
+        {
+            bins[i] = PixelBins.Of(spectra[i].Spectrum.WavelengthAngstrom);
+            inputNoise[i] = InputNoiseSources.Of(spectra[i].Spectrum, spectra[i].NoiseFree);
+        });
 
         int units = resolutions.Length * settings.SnrLevels.Count * settings.Folds, done = 0;
         var degradeTime = TimeSpan.Zero; var featureTime = TimeSpan.Zero; var trainTime = TimeSpan.Zero;
@@ -78,9 +86,9 @@ public static class CalibrationPipeline
             Parallel.For(0, spectra.Count, parallel, i =>
             {
                 var s = spectra[i];
-                var (grid, flux) = Degradation.Degrade(s.Spectrum, r, s.SourceResolution,
+                var (grid, flux) = Degradation.Degrade(s.Spectrum, bins[i], r, s.SourceResolution,
                     new DegradeOptions { PixelsPerElement = settings.PixelsPerElement });
-                degraded[i] = (grid, grid.Centres(), flux, DegradedNoise.Account(s, grid, flux, r));
+                degraded[i] = (grid, grid.Centres(), flux, DegradedNoise.Account(s.Spectrum, inputNoise[i], s.SourceResolution, grid, flux, r));
             });
             degradeTime += sw.Elapsed;
             // Noise and features for every S/N level of this R, then every (S/N, fold) training in one

@@ -17,8 +17,8 @@ internal static class CalibrateVerb
     {
         var library = new Option<DirectoryInfo>("--library") { Description = "Library folder with manifest.csv.", Required = true };
         var output = new Option<FileInfo>("--out") { Description = "Calibration JSON to write.", Required = true };
-        var resolutions = new Option<string?>("--resolutions") { Description = "Comma-separated R values (default: 12 log-spaced from 5 to the library's R)." };
-        var snr = new Option<string>("--snr") { Description = "Comma-separated S/N per element; 'native' adds no noise (default 5,10,20,native).", DefaultValueFactory = _ => "5,10,20,native" };
+        var resolutions = new Option<string?>("--resolutions") { Description = "Comma-separated R values (default: 12 log-spaced from 5 to 4000, or to the library's R when lower)." };
+        var snr = new Option<string>("--snr") { Description = "Comma-separated S/N per element; 'native' adds no noise beyond the library's own (default 5,10,20).", DefaultValueFactory = _ => "5,10,20" };
         var folds = new Option<int>("--folds") { Description = "Cross-validation folds, grouped by object (default 5).", DefaultValueFactory = _ => 5 };
         var seed = new Option<int>("--seed") { Description = "Seed of folds and noise (default 1).", DefaultValueFactory = _ => 1 };
         var model = new Option<string>("--model") { Description = $"Classifier: {string.Join(", ", SubtypeClassifiers.Names)} (default linear).", DefaultValueFactory = _ => "linear" };
@@ -30,9 +30,11 @@ internal static class CalibrateVerb
         var lowMinBins = new Option<int?>("--low-r-min-bins") { Description = $"Minimum flux bins below --low-r-below (default {defaults.LowResolution?.MinBins.ToString(CultureInfo.InvariantCulture) ?? "4"})." };
         var unweighted = new Option<bool>("--unweighted") { Description = "Train without balanced class weights." };
         var taxonomy = new Option<FileInfo?>("--taxonomy") { Description = "Taxonomy file (default: the built-in one, as config/taxonomy.txt)." };
+        var cache = new Option<DirectoryInfo?>("--cache") { Description = "Folder of the binary cache of parsed libraries, keyed by content (default ~/.cache/triage/libraries)." };
+        var noCache = new Option<bool>("--no-cache") { Description = "Parse the library's text files without reading or writing the cache." };
         var plots = new Option<DirectoryInfo?>("--plots") { Description = "Folder for SVG plots (recall curves per S/N, confusion heatmaps)." };
         var cmd = new Command("calibrate", "Compute per-subtype classification accuracy versus R, S/N and phase from a labelled library.")
-            { library, output, resolutions, snr, folds, seed, model, continuum, maxBins, lowBelow, lowContinuum, lowMinBins, unweighted, taxonomy, plots };
+            { library, output, resolutions, snr, folds, seed, model, continuum, maxBins, lowBelow, lowContinuum, lowMinBins, unweighted, taxonomy, cache, noCache, plots };
         cmd.SetAction((parse, ct) =>
         {
             CalibrationSettings settings;
@@ -55,7 +57,9 @@ internal static class CalibrateVerb
                     BalancedClassWeights = !parse.GetValue(unweighted),
                 };
                 tax = LibraryFiles.LoadTaxonomy(parse.GetValue(taxonomy)?.FullName);
-                lib = LibraryFiles.Load(parse.GetValue(library)!.FullName, tax);
+                lib = parse.GetValue(noCache)
+                    ? LibraryFiles.Load(parse.GetValue(library)!.FullName, tax)
+                    : LibraryCache.Load(parse.GetValue(library)!.FullName, tax, parse.GetValue(cache)?.FullName ?? LibraryCache.DefaultFolder).Library;
                 foreach (var w in lib.Warnings) Console.Error.WriteLine($"warning: {w}");
             }
             catch (LibraryImportException ex)

@@ -1,0 +1,150 @@
+#!/usr/bin/python3
+"""Independent reference of Triage's calibration study, for speed and accuracy comparisons (issue 11).
+
+Written from the description in docs/calibration.md, not from Triage's code, with Debian's
+python3-numpy, python3-scipy and python3-sklearn:
+  * degradation: one FFT per spectrum on the input grid (uniform in ln lambda), batched over all
+    spectra that share a grid: g = f*lambda, multiplied by the Gaussian transfer function
+    exp(-2 pi^2 sigma_k^2 nu^2) with sigma_k^2 = sigma(R)^2 - sigma(R0)^2, then binned flux-conservingly
+    (cumulative integral) onto a log grid of 2 pixels per element;
+  * noise: Gaussian for S/N per element at 6000 A (sigma_pix = sqrt(2) f_6000 / S), shaped like the
+    error column (the synthetic library is noise-free with an error column);
+  * features: de-redshift, rebin onto 3600-8600 A rest (at most 200 log bins), divide by the mean;
+  * classifier: PCA (at most 40 components) + multinomial logistic regression with balanced class
+    weights; folds: StratifiedGroupKFold grouped by object.
+
+Usage:
+  /usr/bin/python3 bench/reference/study.py --library LIB [--speed 5,50,500,1500,4000]
+        [--resolutions 5,10,25,100,300,1000,1500] [--snr 5,10,20] [--folds 5] [--repeat 3]
+Prints spectra/s of the degradation at each --speed R, then the study's accuracy table and wall times.
+"""
+import argparse, csv, os, time
+import numpy as np
+from sklearn.decomposition import PCA
+from sklearn.linear_model import LogisticRegression
+from sklearn.model_selection import StratifiedGroupKFold
+from sklearn.pipeline import make_pipeline
+from sklearn.preprocessing import StandardScaler
+
+FWHM_PER_SIGMA = 2 * np.sqrt(2 * np.log(2))
+
+
+def load(folder):
+    rows = []
+    with open(os.path.join(folder, "manifest.csv")) as fh:
+        lines = [l for l in fh if not l.startswith("#") and l.strip()]
+    for r in csv.DictReader(lines):
+        data = np.loadtxt(os.path.join(folder, r["file"]), comments="#")
+        rows.append(dict(obj=r["object_id"], sub=r["subtype"], z=float(r["redshift"]),
+                         r0=float(r["source_resolution"]) if r.get("source_resolution") else None,
+                         w=data[:, 0], f=data[:, 1], e=data[:, 2] if data.shape[1] > 2 else None))
+    return rows
+
+
+def degrade_batch(w, F, r, r0):
+    """F: (n_spectra, n_pixels) on the shared grid w (uniform in ln lambda). Returns (centres, binned)."""
+    x = np.log(w)
+    step = (x[-1] - x[0]) / (len(x) - 1)
+    sig_t = 1 / (r * FWHM_PER_SIGMA)
+    sig_s = 0 if r0 is None else 1 / (r0 * FWHM_PER_SIGMA)
+    k2 = sig_t ** 2 - sig_s ** 2
+    g = F * w
+    if k2 > 0:
+        n = len(x)
+        pad = int(min(n, np.ceil(5 * np.sqrt(k2) / step)))
+        gp = np.pad(g, ((0, 0), (pad, pad)), mode="edge")
+        nu = np.fft.rfftfreq(gp.shape[1])
+        transfer = np.exp(-2 * np.pi ** 2 * (k2 / step ** 2) * nu ** 2)
+        g = np.fft.irfft(np.fft.rfft(gp, axis=1) * transfer, n=gp.shape[1], axis=1)[:, pad:pad + n]
+    f = g / w
+    # Flux-conserving binning: input pixels as bins with edges at the geometric midpoints.
+    edges = np.exp(np.concatenate([[x[0] - step / 2], (x[:-1] + x[1:]) / 2, [x[-1] + step / 2]]))
+    cum = np.concatenate([np.zeros((f.shape[0], 1)), np.cumsum(f * np.diff(edges), axis=1)], axis=1)
+    out_step = 1 / (2 * r)
+    m = int(np.floor(np.log(w[-1] / w[0]) / out_step + 1e-9))
+    out_edges = w[0] * np.exp(out_step * np.arange(m + 1))
+    c = np.array([np.interp(out_edges, edges, row) for row in cum])
+    return np.sqrt(out_edges[:-1] * out_edges[1:]), np.diff(c, axis=1) / np.diff(out_edges)
+
+
+def level_6000(centres, binned):
+    win = np.abs(centres - 6000) <= 300
+    if win.sum() >= 5:
+        return np.median(binned[:, win], axis=1)
+    return np.array([np.interp(6000, centres, row) for row in binned])
+
+
+def features(centres, binned, z, r, bins_max=200):
+    n = int(np.clip(round(r * 2 * np.log(8600 / 3600)), 4, bins_max))
+    rest_edges = 3600 * np.exp(np.log(8600 / 3600) / n * np.arange(n + 1))
+    out = np.empty((binned.shape[0], n))
+    step = np.log(centres[1] / centres[0])
+    edges = np.exp(np.concatenate([[np.log(centres[0]) - step / 2], np.log(centres) + step / 2]))
+    for i in range(binned.shape[0]):
+        e = edges / (1 + z[i])
+        row = np.nan_to_num(binned[i])
+        cum = np.concatenate([[0], np.cumsum(row * np.diff(e))])
+        c = np.interp(rest_edges, e, cum)
+        v = np.diff(c) / np.diff(rest_edges)
+        out[i] = v / max(abs(v.mean()), 1e-12)
+    return out
+
+
+def main():
+    ap = argparse.ArgumentParser()
+    ap.add_argument("--library", required=True)
+    ap.add_argument("--speed", default="5,50,500,1500,4000")
+    ap.add_argument("--resolutions", default="5,10,25,100,300,1000,1500")
+    ap.add_argument("--snr", default="5,10,20")
+    ap.add_argument("--folds", type=int, default=5)
+    ap.add_argument("--repeat", type=int, default=3)
+    ap.add_argument("--skip-study", action="store_true")
+    a = ap.parse_args()
+    t0 = time.perf_counter()
+    rows = load(a.library)
+    t_load = time.perf_counter() - t0
+    w = rows[0]["w"]
+    assert all(len(r["w"]) == len(w) and np.allclose(r["w"], w, rtol=1e-6) for r in rows), "the batched path needs one shared grid"
+    F = np.array([r["f"] for r in rows])
+    E = np.array([r["e"] for r in rows]) if rows[0]["e"] is not None else None
+    r0 = rows[0]["r0"]
+    print(f"loaded {len(rows)} spectra of {len(w)} pixels in {t_load:.1f} s")
+    for r in [float(v) for v in a.speed.split(",")]:
+        best = np.inf
+        for _ in range(a.repeat):
+            t = time.perf_counter()
+            degrade_batch(w, F, r, r0)
+            best = min(best, time.perf_counter() - t)
+        print(f"degrade R={r:g}: {len(rows) / best:,.0f} spectra/s (best of {a.repeat}, {best:.2f} s)")
+    if a.skip_study:
+        return
+    t_study = time.perf_counter()
+    subs = np.array([r["sub"] for r in rows]); objs = np.array([r["obj"] for r in rows]); z = np.array([r["z"] for r in rows])
+    labels = {s: i for i, s in enumerate(sorted(set(subs)))}; y = np.array([labels[s] for s in subs])
+    folds = list(StratifiedGroupKFold(n_splits=a.folds, shuffle=True, random_state=1).split(F, y, objs))
+    rng = np.random.default_rng(1)
+    print("R, S/N, accuracy, balanced accuracy")
+    for r in [float(v) for v in a.resolutions.split(",")]:
+        centres, binned = degrade_batch(w, F, r, r0)
+        lev = np.abs(level_6000(centres, binned))
+        shape = None
+        if E is not None:
+            _, ev = degrade_batch(w, E ** 2, r, None)  # variance density shape (approximate), normalised at 6000 A
+            shape = np.sqrt(np.abs(ev)); shape /= level_6000(centres, shape)[:, None]
+        for s in [float(v) for v in a.snr.split(",")]:
+            sigma = np.sqrt(2) * lev / s
+            noisy = binned + sigma[:, None] * (shape if shape is not None else 1) * rng.standard_normal(binned.shape)
+            X = features(centres, noisy, z, r)
+            pred = np.empty_like(y)
+            for train, test in folds:
+                model = make_pipeline(StandardScaler(), PCA(n_components=min(40, X.shape[1]), random_state=1),
+                                      LogisticRegression(max_iter=300, class_weight="balanced"))
+                model.fit(X[train], y[train])
+                pred[test] = model.predict(X[test])
+            recalls = [np.mean(pred[y == c] == c) for c in range(len(labels))]
+            print(f"{r:g}, {s:g}, {np.mean(pred == y):.3f}, {np.mean(recalls):.3f}", flush=True)
+    print(f"study wall {time.perf_counter() - t_study:.1f} s (+ {t_load:.1f} s loading)")
+
+
+if __name__ == "__main__":
+    main()
