@@ -46,7 +46,7 @@ public static class CalibrationPipeline
         var labelIndex = subtypes.Select((s, i) => (s, i)).ToDictionary(p => p.s, p => p.i, StringComparer.Ordinal);
         int[] labels = spectra.Select(s => labelIndex[s.Subtype]).ToArray();
         var splits = Splits(library, settings);
-        classifier ??= SubtypeClassifiers.Create(settings.Model);
+        classifier ??= SubtypeClassifiers.Create(settings.Model, settings.ClassifierPasses);
         var trainLabels = splits.Select(sp => sp.Train.Select(i => labels[i]).ToArray()).ToArray();
         var trainWeights = trainLabels.Select(l =>
         {

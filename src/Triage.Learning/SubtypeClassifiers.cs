@@ -50,20 +50,30 @@ public static class SubtypeClassifiers
     public static IReadOnlyList<string> Names { get; } = ["linear", "lbfgs", "tree", "boosted"];
 
     /// <summary>Creates a classifier by name.</summary>
-    /// <exception cref="ArgumentException">Unknown name.</exception>
-    public static ISubtypeClassifier Create(string name) => name switch
+    /// <param name="name">One of <see cref="Names"/>.</param>
+    /// <param name="passes">Passes over the training fold for "linear" (SDCA) and "lbfgs" (iterations); null: their defaults.</param>
+    /// <exception cref="ArgumentException">Unknown name, passes below 1, or passes given for a tree model.</exception>
+    public static ISubtypeClassifier Create(string name, int? passes = null)
+    {
+        if (passes is < 1) throw new ArgumentException("Passes must be at least 1.", nameof(passes));
+        if (passes is not null && name is "tree" or "boosted")
+            throw new ArgumentException($"Passes apply to the linear and lbfgs classifiers, not to '{name}'.", nameof(passes));
+        return Build(name, passes);
+    }
+
+    private static ISubtypeClassifier Build(string name, int? passes) => name switch
     {
         "linear" => new MlNetClassifier("linear", (ml, _) =>
             ml.MulticlassClassification.Trainers.SdcaMaximumEntropy(new SdcaMaximumEntropyMulticlassTrainer.Options
             {
                 LabelColumnName = "Label", FeatureColumnName = "Features", ExampleWeightColumnName = "Weight",
-                NumberOfThreads = 1, MaximumNumberOfIterations = LinearIterations, L2Regularization = 1e-3f, Shuffle = true,
+                NumberOfThreads = 1, MaximumNumberOfIterations = passes ?? LinearIterations, L2Regularization = 1e-3f, Shuffle = true,
             })),
         "lbfgs" => new MlNetClassifier("lbfgs", (ml, _) =>
             ml.MulticlassClassification.Trainers.LbfgsMaximumEntropy(new LbfgsMaximumEntropyMulticlassTrainer.Options
             {
                 LabelColumnName = "Label", FeatureColumnName = "Features", ExampleWeightColumnName = "Weight",
-                NumberOfThreads = 1, L2Regularization = 1f, MaximumNumberOfIterations = 200,
+                NumberOfThreads = 1, L2Regularization = 1f, MaximumNumberOfIterations = passes ?? 200,
             })),
         "tree" => new MlNetClassifier("tree", (ml, dim) =>
             ml.MulticlassClassification.Trainers.OneVersusAll(

@@ -39,6 +39,12 @@ public sealed record CalibrationSettings
     /// <summary>Classifier name (see Triage.Learning). Default "linear".</summary>
     public string Model { get; init; } = "linear";
 
+    /// <summary>
+    /// Passes over the training fold for the "linear" and "lbfgs" classifiers; null: the classifier's default (10 SDCA passes
+    /// for "linear", docs/calibration.md "Classifier passes").
+    /// </summary>
+    public int? ClassifierPasses { get; init; }
+
     /// <summary>Weight each class by N/(K·n_class) in training (favours per-subtype recall). Default true.</summary>
     public bool BalancedClassWeights { get; init; } = true;
 
