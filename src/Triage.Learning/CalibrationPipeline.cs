@@ -43,6 +43,8 @@ public static class CalibrationPipeline
             "No spectrum declares source_resolution; give the resolutions explicitly.", nameof(library)))).OrderBy(r => r).ToArray();
         if (maxR is double top && resolutions.Any(r => r > top * (1 + 1e-9)))
             throw new ArgumentException($"The grid asks for R = {resolutions.Max()} but the library's lowest source resolution is {top}.", nameof(settings));
+        if (resolutions.Length == 0 || resolutions[0] < CalibrationSettings.MinimumResolution)
+            throw new ArgumentException($"The grid needs R values of at least {CalibrationSettings.MinimumResolution}.", nameof(settings));
         var labelIndex = subtypes.Select((s, i) => (s, i)).ToDictionary(p => p.s, p => p.i, StringComparer.Ordinal);
         int[] labels = spectra.Select(s => labelIndex[s.Subtype]).ToArray();
         var splits = Splits(library, settings);

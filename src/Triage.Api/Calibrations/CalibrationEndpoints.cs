@@ -1,3 +1,4 @@
+using System.Globalization;
 using System.Text;
 using System.Text.Json;
 using Microsoft.AspNetCore.Http.HttpResults;
@@ -77,9 +78,10 @@ public static class CalibrationEndpoints
             }
             for (var i = 0; i < rs.Count; i++)
             {
-                if (!double.IsFinite(rs[i]) || rs[i] < 1 || rs[i] > 1_000_000)
+                if (!double.IsFinite(rs[i]) || rs[i] < CalibrationSettings.MinimumResolution || rs[i] > 1_000_000)
                 {
-                    c.Fail($"resolutions[{i}]", "must be in [1, 1000000]");
+                    c.Fail($"resolutions[{i}]", string.Create(CultureInfo.InvariantCulture,
+                        $"must be in [{CalibrationSettings.MinimumResolution}, 1000000]: {CalibrationSettings.MinimumResolution} is the lowest R the calibration's features are built for"));
                 }
             }
         }
@@ -95,6 +97,11 @@ public static class CalibrationEndpoints
                 c.Fail($"snr[{i}]", "must be in (0, 10000] or null for the native S/N");
             }
         }
+        if (c.IsValid)
+        {
+            // The library's native resolving power bounds the grid: refused here, not as a failed job later.
+            await CheckAgainstLibraryAsync(library, request.LibraryPath, request.Resolutions, c, ct);
+        }
         if (!c.IsValid)
         {
             return TypedResults.ValidationProblem(c.ToDictionary());
@@ -102,6 +109,54 @@ public static class CalibrationEndpoints
         var input = new CalibrationJobInput(library, request.LibraryPath, objects, request.Seed ?? 1, request.Resolutions, snr, folds, request.Activate ?? false);
         var id = await jobs.EnqueueAsync(CalibrationJobHandler.JobKind, JsonSerializer.Serialize(input, OperationsSetup.JobJson), Caller.From(user).KeyId, clock.GetUtcNow(), ct);
         return TypedResults.Accepted($"/api/jobs/{id}", new CalibrationJobResponse(id, $"/api/jobs/{id}"));
+    }
+
+    /// <summary>
+    /// Fails each grid R above the library's native resolving power (the lowest source resolution of its spectra; the
+    /// synthetic library's is <see cref="Triage.Core.Spectra.Synthetic.SynthOptions.NativeResolution"/>). A folder
+    /// library is read once for this; one that does not import, or that declares no resolution when the request names
+    /// none, is refused naming <c>libraryPath</c> or <c>resolutions</c>.
+    /// </summary>
+    private static async Task CheckAgainstLibraryAsync(string library, string? path, IReadOnlyList<double>? resolutions, FieldChecks c, CancellationToken ct)
+    {
+        double? native;
+        if (library == "synthetic")
+        {
+            native = new Triage.Core.Spectra.Synthetic.SynthOptions().NativeResolution;
+        }
+        else
+        {
+            try
+            {
+                native = (await Task.Run(() => LibraryFiles.Load(path!, Taxonomy.Default), ct)).MinSourceResolution;
+            }
+            catch (LibraryImportException e)
+            {
+                c.Fail("libraryPath", "the library does not import: " + string.Join("; ", e.Errors.Take(5).Select(x => x.ToString())));
+                return;
+            }
+            catch (Exception e) when (e is IOException or UnauthorizedAccessException)
+            {
+                c.Fail("libraryPath", "the library folder could not be read: " + e.Message);
+                return;
+            }
+        }
+        if (native is not double top)
+        {
+            if (resolutions is null)
+            {
+                c.Fail("resolutions", "the library declares no source resolution: give the resolutions explicitly");
+            }
+            return;
+        }
+        for (var i = 0; i < (resolutions?.Count ?? 0); i++)
+        {
+            if (resolutions![i] > top * (1 + 1e-9))
+            {
+                c.Fail($"resolutions[{i}]", string.Create(CultureInfo.InvariantCulture,
+                    $"R {resolutions[i]} is above the library's native resolving power {top}: a spectrum cannot be degraded to a higher R"));
+            }
+        }
     }
 
     public static async Task<Results<Created<CalibrationResponse>, ValidationProblem, ProblemHttpResult>> ImportTable(

@@ -30,6 +30,7 @@ public static class EventEndpoints
         services.AddSingleton<PlanEventStore>();
         services.AddSingleton<PlanEventHub>();
         services.AddSingleton<IPlanEventSignal>(sp => sp.GetRequiredService<PlanEventHub>());
+        services.AddSingleton<Triage.Api.Operations.IDatabaseNotificationHandler, PlanEventWakeup>();
         services.AddSingleton<WebhookSender>();
         services.AddHttpClient("webhooks");
         services.AddHostedService<PlanEventRelay>();

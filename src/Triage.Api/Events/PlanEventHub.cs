@@ -12,6 +12,26 @@ public interface IPlanEventSignal
 }
 
 /// <summary>
+/// A plan event added on any replica (channel <c>triage_plan_events</c>, sent by the outbox's insert trigger) wakes
+/// this replica's relay, so its stream clients get the version at once; a reconnect of the listener also wakes it,
+/// since notifications sent meanwhile were lost (the relay then reads whatever the outbox gained).
+/// </summary>
+public sealed class PlanEventWakeup(IPlanEventSignal signal) : Triage.Api.Operations.IDatabaseNotificationHandler
+{
+    /// <summary>The channel the outbox trigger (migration 0070) notifies.</summary>
+    public const string ChannelName = "triage_plan_events";
+
+    /// <inheritdoc />
+    public string Channel => ChannelName;
+
+    /// <inheritdoc />
+    public void Handle(string payload) => signal.Wake();
+
+    /// <inheritdoc />
+    public void Reset() => signal.Wake();
+}
+
+/// <summary>
 /// In-process fan-out of plan-version events to the server-sent-event clients of this process. Each subscriber gets
 /// a bounded channel; a subscriber too slow to keep up loses its oldest events (and can resume from the outbox with
 /// Last-Event-ID).

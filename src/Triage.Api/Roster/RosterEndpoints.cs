@@ -99,16 +99,16 @@ public static class RosterEndpoints
         Guid id, SiteRequest request, RosterStore store, ClaimsPrincipal user, TimeProvider clock,
         HttpRequest http, HttpResponse response, CancellationToken ct)
     {
-        if (!ETags.TryParseIfMatch(http, out var expected))
+        if (!ETags.TryReadIfMatch(http, out var ifMatch, out var badCondition))
         {
-            return Problems.PreconditionRequired();
+            return badCondition;
         }
         var current = await store.GetSiteAsync(id, ct);
         if (current is null)
         {
             return Problems.NotFound("id", $"No site {id}.");
         }
-        expected = ETags.Expected(expected, current.Version);
+        var expected = ifMatch.Expected(current.Version);
         var caller = Caller.From(user);
         if (!caller.Manages(current.Value.Observatory))
         {
@@ -136,16 +136,16 @@ public static class RosterEndpoints
     public static async Task<Results<NoContent, ProblemHttpResult>> DeleteSite(
         Guid id, RosterStore store, ClaimsPrincipal user, HttpRequest http, CancellationToken ct)
     {
-        if (!ETags.TryParseIfMatch(http, out var expected))
+        if (!ETags.TryReadIfMatch(http, out var ifMatch, out var badCondition))
         {
-            return Problems.PreconditionRequired();
+            return badCondition;
         }
         var current = await store.GetSiteAsync(id, ct);
         if (current is null)
         {
             return Problems.NotFound("id", $"No site {id}.");
         }
-        expected = ETags.Expected(expected, current.Version);
+        var expected = ifMatch.Expected(current.Version);
         if (!Caller.From(user).Manages(current.Value.Observatory))
         {
             return Problems.Forbidden("id", "This site belongs to another observatory.");
@@ -233,16 +233,16 @@ public static class RosterEndpoints
         Guid id, SpectrographRequest request, RosterStore store, ClaimsPrincipal user, TimeProvider clock,
         HttpRequest http, HttpResponse response, CancellationToken ct)
     {
-        if (!ETags.TryParseIfMatch(http, out var expected))
+        if (!ETags.TryReadIfMatch(http, out var ifMatch, out var badCondition))
         {
-            return Problems.PreconditionRequired();
+            return badCondition;
         }
         var current = await store.GetSpectrographAsync(id, ct);
         if (current is null)
         {
             return Problems.NotFound("id", $"No spectrograph {id}.");
         }
-        expected = ETags.Expected(expected, current.Version);
+        var expected = ifMatch.Expected(current.Version);
         var caller = Caller.From(user);
         var site = await store.GetSiteAsync(current.Value.SiteId, ct);
         if (site is null || !caller.Manages(site.Value.Observatory))
@@ -280,16 +280,16 @@ public static class RosterEndpoints
     public static async Task<Results<NoContent, ProblemHttpResult>> DeleteSpectrograph(
         Guid id, RosterStore store, ClaimsPrincipal user, HttpRequest http, CancellationToken ct)
     {
-        if (!ETags.TryParseIfMatch(http, out var expected))
+        if (!ETags.TryReadIfMatch(http, out var ifMatch, out var badCondition))
         {
-            return Problems.PreconditionRequired();
+            return badCondition;
         }
         var current = await store.GetSpectrographAsync(id, ct);
         if (current is null)
         {
             return Problems.NotFound("id", $"No spectrograph {id}.");
         }
-        expected = ETags.Expected(expected, current.Version);
+        var expected = ifMatch.Expected(current.Version);
         var site = await store.GetSiteAsync(current.Value.SiteId, ct);
         if (site is null || !Caller.From(user).Manages(site.Value.Observatory))
         {

@@ -32,7 +32,8 @@ internal static class SimulateVerb
         var nights = new Option<int>("--nights") { Description = "Nights (default 10).", DefaultValueFactory = _ => 10 };
         var seed = new Option<int>("--seed") { Description = "First seed (default 1).", DefaultValueFactory = _ => 1 };
         var seeds = new Option<int>("--seeds") { Description = "Number of seeds, seed, seed+1, ... (default 1).", DefaultValueFactory = _ => 1 };
-        var peaks = new Option<double>("--peaks-per-day") { Description = "Transients peaking per day over the sky (default 12).", DefaultValueFactory = _ => new SkySettings().PeaksPerDay };
+        var peaks = new Option<double>("--peaks-per-day") { Description = "Transients peaking brighter than the survey limit per day (default 81: a volumetric estimate, docs/sequential-triage.md).", DefaultValueFactory = _ => new SkySettings().PeaksPerDay };
+        var maxPool = new Option<int>("--max-pool") { Description = "Most candidates planned per night, chosen like the service's bounded pool (default 600).", DefaultValueFactory = _ => new SeasonSettings().MaxPoolCandidates };
         var clear = new Option<double>("--clear-fraction") { Description = "Probability a site is clear on a night (default 0.7).", DefaultValueFactory = _ => 0.7 };
         var noLearning = new Option<bool>("--no-learning") { Description = "Plan with the calibration only (no outcome learning)." };
         var strategies = new Option<string?>("--strategies") { Description = "Comma-separated strategy names (default all)." };
@@ -40,7 +41,7 @@ internal static class SimulateVerb
         var plots = new Option<DirectoryInfo?>("--plots") { Description = "Folder for SVG plots of the first seed." };
         var output = new Option<FileInfo>("--out") { Description = "Season JSON to write.", Required = true };
         var cmd = new Command("simulate", "Simulate a season of the roster for Triage (with and without escalation) and the rule baselines.")
-            { roster, calibration, truth, degrade, nights, seed, seeds, peaks, clear, noLearning, strategies, whatIf, plots, output };
+            { roster, calibration, truth, degrade, nights, seed, seeds, peaks, maxPool, clear, noLearning, strategies, whatIf, plots, output };
         cmd.SetAction((parse, ct) =>
         {
             try
@@ -56,6 +57,7 @@ internal static class SimulateVerb
                     ClearFraction = parse.GetValue(clear) is var c and >= 0 and <= 1 ? c : throw new FormatException("--clear-fraction: 0 to 1."),
                     LearnUnitAccuracy = !parse.GetValue(noLearning),
                     Sky = new SkySettings { PeaksPerDay = parse.GetValue(peaks) is var pd and > 0 and <= 1000 ? pd : throw new FormatException("--peaks-per-day: above 0, at most 1000.") },
+                    MaxPoolCandidates = parse.GetValue(maxPool) is var mp and >= 1 and <= 100_000 ? mp : throw new FormatException("--max-pool: 1 to 100000."),
                     TruthDegradation = Degradation(parse.GetValue(degrade), units),
                     Strategies = Strategies(parse.GetValue(strategies)),
                 };
@@ -187,6 +189,12 @@ internal static class SimulateVerb
         }
 
         AnsiConsole.Write(table);
+        foreach (var s in summary.Strategies)
+        {
+            Console.WriteLine(string.Create(inv,
+                $"{s.Name}: per night {s.Load.Pool:0} in the pool, {s.Load.WorthObserving:0} worth observing needing ≥ {s.Load.DemandHours:0.#} h against {s.Load.CapacityHours:0.#} h of unit time (×{s.Load.Oversubscription:0.00}; oversubscribed on {s.Load.OversubscribedNightShare:P0} of nights)"));
+        }
+
         foreach (var c in summary.Comparisons)
         {
             Console.WriteLine(string.Create(inv,

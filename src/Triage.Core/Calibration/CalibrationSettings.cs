@@ -8,7 +8,14 @@ namespace Triage.Core.Calibration;
 /// </summary>
 public sealed record CalibrationSettings
 {
-    /// <summary>Resolving powers of the grid; null: <see cref="DefaultResolutions"/> for the library's resolution.</summary>
+    /// <summary>
+    /// The lowest resolving power a calibration grid may hold: 5, the floor of <see cref="DefaultResolutions"/> and the
+    /// lowest R the low-R feature grid is built and measured for (docs/calibration.md, "Low R"). Below it a 3500–9200 Å
+    /// spectrum spans fewer than about five resolution elements.
+    /// </summary>
+    public const double MinimumResolution = 5;
+
+    /// <summary>Resolving powers of the grid (each ≥ <see cref="MinimumResolution"/>); null: <see cref="DefaultResolutions"/> for the library's resolution.</summary>
     public IReadOnlyList<double>? Resolutions { get; init; }
 
     /// <summary>
@@ -79,7 +86,7 @@ public sealed record CalibrationSettings
     /// <param name="maxResolution">The library's lowest source resolution (the grid may not exceed it).</param>
     /// <param name="count">Number of grid points (≥ 2).</param>
     /// <param name="minResolution">Lowest R of the grid.</param>
-    public static IReadOnlyList<double> DefaultResolutions(double maxResolution, int count = 12, double minResolution = 5)
+    public static IReadOnlyList<double> DefaultResolutions(double maxResolution, int count = 12, double minResolution = MinimumResolution)
     {
         double top = Math.Min(maxResolution, DefaultTopResolution);
         var r = new double[count];

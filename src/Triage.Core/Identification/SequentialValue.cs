@@ -4,11 +4,18 @@
 //   p(k|j)    = p(k) C(j|k) / m(j)                     posterior after answer j (Bayes [2])
 //   g(π)      = max π  if max π ≥ τ, else 0            expected correct identifications of belief π
 //   D(p, C)   = Σⱼ m(j) g(p(·|j))                      direct value: identified by this spectrum
-//   E(p, C)   = q Σⱼ m(j) [max p(·|j) < τ] D(p(·|j), F) escalation: unsettled answers get a follow-up
-//                                                      spectrum through channel F (the sharpest unit)
-//   V         = D + E
+//   E(p, C)   = q Σⱼ m(j) [max p(·|j) < τ] (D(p(·|j), F) − D(p, F))
+//                                                      escalation: what this spectrum adds to the follow-up
+//                                                      through channel F (the sharpest unit) that the
+//                                                      candidate, left unsettled, could get anyway
+//   V         = max(0, D + E)
 // q in [0, 1] is the share of unsettled results the remaining high-R capacity can take. The follow-up
-// is valued by its direct value only (one step of look-ahead). Probabilities of subtypes the
+// is valued by its direct value only (one step of look-ahead). E is the expected value of sample
+// information of this spectrum for the follow-up decision [1, ch. 4]: the value with the answer minus
+// the value without it, so a spectrum that carries no information (C(j|k) equal for every k) is
+// worth nothing. (Crediting the follow-up's whole value, q Σⱼ m(j) [unsettled] D(p(·|j), F), would
+// give an uninformative spectrum q·D(p, F) and keep a unit that answers at random busy.) Answers
+// that settle the candidate free the follow-up capacity for another candidate and are not charged. Probabilities of subtypes the
 // calibration does not know never identify: the calibrated share s = Σ p of the prior is normalised,
 // and V is multiplied by s.
 //
@@ -21,7 +28,7 @@ namespace Triage.Core.Identification;
 
 /// <summary>The value of one spectrum under the identification rule, split into its parts.</summary>
 /// <param name="Direct">D: expected correct identifications made by this spectrum alone, 0…1.</param>
-/// <param name="Escalation">E: expected correct identifications added by escalating its unsettled answers, 0…1.</param>
+/// <param name="Escalation">E: expected correct identifications its unsettled answers add to a follow-up spectrum, over the follow-up without them, −1…1.</param>
 /// <param name="UnsettledProbability">Probability this spectrum leaves the candidate below τ.</param>
 /// <param name="LikelyUnsettledAnswer">Index of the commonest answer that leaves it unsettled (−1: none).</param>
 /// <param name="LikelyUnsettledAnswerProbability">m(j) of that answer.</param>
@@ -36,8 +43,8 @@ public readonly record struct SequentialValue(
     double FollowUpIdentifies,
     double FollowUpCorrect)
 {
-    /// <summary>V = D + E.</summary>
-    public double Total => Direct + Escalation;
+    /// <summary>V = max(0, D + E).</summary>
+    public double Total => Math.Max(0, Direct + Escalation);
 }
 
 /// <summary>One-step preposterior value of a spectrum under the identification rule.</summary>
@@ -81,6 +88,7 @@ public static class SequentialValuation
         int likely = -1;
         double likelyM = 0, likelyIdentifies = 0, likelyCorrect = 0;
         var q = Math.Clamp(capacityShare, 0, 1);
+        var withoutAnswer = followUp.Length == 0 ? 0 : Direct(normalised, followUp, confidence).Correct;
         for (var j = 0; j < k; j++)
         {
             var m = PosteriorUpdate.Bayes(normalised, channel, j, posterior);
@@ -103,7 +111,7 @@ public static class SequentialValuation
             }
 
             var (correct, identifies) = Direct(posterior, followUp, confidence);
-            escalation += q * m * correct;
+            escalation += q * m * (correct - withoutAnswer);
             if (m > likelyM)
             {
                 (likely, likelyM, likelyIdentifies, likelyCorrect) = (j, m, identifies, correct);
@@ -151,9 +159,9 @@ public static class SequentialValuation
     }
 
     /// <summary>
-    /// The plain-words explanation of a value with an escalation part, e.g. "cheap spectrum first:
+    /// The plain-words explanation of a value with a positive escalation part, e.g. "cheap spectrum first:
     /// if it reports Ia (45 % likely), an R=4000 spectrum then identifies the subtype with
-    /// probability 0.71 (0.69 expected correct)"; null when there is no escalation part.
+    /// probability 0.71 (0.69 expected correct)"; null when escalation adds nothing.
     /// </summary>
     /// <param name="value">The value.</param>
     /// <param name="subtypes">Subtype labels in the channel's order.</param>
@@ -171,6 +179,6 @@ public static class SequentialValuation
             $"cheap spectrum first: if it reports {subtypes[value.LikelyUnsettledAnswer]} ({value.LikelyUnsettledAnswerProbability:P0} likely), ")
             + string.Create(inv,
             $"an R={followUpResolvingPower:F0} spectrum then identifies the subtype with probability {value.FollowUpIdentifies:F2} ({value.FollowUpCorrect:F2} expected correct); ")
-            + string.Create(inv, $"{value.Direct:F2} identified now + {value.Escalation:F2} from escalating");
+            + string.Create(inv, $"{value.Direct:F2} identified now + {value.Escalation:F2} more from the follow-up than without this spectrum");
     }
 }

@@ -8,6 +8,17 @@ namespace Triage.Core.Season;
 /// <param name="Hours">Hours (exposure plus overhead).</param>
 public sealed record SettledHours(double From, double To, double Hours);
 
+/// <summary>How oversubscribed one night was for a strategy (before weather).</summary>
+/// <param name="Pool">Candidates in the pool (discovered, not identified, phase ≤ 60 d, true m ≤ m_lim + 1).</param>
+/// <param name="WorthObserving">Pool candidates with at least one option of positive value (visible, bright enough for some unit).</param>
+/// <param name="DemandHours">Σ over those candidates of their shortest option (lowest S/N level, exposure plus overhead), h: a lower bound on the time one spectrum of each would take.</param>
+/// <param name="CapacityHours">Σ over units of min(budget, dark window), h.</param>
+public sealed record NightLoad(int Pool, int WorthObserving, double DemandHours, double CapacityHours)
+{
+    /// <summary>DemandHours / CapacityHours (&gt; 1: oversubscribed).</summary>
+    public double Oversubscription => CapacityHours > 0 ? DemandHours / CapacityHours : double.PositiveInfinity;
+}
+
 /// <summary>One strategy's season.</summary>
 /// <param name="Name">Strategy name.</param>
 /// <param name="CorrectIdentifications">Final labels equal to the true subtype.</param>
@@ -26,6 +37,9 @@ public sealed record SettledHours(double From, double To, double Hours);
 /// <param name="HoursPerUnitByNight">Hours per spectrograph name and night.</param>
 /// <param name="UnitAccuracy">Modelled against measured accuracy per unit (learning strategies).</param>
 /// <param name="FlaggedUnits">Unit name → first night (1-based) it was flagged as worse than modelled.</param>
+/// <param name="LoadByNight">Demand against capacity, per night.</param>
+/// <param name="PlannedValueByNight">Per spectrograph name and night: the planner's value of the observations it planned there (before weather), in the objective's units.</param>
+/// <param name="PlannedHoursByNight">Per spectrograph name and night: the hours it planned there (before weather).</param>
 public sealed record StrategyResult(
     string Name,
     int CorrectIdentifications,
@@ -43,7 +57,10 @@ public sealed record StrategyResult(
     IReadOnlyList<int> CumulativeCorrectByNight,
     IReadOnlyDictionary<string, double[]> HoursPerUnitByNight,
     IReadOnlyList<UnitAccuracy> UnitAccuracy,
-    IReadOnlyDictionary<string, int> FlaggedUnits);
+    IReadOnlyDictionary<string, int> FlaggedUnits,
+    IReadOnlyList<NightLoad> LoadByNight,
+    IReadOnlyDictionary<string, double[]> PlannedValueByNight,
+    IReadOnlyDictionary<string, double[]> PlannedHoursByNight);
 
 /// <summary>A simulated season.</summary>
 /// <param name="Seed">Seed.</param>

@@ -1,5 +1,6 @@
 // The season simulator: the same sky and weather, night after night, for each strategy.
-//   pool(d)   = discovered before the night, not identified, phase < 60 rest days, true m < m_lim + 1
+//   pool(d)   = discovered before the night, not identified, phase < 60 rest days, true m < m_lim + 1;
+//               at most MaxPoolCandidates of them, chosen like the service's bounded pool (value per hour)
 //   plan(d)   = NightProblemBuilder + the planner's heuristics (greedy by value density, local search),
 //               or a rule baseline; observations failing the final safety check are dropped
 //   weather   = each site clear with probability f_clear per night (shared by every strategy)
@@ -82,6 +83,13 @@ public sealed record SeasonSettings
 
     /// <summary>Strategies run. Default: all five.</summary>
     public IReadOnlyList<SeasonStrategy> Strategies { get; init; } = Enum.GetValues<SeasonStrategy>();
+
+    /// <summary>
+    /// Most candidates handed to the planner per night, chosen as the service's plan job chooses them
+    /// (<see cref="CandidatePool"/>: upper bound of value per hour). Default 600, nearly three times the
+    /// ≈ 220 spectra of about ten minutes the demo roster's 37 unit-hours can take in one night.
+    /// </summary>
+    public int MaxPoolCandidates { get; init; } = 600;
 
     /// <summary>Subtypes whose base rate is below this count as rare. Default 0.02.</summary>
     public double RareBaseRate { get; init; } = 0.02;
@@ -186,10 +194,13 @@ internal sealed class StrategyRun
     private readonly UnitOutcomes? _outcomes;
     private readonly bool _sequential;
     private readonly Dictionary<string, double[]> _hoursByNight = new(StringComparer.Ordinal);
+    private readonly Dictionary<string, double[]> _plannedValue = new(StringComparer.Ordinal);
+    private readonly Dictionary<string, double[]> _plannedHours = new(StringComparer.Ordinal);
     private readonly Dictionary<string, int> _flaggedNight = new(StringComparer.Ordinal);
     private readonly int[] _correctByNight;
     private readonly int[] _wrongByNight;
     private readonly double[] _highBySettled = new double[4];
+    private readonly List<NightLoad> _load = [];
     private int _observations;
     private int _weatherLosses;
     private double _highHours;
@@ -226,6 +237,8 @@ internal sealed class StrategyRun
         foreach (var sg in spectrographs)
         {
             _hoursByNight[sg.Name] = new double[settings.Nights];
+            _plannedValue[sg.Name] = new double[settings.Nights];
+            _plannedHours[sg.Name] = new double[settings.Nights];
         }
     }
 
@@ -255,6 +268,21 @@ internal sealed class StrategyRun
         }
 
         var objective = _sequential ? PlanObjective.Identification : PlanObjective.Accuracy;
+        var waiting = pool.Count;
+        var eligible = waiting;
+        if (pool.Count > _settings.MaxPoolCandidates)
+        {
+            // The service's bounded pool: forecast magnitude at the night's middle, ranked by value per hour.
+            var middle = now.AddHours(12);
+            var selection = CandidatePool.Select(_sites, _spectrographs, _planner, date, now,
+                pool.Select(t => new PoolCandidate(t.Id, t.Position.RaDeg, t.Position.DecDeg, t.ScienceWeight, t.MagnitudeAt(middle).MagnitudeAB)).ToList(),
+                new HashSet<string>(StringComparer.Ordinal), objective, new NightBuildSettings { Objective = objective },
+                new CandidatePoolSettings { MaxCandidates = _settings.MaxPoolCandidates });
+            var kept = selection.Kept.ToHashSet(StringComparer.Ordinal);
+            pool = pool.Where(t => kept.Contains(t.Id)).ToList();
+            eligible = selection.Report.Kept + selection.Report.BelowCut;
+        }
+
         var build = new NightBuildSettings
         {
             Objective = objective,
@@ -269,6 +297,7 @@ internal sealed class StrategyRun
         };
         var night = NightProblemBuilder.Build(_sites, _spectrographs, pool, _planner, date, now, build);
         var problem = night.Problem;
+        _load.Add(Load(problem, waiting, eligible));
         var planned = Plan(problem);
         var unsafeCandidates = night.SafetyViolations(planned);
         var clear = _sites.ToDictionary(s => s.Name, s => Draw("weather", s.Name, index).NextDouble() < _settings.ClearFraction);
@@ -282,6 +311,8 @@ internal sealed class StrategyRun
             }
 
             var unit = problem.Units[option.Unit];
+            _plannedValue[unit.Name][index] += option.Levels[obs.Level].Value;
+            _plannedHours[unit.Name][index] += option.Levels[obs.Level].DurationSeconds / 3600;
             if (!clear[unit.SiteName])
             {
                 _weatherLosses++;
@@ -305,6 +336,29 @@ internal sealed class StrategyRun
         }
 
         UpdateCapacityShare(pool.Count);
+    }
+
+    /// <summary>
+    /// Demand against capacity. Candidates left out by the bounded pool are counted as worth observing when the
+    /// pool found them visible and bright enough, each with the mean shortest spectrum of those planned for.
+    /// </summary>
+    private static NightLoad Load(PlanningProblem problem, int waiting, int eligible)
+    {
+        var shortest = new double[problem.Candidates.Count];
+        Array.Fill(shortest, double.PositiveInfinity);
+        foreach (var option in problem.Options)
+        {
+            foreach (var level in option.Levels.Where(l => l.Value > 0))
+            {
+                shortest[option.Candidate] = Math.Min(shortest[option.Candidate], level.DurationSeconds);
+            }
+        }
+
+        var worth = shortest.Where(double.IsFinite).ToArray();
+        var leftOut = Math.Max(0, eligible - problem.Candidates.Count);
+        var demand = worth.Sum() + (worth.Length > 0 ? leftOut * worth.Average() : 0);
+        var capacity = problem.Units.Sum(u => Math.Min(u.BudgetSeconds, u.Available.LengthSeconds));
+        return new NightLoad(waiting, worth.Length + leftOut, Math.Round(demand / 3600, 3), Math.Round(capacity / 3600, 3));
     }
 
     private IReadOnlyList<PlannedObservation> Plan(PlanningProblem problem)
@@ -451,6 +505,9 @@ internal sealed class StrategyRun
         _capacityShare = demand > 0 ? Math.Min(1, capacity / demand) : 1;
     }
 
+    private static Dictionary<string, double[]> Rounded(Dictionary<string, double[]> byNight) =>
+        byNight.ToDictionary(h => h.Key, h => h.Value.Select(v => Math.Round(v, 4)).ToArray(), StringComparer.Ordinal);
+
     internal StrategyResult Result()
     {
         var correct = _correctByNight.Sum();
@@ -489,6 +546,9 @@ internal sealed class StrategyRun
             cumulative,
             _hoursByNight.ToDictionary(h => h.Key, h => h.Value.Select(v => Math.Round(v, 3)).ToArray()),
             units,
-            _flaggedNight);
+            _flaggedNight,
+            _load,
+            Rounded(_plannedValue),
+            Rounded(_plannedHours));
     }
 }

@@ -8,12 +8,23 @@
 //   colours: g − r = 0 at peak reddening by 0.02 mag/day after it (the broker's second band);
 //   discovery: the first observer day at which m < m_lim; positions uniform on the sphere for
 //   −75° ≤ δ ≤ +55°; peak times uniform over the season and the 40 days before it.
+// Default rate (a magnitude-limited, Euclidean estimate of how many transients the survey finds):
+//   d_lim = 10^{(m_lim − M_Ia − 25)/5} Mpc,  N_Ia = R_Ia · (4π/3) d_lim³ / 365.25 per day over the whole sky,
+//   peaks per day = N_Ia / f_Ia · Ω/4π,  Ω/4π = (sin 55° + sin 75°)/2 for the simulated band of declinations,
+//   with R_Ia = 3.0 × 10⁻⁵ Mpc⁻³ yr⁻¹ [2], M_Ia = −19.3 [3], f_Ia = 0.72 the Ia share of a
+//   magnitude-limited sample [4]. At m_lim = 19.5: d = 575 Mpc, 65.5 Ia per day, 81 per day in the band.
+//   No time dilation, K-correction or cosmological volume (z ≈ 0.13 at the limit): an overestimate of
+//   perhaps a few tens of per cent, stated as such.
 // Broker probabilities: p(k) ∝ b(k) · exp(β [k = s] + σ_b ε_k), ε ~ N(0, 1): noisy, centred on the truth
 // with quality β (β = 0: the base rates with noise). The planner's forecast is the truth with an
 // object-level magnitude error N(0, σ_m) and a peak-time error N(0, σ_t) (a stand-in for the light-curve fit).
 //
 // References
 // [1] common practice: the Euclidean source-count slope d log N / dm = 0.6 for a uniform population in flat space.
+// [2] from memory: W. Li et al., MNRAS 412 (2011) 1473, local volumetric SN Ia rate ≈ 3.0 × 10⁻⁵ Mpc⁻³ yr⁻¹ (h = 0.7).
+// [3] common practice: SN Ia peak absolute magnitude M_B ≈ −19.3.
+// [4] from memory: C. Fremling et al., ApJ 895 (2020) 32 / D. Perley et al., ApJ 904 (2020) 35 (a bright
+//     transient survey to 18.5 mag): about 72 % of its classified supernovae are Ia.
 using Triage.Core.Candidates;
 using Triage.Core.Planning;
 using Triage.Core.Sky;
@@ -23,8 +34,11 @@ namespace Triage.Core.Season;
 /// <summary>Settings of the synthetic sky.</summary>
 public sealed record SkySettings
 {
-    /// <summary>New transients peaking per day over the whole sky reachable by the roster. Default 12.</summary>
-    public double PeaksPerDay { get; init; } = 12;
+    /// <summary>
+    /// New transients peaking brighter than <see cref="SurveyLimitMag"/> per day in the simulated band of
+    /// declinations. Default <see cref="SurveyRatePerDay"/> at 19.5 mag, rounded: 81.
+    /// </summary>
+    public double PeaksPerDay { get; init; } = Math.Round(SurveyRatePerDay(19.5));
 
     /// <summary>Survey detection limit, AB mag at the S/N reference wavelength. Default 19.5.</summary>
     public double SurveyLimitMag { get; init; } = 19.5;
@@ -43,6 +57,28 @@ public sealed record SkySettings
 
     /// <summary>Days before the first night whose peaks are simulated (objects already in the pool). Default 40.</summary>
     public double LeadInDays { get; init; } = 40;
+
+    /// <summary>Volumetric SN Ia rate R_Ia, Mpc⁻³ yr⁻¹ (from memory: Li et al. 2011).</summary>
+    public const double IaRatePerMpc3Year = 3.0e-5;
+
+    /// <summary>SN Ia peak absolute magnitude M_Ia (common practice).</summary>
+    public const double IaPeakAbsoluteMag = -19.3;
+
+    /// <summary>f_Ia: the Ia share of a magnitude-limited sample (from memory: a bright transient survey, 2020).</summary>
+    public const double IaShareOfMagnitudeLimitedSample = 0.72;
+
+    /// <summary>
+    /// Transients peaking brighter than <paramref name="limitMag"/> per day in the band −75° ≤ δ ≤ +55°:
+    /// R_Ia (4π/3) d³ / 365.25 / f_Ia · Ω/4π with d = 10^{(m − M_Ia − 25)/5} Mpc (Euclidean, low z).
+    /// </summary>
+    /// <param name="limitMag">Survey limit, AB mag.</param>
+    public static double SurveyRatePerDay(double limitMag)
+    {
+        var distanceMpc = Math.Pow(10, (limitMag - IaPeakAbsoluteMag - 25) / 5);
+        var iaPerDay = IaRatePerMpc3Year * 4 * Math.PI / 3 * distanceMpc * distanceMpc * distanceMpc / 365.25;
+        var band = (Math.Sin(55 * Math.PI / 180) + Math.Sin(75 * Math.PI / 180)) / 2;
+        return iaPerDay / IaShareOfMagnitudeLimitedSample * band;
+    }
 }
 
 /// <summary>One simulated transient.</summary>

@@ -30,6 +30,31 @@ public sealed record Spread(double Mean, double StandardDeviation, double Min, d
     }
 }
 
+/// <summary>Load of a strategy's nights, averaged over nights and seeds.</summary>
+/// <param name="Pool">Mean candidates in the pool per night.</param>
+/// <param name="WorthObserving">Mean candidates with an option of positive value per night.</param>
+/// <param name="DemandHours">Mean hours one shortest spectrum of each of them would take, per night.</param>
+/// <param name="CapacityHours">Mean hours the units could work, per night (before weather).</param>
+/// <param name="Oversubscription">DemandHours / CapacityHours.</param>
+/// <param name="OversubscribedNightShare">Share of nights with demand above capacity.</param>
+public sealed record SeasonLoad(double Pool, double WorthObserving, double DemandHours, double CapacityHours, double Oversubscription, double OversubscribedNightShare)
+{
+    /// <summary>Averages the nights of several runs.</summary>
+    public static SeasonLoad Of(IEnumerable<NightLoad> nights)
+    {
+        var all = nights.ToList();
+        if (all.Count == 0)
+        {
+            return new SeasonLoad(0, 0, 0, 0, double.NaN, double.NaN);
+        }
+
+        var demand = all.Average(n => n.DemandHours);
+        var capacity = all.Average(n => n.CapacityHours);
+        return new SeasonLoad(all.Average(n => n.Pool), all.Average(n => n.WorthObserving), demand, capacity,
+            capacity > 0 ? demand / capacity : double.NaN, all.Count(n => n.DemandHours > n.CapacityHours) / (double)all.Count);
+    }
+}
+
 /// <summary>One strategy's figures over seeds (means), with the spread of the main ones.</summary>
 public sealed record StrategySummary(
     string Name,
@@ -44,7 +69,8 @@ public sealed record StrategySummary(
     double AmbiguousHighResolutionShare,
     IReadOnlyDictionary<string, double> HoursPerUnit,
     Spread CorrectIdentificationsSpread,
-    Spread WrongIdentificationsSpread);
+    Spread WrongIdentificationsSpread,
+    SeasonLoad Load);
 
 /// <summary>A paired comparison of two strategies over seeds.</summary>
 /// <param name="Strategy">The strategy compared.</param>
@@ -85,7 +111,8 @@ public sealed record SeasonSummary(IReadOnlyList<int> Seeds, int Nights, IReadOn
             return new StrategySummary(name, Mean(r => r.CorrectIdentifications), Mean(r => r.WrongIdentifications), Mean(r => r.Observations),
                 Mean(r => r.HighResolutionHours), Mean(r => r.IdentificationsPerHighResolutionHour), Mean(r => r.MedianDaysToIdentification),
                 Mean(r => r.RareSubtypeIdentifications), Mean(r => r.HighResolutionHoursOnAmbiguous), Mean(r => r.AmbiguousHighResolutionShare),
-                units, Spread.Of(runs.Select(r => (double)r.CorrectIdentifications).ToList()), Spread.Of(runs.Select(r => (double)r.WrongIdentifications).ToList()));
+                units, Spread.Of(runs.Select(r => (double)r.CorrectIdentifications).ToList()), Spread.Of(runs.Select(r => (double)r.WrongIdentifications).ToList()),
+                SeasonLoad.Of(runs.SelectMany(r => r.LoadByNight)));
         }).ToList();
 
         var comparisons = new List<PairedComparison>();

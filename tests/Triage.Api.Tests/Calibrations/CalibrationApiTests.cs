@@ -86,11 +86,47 @@ public sealed class CalibrationApiTests(IsolatedDatabaseFactory api) : IClassFix
     [InlineData("{\"objects\":5}", "objects")]
     [InlineData("{\"folds\":1}", "folds")]
     [InlineData("{\"resolutions\":[0.5]}", "resolutions[0]")]
+    [InlineData("{\"resolutions\":[4.9, 100]}", "resolutions[0]")]                  // below the lowest R supported (5)
+    [InlineData("{\"resolutions\":[100, 6000, 6001]}", "resolutions[2]")]           // above the synthetic library's native R 6000
     [InlineData("{\"snr\":[-3]}", "snr[0]")]
     public async Task BadCalibrationRequest_IsProblemNamingTheField(string body, string field)
     {
         var admin = api.ClientWith(await api.KeyAsync(Scope.Admin));
         await Bodies.AssertProblemNamingAsync(await admin.PostAsync("/api/calibrations", Bodies.Raw(body)), 400, field);
+    }
+
+    [Fact]
+    public async Task ResolutionsBeyondAFolderLibrary_AreRefusedUpFront_AndNoJobIsQueued()
+    {
+        var admin = api.ClientWith(await api.KeyAsync(Scope.Admin));
+        var folder = Path.Combine(Path.GetTempPath(), "triage-r-limit-" + Guid.NewGuid().ToString("N"));
+        var empty = Path.Combine(Path.GetTempPath(), "triage-r-empty-" + Guid.NewGuid().ToString("N"));
+        Directory.CreateDirectory(empty);
+        try
+        {
+            // A library observed at R 1500: nothing can be degraded to R 2000 from it.
+            var library = Triage.Core.Spectra.Synthetic.SyntheticLibrary.Generate(
+                new Triage.Core.Spectra.Synthetic.SynthOptions { Objects = 30, Seed = 2, NativeResolution = 1500 }).Library;
+            Triage.Learning.LibraryFiles.Write(folder, library, ["R limit test"]);
+            await using var conn = await api.DataSource.OpenConnectionAsync();
+            var jobsBefore = await Dapper.SqlMapper.ExecuteScalarAsync<long>(conn, "SELECT count(*) FROM jobs");
+
+            var above = await admin.PostAsync("/api/calibrations", Bodies.Raw(JsonSerializer.Serialize(new
+            {
+                library = "folder", libraryPath = folder, resolutions = new[] { 100.0, 1500.0, 2000.0 }, snr = new[] { 10.0 },
+            })));
+            await Bodies.AssertProblemNamingAsync(above, 400, "resolutions[2]");
+            Assert.Contains("1500", await above.Content.ReadAsStringAsync());
+            var unreadable = await admin.PostAsync("/api/calibrations", Bodies.Raw(JsonSerializer.Serialize(new { library = "folder", libraryPath = empty })));
+            await Bodies.AssertProblemNamingAsync(unreadable, 400, "libraryPath");
+
+            Assert.Equal(jobsBefore, await Dapper.SqlMapper.ExecuteScalarAsync<long>(conn, "SELECT count(*) FROM jobs"));
+        }
+        finally
+        {
+            Directory.Delete(folder, true);
+            Directory.Delete(empty, true);
+        }
     }
 
     [Fact]

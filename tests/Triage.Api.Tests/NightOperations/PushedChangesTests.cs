@@ -49,7 +49,7 @@ public sealed class PushedChangesTests(NightClockFactory api) : IClassFixture<Ni
         var hookId = JsonDocument.Parse(await hook.Content.ReadAsStringAsync()).RootElement.GetProperty("id").GetString();
         using var sseCancel = new CancellationTokenSource(TimeSpan.FromMinutes(3));
         var sseEvents = Channel.CreateUnbounded<(string Id, string Event, string Data)>();
-        var sse = ReadSseAsync(api.ClientWith(await api.KeyAsync(Triage.Storage.Access.Scope.Scheduler)), $"/api/plans/{night}/events", sseEvents.Writer, sseCancel.Token);
+        var sse = ServerSentEvents.ReadAsync(api.ClientWith(await api.KeyAsync(Triage.Storage.Access.Scope.Scheduler)), $"/api/plans/{night}/events", sseEvents.Writer, sseCancel.Token);
 
         // Other observatories cannot close this site.
         var other = keys.First(k => sites.First(s => s.Id == k.Key).Observatory != sites.First(s => s.Id == site).Observatory).Value;
@@ -81,7 +81,7 @@ public sealed class PushedChangesTests(NightClockFactory api) : IClassFixture<Ni
         }
 
         // The SSE client gets the version with its diff.
-        var sseEvent = await ReadUntilAsync(sseEvents.Reader, e => e.Event == "plan-version", TimeSpan.FromMinutes(1));
+        var sseEvent = await ServerSentEvents.ReadUntilAsync(sseEvents.Reader, e => e.Event == "plan-version", TimeSpan.FromMinutes(1));
         var data = JsonDocument.Parse(sseEvent.Data).RootElement;
         Assert.Equal(2, data.GetProperty("version").GetInt32());
         Assert.Equal("closure", data.GetProperty("trigger").GetProperty("kind").GetString());
@@ -142,47 +142,6 @@ public sealed class PushedChangesTests(NightClockFactory api) : IClassFixture<Ni
         {
             Assert.True(DateTime.UtcNow < until, "condition not met in time");
             await Task.Delay(200);
-        }
-    }
-
-    private static async Task<T> ReadUntilAsync<T>(ChannelReader<T> reader, Func<T, bool> match, TimeSpan timeout)
-    {
-        using var cts = new CancellationTokenSource(timeout);
-        while (true)
-        {
-            var item = await reader.ReadAsync(cts.Token);
-            if (match(item))
-            {
-                return item;
-            }
-        }
-    }
-
-    private static async Task ReadSseAsync(HttpClient client, string url, ChannelWriter<(string, string, string)> writer, CancellationToken ct)
-    {
-        try
-        {
-            using var response = await client.GetAsync(url, HttpCompletionOption.ResponseHeadersRead, ct);
-            Assert.Equal("text/event-stream", response.Content.Headers.ContentType?.MediaType);
-            using var reader = new StreamReader(await response.Content.ReadAsStreamAsync(ct));
-            string id = "", ev = "", data = "";
-            while (await reader.ReadLineAsync(ct) is { } line)
-            {
-                if (line.Length == 0)
-                {
-                    if (data.Length > 0)
-                    {
-                        await writer.WriteAsync((id, ev, data), ct);
-                    }
-                    id = ev = data = "";
-                }
-                else if (line.StartsWith("id: ", StringComparison.Ordinal)) { id = line[4..]; }
-                else if (line.StartsWith("event: ", StringComparison.Ordinal)) { ev = line[7..]; }
-                else if (line.StartsWith("data: ", StringComparison.Ordinal)) { data += line[6..]; }
-            }
-        }
-        catch (OperationCanceledException)
-        {
         }
     }
 

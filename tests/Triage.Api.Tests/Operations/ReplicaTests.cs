@@ -5,6 +5,9 @@ using Dapper;
 using Microsoft.AspNetCore.Hosting;
 using Microsoft.AspNetCore.TestHost;
 using Microsoft.Extensions.DependencyInjection;
+using System.Text.Json;
+using System.Threading.Channels;
+using Triage.Api.Events;
 using Triage.Api.Jobs;
 using Triage.Api.Tests.Infrastructure;
 using Triage.Storage.Access;
@@ -41,6 +44,8 @@ public class ReplicaAFactory : IsolatedDatabaseFactory
         base.ConfigureWebHost(builder);
         builder.UseSetting("Triage:Access:KeyCacheSeconds", "60");
         builder.UseSetting("Triage:Jobs:PollInterval", "00:00:05");
+        // The event relay reads the outbox every 5 min by itself: only a notification brings a version sooner.
+        builder.UseSetting("Triage:Events:PollInterval", "00:05:00");
         builder.ConfigureTestServices(s => s.AddSingleton<IJobHandler>(new ProbeHandler(Replica, Runs)));
     }
 }
@@ -54,6 +59,7 @@ public sealed class ReplicaBFactory(ReplicaAFactory first) : TriageApiFactory
         builder.UseSetting("ConnectionStrings:Triage", first.IsolatedConnectionString);
         builder.UseSetting("Triage:Access:KeyCacheSeconds", "60");
         builder.UseSetting("Triage:Jobs:PollInterval", "00:00:05");
+        builder.UseSetting("Triage:Events:PollInterval", "00:05:00");
         builder.ConfigureTestServices(s => s.AddSingleton<IJobHandler>(new ProbeHandler("B", first.Runs)));
     }
 }
@@ -83,7 +89,8 @@ public sealed class ReplicaPair : IDisposable
 /// Several replicas on one database: a key revoked through one is refused by the other within a
 /// second although both cache keys for a minute (LISTEN/NOTIFY), and jobs queued once are each
 /// run exactly once, by both replicas between them (claims with FOR UPDATE SKIP LOCKED; idle
-/// workers woken by the notification, not by their 5 s poll).
+/// workers woken by the notification, not by their 5 s poll), and a plan version made through one
+/// reaches a stream client of the other at once although the relays poll only every 5 minutes.
 /// </summary>
 public sealed class ReplicaTests(ReplicaPair pair) : IClassFixture<ReplicaPair>
 {
@@ -141,5 +148,36 @@ public sealed class ReplicaTests(ReplicaPair pair) : IClassFixture<ReplicaPair>
         Assert.Equal(0, await conn.ExecuteScalarAsync<int>("SELECT count(*) FROM jobs WHERE kind = @k AND attempts <> 1", new { k = ProbeHandler.JobKind }));
         // 24 probes of 100 ms on two workers woken by the notification: far less than one 5 s poll per job.
         Assert.True(clock.Elapsed < TimeSpan.FromSeconds(30), $"took {clock.Elapsed.TotalSeconds:F1} s");
+    }
+
+    [Fact]
+    public async Task PlanVersionPostedOnOneReplica_ReachesAStreamClientOfTheOther()
+    {
+        var (scheduler, _) = await DemoNetwork.ArrangeAsync(pair.A, 40);
+        const string night = "2026-12-05";
+        using var cancel = new CancellationTokenSource(TimeSpan.FromMinutes(4));
+        var events = Channel.CreateUnbounded<(string Id, string Event, string Data)>();
+        var onB = pair.B.ClientWith(await pair.B.KeyAsync(Scope.Scheduler));
+        var hub = pair.B.Services.GetRequiredService<PlanEventHub>();
+        var before = hub.SubscriberCount;
+        var stream = ServerSentEvents.ReadAsync(onB, $"/api/plans/{night}/events", events.Writer, cancel.Token);
+        while (hub.SubscriberCount == before)
+        {
+            Assert.False(stream.IsCompleted, "the stream on replica B ended before subscribing");
+            await Task.Delay(50);
+        }
+
+        var posted = Stopwatch.StartNew();
+        var accepted = await scheduler.PostAsync("/api/plans", Bodies.Raw($$"""{"night":"{{night}}","timeLimitSeconds":3}"""));
+        var result = await DemoNetwork.RunJobAsync(scheduler, accepted);
+        var received = await ServerSentEvents.ReadUntilAsync(events.Reader, e => e.Event == "plan-version", TimeSpan.FromMinutes(2));
+
+        var data = JsonDocument.Parse(received.Data).RootElement;
+        Assert.Equal(night, data.GetProperty("night").GetString());
+        Assert.Equal(result.GetProperty("version").GetInt32(), data.GetProperty("version").GetInt32());
+        // Far below the relays' 5 min poll: B's relay was woken by the outbox's notification.
+        Assert.True(posted.Elapsed < TimeSpan.FromMinutes(2), $"the event reached replica B {posted.Elapsed.TotalSeconds:F1} s after the post");
+        await cancel.CancelAsync();
+        await stream;
     }
 }

@@ -16,29 +16,74 @@ public class SequentialValuationTests
     private static readonly double[] Perfect = [1, 0, 0, 0, 1, 0, 0, 0, 1];
 
     [Fact]
-    public void Evaluate_NoAnswerReachesTau_DirectIsZero_PerfectFollowUpGivesQ()
+    public void Evaluate_NoAnswerReachesTau_PerfectFollowUp_AddsNothing()
     {
-        // τ = 0.9: every answer leaves the top below 0.9 → D = 0; a perfect follow-up identifies every
-        // unsettled answer with certainty → E = q·(0.63 + 0.162 + 0.208) = q.
+        // τ = 0.9: every answer leaves the top below 0.9 → D = 0. A perfect follow-up identifies every
+        // belief with certainty, with or without this spectrum: D(p(·|j), F) = D(p, F) = 1 → E = 0.
         var v = SequentialValuation.Evaluate(Prior, Channel, Perfect, 0.5, 0.9);
 
         Assert.Equal(0, v.Direct, 12);
-        Assert.Equal(0.5, v.Escalation, 12);
+        Assert.Equal(0, v.Escalation, 12);
+        Assert.Equal(0, v.Total, 12);
         Assert.Equal(1, v.UnsettledProbability, 12);
-        Assert.Equal(0, v.LikelyUnsettledAnswer); // Ia, m = 0.63
-        Assert.Equal(0.63, v.LikelyUnsettledAnswerProbability, 12);
     }
 
     [Fact]
     public void Evaluate_LowerTau_CountsSettledAnswersDirectly()
     {
         // τ = 0.85: answers Ia (8/9) and II (0.8654) settle: D = 0.63·8/9 + 0.208·0.18/0.208 = 0.56 + 0.18 = 0.74;
-        // only 91T (m = 0.162) is escalated: E = 1·0.162.
+        // only 91T (m = 0.162) is escalated, to a perfect follow-up that needs no help: E = 0.162·(1 − 1) = 0.
         var v = SequentialValuation.Evaluate(Prior, Channel, Perfect, 1, 0.85);
 
         Assert.Equal(0.74, v.Direct, 12);
-        Assert.Equal(0.162, v.Escalation, 12);
-        Assert.Equal(0.902, v.Total, 12);
+        Assert.Equal(0, v.Escalation, 12);
+        Assert.Equal(0.74, v.Total, 12);
+    }
+
+    [Fact]
+    public void Evaluate_UninformativeSpectrum_IsWorthNothing()
+    {
+        // A channel with equal rows carries no information (Raiffa & Schlaifer ch. 4: the value of sample
+        // information of an uninformative experiment is 0): p(·|j) = p for every j, 0.7 < τ = 0.85 → D = 0;
+        // the follow-up through C is worth D(p, C) = 0.74 with or without it → E = 0 (crediting the
+        // follow-up's whole value would give 0.74).
+        double[] uniform = [1.0 / 3, 1.0 / 3, 1.0 / 3, 1.0 / 3, 1.0 / 3, 1.0 / 3, 1.0 / 3, 1.0 / 3, 1.0 / 3];
+
+        var v = SequentialValuation.Evaluate(Prior, uniform, Channel, 1, 0.85);
+
+        Assert.Equal(0, v.Direct, 12);
+        Assert.Equal(0, v.Escalation, 12);
+    }
+
+    [Fact]
+    public void Evaluate_FollowUpThroughTheSameChannel_MatchesTheHandComputation()
+    {
+        // τ = 0.9, q = 0.5, F = C. Without this spectrum the follow-up identifies nothing: D(p, C) = 0.
+        // After answer Ia, p₁ = [0.56, 0.05, 0.02]/0.63; a second Ia gives p(Ia) = 0.448/0.475 = 0.943 ≥ τ, the other
+        // answers stay below τ → D(p₁, C) = 0.448/0.63. After 91T, p₂ = [0.112, 0.05, 0]/0.162; only a following II
+        // settles (p(Ia) = 1) → D(p₂, C) = 0.112·0.04/0.162 = 0.00448/0.162. After II, p₃ = [0.028, 0, 0.18]/0.208;
+        // a following 91T (p(Ia) = 1) or II (p(II) = 0.162/0.16312 ≥ τ) settles → D(p₃, C) = (0.00448 + 0.162)/0.208.
+        // E = 0.5·(0.448 + 0.00448 + 0.16648) = 0.30948.
+        var v = SequentialValuation.Evaluate(Prior, Channel, Channel, 0.5, 0.9);
+
+        Assert.Equal(0, v.Direct, 12);
+        Assert.Equal(0.30948, v.Escalation, 12);
+        Assert.Equal(0, v.LikelyUnsettledAnswer); // Ia, m = 0.63
+        Assert.Equal(0.63, v.LikelyUnsettledAnswerProbability, 12);
+        Assert.Equal(0.475 / 0.63, v.FollowUpIdentifies, 12);
+        Assert.Equal(0.448 / 0.63, v.FollowUpCorrect, 12);
+    }
+
+    [Fact]
+    public void Evaluate_UnsettledAnswersHarderThanThePrior_LowerTheValue()
+    {
+        // τ = 0.85, q = 1, F = C: the prior alone gives D(p, C) = 0.74; the only unsettled answer (91T, m = 0.162)
+        // leaves p₂ with D(p₂, C) = 0.00448/0.162, so E = 0.00448 − 0.162·0.74 = −0.1154 and V = 0.74 − 0.1154.
+        var v = SequentialValuation.Evaluate(Prior, Channel, Channel, 1, 0.85);
+
+        Assert.Equal(0.74, v.Direct, 12);
+        Assert.Equal(-0.1154, v.Escalation, 12);
+        Assert.Equal(0.6246, v.Total, 12);
     }
 
     [Fact]
@@ -72,10 +117,10 @@ public class SequentialValuationTests
     [Fact]
     public void Explain_NamesTheAnswerTheUnitAndTheChances()
     {
-        var v = SequentialValuation.Evaluate(Prior, Channel, Perfect, 0.5, 0.9);
+        var v = SequentialValuation.Evaluate(Prior, Channel, Channel, 0.5, 0.9);
 
         var text = SequentialValuation.Explain(v, ["Ia", "Ia-91T-like", "II"], 4000);
 
-        Assert.Equal("cheap spectrum first: if it reports Ia (63 % likely), an R=4000 spectrum then identifies the subtype with probability 1.00 (1.00 expected correct); 0.00 identified now + 0.50 from escalating", text);
+        Assert.Equal("cheap spectrum first: if it reports Ia (63 % likely), an R=4000 spectrum then identifies the subtype with probability 0.75 (0.71 expected correct); 0.00 identified now + 0.31 more from the follow-up than without this spectrum", text);
     }
 }

@@ -26,7 +26,7 @@ public class SeasonSimulatorTests
         return RosterJson.Parse(File.ReadAllText(Path.Combine(dir.FullName, "demo", "roster.json")));
     }
 
-    private static SeasonResult Run(int seed, IReadOnlyDictionary<string, double>? degrade = null)
+    private static SeasonResult Run(int seed, IReadOnlyDictionary<string, double>? degrade = null, double peaksPerDay = 3, int maxPool = 600)
     {
         var (sites, units) = DemoRoster();
         var surface = AccuracySurface.FromDocument(CalibrationFixtures.Document(withConfusions: true));
@@ -34,8 +34,9 @@ public class SeasonSimulatorTests
         {
             Nights = 3,
             Seed = seed,
-            Sky = new SkySettings { PeaksPerDay = 3 },
+            Sky = new SkySettings { PeaksPerDay = peaksPerDay },
             LocalSearchRounds = 200,
+            MaxPoolCandidates = maxPool,
             TruthDegradation = degrade ?? new Dictionary<string, double>(),
         };
         return SeasonSimulator.Run(sites, units, surface, surface, settings);
@@ -65,7 +66,47 @@ public class SeasonSimulatorTests
             Assert.Equal(s.HighResolutionHours, s.HighResolutionHoursBySettledness.Sum(h => h.Hours), 2);
             Assert.True(s.HighResolutionHours <= s.HoursPerUnit.Values.Sum() + 1e-9, s.Name);
             Assert.True(s.Observations > 0, s.Name);
+
+            // Load: one record per night; what is worth observing is part of the pool; the capacity is the
+            // roster's budgets cut to the dark window (37 h of budgets, December nights of 7–10 h at these sites).
+            Assert.Equal(season.Nights, s.LoadByNight.Count);
+            foreach (var load in s.LoadByNight)
+            {
+                Assert.InRange(load.WorthObserving, 0, load.Pool);
+                Assert.InRange(load.CapacityHours, 20, 37);
+            }
+
+            // Executed hours are planned hours minus weather losses.
+            foreach (var (unit, hours) in s.HoursPerUnitByNight)
+            {
+                Assert.True(hours.Sum() <= s.PlannedHoursByNight[unit].Sum() + 0.01, unit);
+            }
         }
+    }
+
+    [Fact]
+    public void Run_BoundedPool_PlansAtMostTheCapPerNight()
+    {
+        // 60 peaks a day keep hundreds of candidates in the pool; with a cap of 4 no strategy takes more than
+        // 4 spectra a night (one per candidate and night).
+        var season = Run(seed: 5, peaksPerDay: 60, maxPool: 4);
+
+        foreach (var s in season.Strategies)
+        {
+            Assert.True(s.LoadByNight.All(l => l.Pool > 4), s.Name);
+            Assert.InRange(s.Observations + s.WeatherLosses, 1, 4 * season.Nights);
+        }
+    }
+
+    [Fact]
+    public void SurveyRate_AtTheDefaultLimit_MatchesTheHandComputation()
+    {
+        // d = 10^((19.5 + 19.3 − 25)/5) = 575.44 Mpc; (4π/3) d³ = 7.981e8 Mpc³; × 3.0e-5 / 365.25 = 65.557 Ia per day;
+        // / 0.72 = 91.05 per day over the sky; × (sin 55° + sin 75°)/2 = 0.8925 → 81.27 per day (python3, math module).
+        Assert.Equal(81.267016, SkySettings.SurveyRatePerDay(19.5), 5);
+        Assert.Equal(81, new SkySettings().PeaksPerDay);
+        // Euclidean counts: one magnitude deeper multiplies the rate by 10^0.6.
+        Assert.Equal(Math.Pow(10, 0.6), SkySettings.SurveyRatePerDay(20.5) / SkySettings.SurveyRatePerDay(19.5), 9);
     }
 
     [Fact]
