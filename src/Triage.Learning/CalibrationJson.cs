@@ -24,4 +24,14 @@ public static class CalibrationJson
 
     /// <summary>Serializes the minimum-R table alone.</summary>
     public static string SerializeMinimumResolution(IReadOnlyList<MinimumResolutionRow> rows) => JsonSerializer.Serialize(rows, Options);
+
+    /// <summary>Serializes one R's outcome (a calibration part's stored result), compact.</summary>
+    public static string SerializeOutcome(ResolutionOutcome outcome) => JsonSerializer.Serialize(outcome, Compact);
+
+    /// <summary>Deserializes one R's outcome.</summary>
+    /// <exception cref="JsonException">Malformed JSON or a missing required member.</exception>
+    public static ResolutionOutcome DeserializeOutcome(string json) =>
+        JsonSerializer.Deserialize<ResolutionOutcome>(json, Compact) ?? throw new JsonException("The outcome JSON is null.");
+
+    private static JsonSerializerOptions Compact { get; } = new(Options) { WriteIndented = false };
 }

@@ -17,7 +17,8 @@ public sealed record CalibrationTimings(TimeSpan Degrade, TimeSpan Features, Tim
 /// The calibration: for every R of the grid, degrade each library spectrum; for every S/N,
 /// add seeded noise and extract features; cross-validate the classifier with folds grouped by
 /// object; score the out-of-fold predictions into cells, confusion matrices and summaries; and
-/// build the minimum-R table. The CLI and the service job both call <see cref="Run"/>.
+/// build the minimum-R table. The CLI calls <see cref="Run"/>; the service runs the same steps
+/// split per R (<see cref="RunResolution"/> in any replica, then <see cref="Assemble"/>).
 /// </summary>
 public static class CalibrationPipeline
 {
@@ -35,38 +36,8 @@ public static class CalibrationPipeline
         CancellationToken cancellationToken = default, ISubtypeClassifier? classifier = null)
     {
         var total = Stopwatch.StartNew();
-        var spectra = library.Spectra;
-        var subtypes = taxonomy.Subtypes.Where(s => spectra.Any(x => x.Subtype == s)).ToArray();
-        if (subtypes.Length < 2) throw new ArgumentException("The library needs at least two subtypes to calibrate.", nameof(library));
-        double? maxR = library.MinSourceResolution;
-        var resolutions = (settings.Resolutions ?? CalibrationSettings.DefaultResolutions(maxR ?? throw new ArgumentException(
-            "No spectrum declares source_resolution; give the resolutions explicitly.", nameof(library)))).OrderBy(r => r).ToArray();
-        if (maxR is double top && resolutions.Any(r => r > top * (1 + 1e-9)))
-            throw new ArgumentException($"The grid asks for R = {resolutions.Max()} but the library's lowest source resolution is {top}.", nameof(settings));
-        if (resolutions.Length == 0 || resolutions[0] < CalibrationSettings.MinimumResolution)
-            throw new ArgumentException($"The grid needs R values of at least {CalibrationSettings.MinimumResolution}.", nameof(settings));
-        var labelIndex = subtypes.Select((s, i) => (s, i)).ToDictionary(p => p.s, p => p.i, StringComparer.Ordinal);
-        int[] labels = spectra.Select(s => labelIndex[s.Subtype]).ToArray();
-        var splits = Splits(library, settings);
-        classifier ??= SubtypeClassifiers.Create(settings.Model, settings.ClassifierPasses);
-        var trainLabels = splits.Select(sp => sp.Train.Select(i => labels[i]).ToArray()).ToArray();
-        var trainWeights = trainLabels.Select(l =>
-        {
-            var w = ClassWeights(l, subtypes.Length, settings.BalancedClassWeights);
-            return l.Select(c => w[c]).ToArray();
-        }).ToArray();
-        var parallel = new ParallelOptions { CancellationToken = cancellationToken, MaxDegreeOfParallelism = Environment.ProcessorCount };
-        // What does not depend on R is computed once per spectrum: its pixel bins and the noise it carries.
-        var bins = new PixelBins[spectra.Count];
-        var inputNoise = new InputNoiseSources[spectra.Count];
-        Parallel.For(0, spectra.Count, parallel, i =>
-        {
-            bins[i] = PixelBins.Of(spectra[i].Spectrum.WavelengthAngstrom);
-            inputNoise[i] = InputNoiseSources.Of(spectra[i].Spectrum, spectra[i].NoiseFree);
-        });
-
-        int units = resolutions.Length * settings.SnrLevels.Count * settings.Folds, done = 0;
-        var degradeTime = TimeSpan.Zero; var featureTime = TimeSpan.Zero; var trainTime = TimeSpan.Zero;
+        var run = CalibrationRun.Prepare(library, taxonomy, settings, classifier);
+        int units = run.Resolutions.Count * settings.SnrLevels.Count * settings.Folds, done = 0;
         void Report(string stage)
         {
             double f = done / (double)units;
@@ -74,81 +45,138 @@ public static class CalibrationPipeline
                 done == 0 ? null : TimeSpan.FromTicks((long)(total.Elapsed.Ticks * (1 - f) / f))));
         }
         Report("starting");
+        var outcomes = new List<ResolutionOutcome>();
+        var degradeTime = TimeSpan.Zero; var featureTime = TimeSpan.Zero; var trainTime = TimeSpan.Zero;
+        for (int ri = 0; ri < run.Resolutions.Count; ri++)
+        {
+            var (outcome, timings) = RunResolutionTimed(run, ri, stage => { done++; Report(stage); }, cancellationToken);
+            outcomes.Add(outcome);
+            degradeTime += timings.Degrade; featureTime += timings.Features; trainTime += timings.Train;
+        }
+        var document = Assemble(run, outcomes, codeVersion);
+        Report("done");
+        return (document, new CalibrationTimings(degradeTime, featureTime, trainTime, total.Elapsed));
+    }
 
+    /// <summary>
+    /// One R of the grid (index <paramref name="resolutionIndex"/> into <see cref="CalibrationRun.Resolutions"/>): degrade,
+    /// add noise per S/N level, extract features, cross-validate, score. Its noise and training seeds depend on the
+    /// index, so the R values of one grid can run in any order, in any process, and <see cref="Assemble"/> gives the
+    /// document <see cref="Run"/> gives.
+    /// </summary>
+    /// <param name="unitDone">Called (under a lock) after each (S/N, fold) training with a stage text such as "R=150 S/N=10 fold 3/5".</param>
+    public static ResolutionOutcome RunResolution(CalibrationRun run, int resolutionIndex, Action<string>? unitDone = null,
+        CancellationToken cancellationToken = default) =>
+        RunResolutionTimed(run, resolutionIndex, unitDone, cancellationToken).Outcome;
+
+    private static (ResolutionOutcome Outcome, CalibrationTimings Timings) RunResolutionTimed(CalibrationRun run, int ri, Action<string>? unitDone,
+        CancellationToken cancellationToken)
+    {
+        var total = Stopwatch.StartNew();
+        var settings = run.Settings;
+        var spectra = run.Library.Spectra;
+        var subtypes = run.Subtypes;
+        var taxonomy = run.Taxonomy;
+        var splits = run.Splits;
+        var classifier = run.Classifier;
+        var parallel = new ParallelOptions { CancellationToken = cancellationToken, MaxDegreeOfParallelism = Environment.ProcessorCount };
+        var gate = new object();
+        double r = run.Resolutions[ri];
+        var sw = Stopwatch.StartNew();
+        var degraded = new (LogWavelengthGrid Grid, double[] W, double[] F, DegradedNoise Noise)[spectra.Count];
+        Parallel.For(0, spectra.Count, parallel, i =>
+        {
+            var s = spectra[i];
+            var (grid, flux) = Degradation.Degrade(s.Spectrum, run.Bins[i], r, s.SourceResolution,
+                new DegradeOptions { PixelsPerElement = settings.PixelsPerElement });
+            degraded[i] = (grid, grid.Centres(), flux, DegradedNoise.Account(s.Spectrum, run.InputNoise[i], s.SourceResolution, grid, flux, r));
+        });
+        var degradeTime = sw.Elapsed;
+        // Noise and features for every S/N level of this R, then every (S/N, fold) training in one
+        // parallel loop: 5 folds on 2 cores would leave one core idle for a fifth of each S/N level.
+        int levels = settings.SnrLevels.Count;
+        sw.Restart();
+        var features = new float[levels][][];
+        var snrs = new SpectrumSnr[levels][];
+        for (int si = 0; si < levels; si++) { features[si] = new float[spectra.Count][]; snrs[si] = new SpectrumSnr[spectra.Count]; }
+        Parallel.For(0, levels * spectra.Count, parallel, j =>
+        {
+            int si = j / spectra.Count, i = j % spectra.Count;
+            var (_, w, f, noise) = degraded[i];
+            // Only the shortfall over the noise already present is added (docs/calibration.md, "The S/N convention").
+            var noised = noise.Apply(f, settings.SnrLevels[si], settings.PixelsPerElement, new Random(DerivedSeed(settings.Seed, i, ri, si)));
+            snrs[si][i] = new SpectrumSnr(noised.RealisedSnr ?? double.PositiveInfinity, noised.ReachableSnr);
+            features[si][i] = Preprocessing.Features(w, noised.Flux, spectra[i].Redshift, r, settings.Preprocess);
+        });
+        var featureTime = sw.Elapsed;
+        sw.Restart();
+        var predicted = new int[levels][];
+        for (int si = 0; si < levels; si++) predicted[si] = new int[spectra.Count];
+        Parallel.For(0, levels * settings.Folds, parallel, j =>
+        {
+            int si = j / settings.Folds, k = j % settings.Folds;
+            var (train, test) = splits[k];
+            if (test.Length == 0) return;
+            var x = features[si];
+            var p = classifier.TrainAndPredict(train.Select(i => x[i]).ToArray(), run.TrainLabels[k], run.TrainWeights[k],
+                test.Select(i => x[i]).ToArray(), subtypes.Count, DerivedSeed(settings.Seed, k, ri, si));
+            for (int t = 0; t < test.Length; t++) predicted[si][test[t]] = p[t];
+            lock (gate)
+            {
+                double? snr = settings.SnrLevels[si];
+                unitDone?.Invoke(string.Create(System.Globalization.CultureInfo.InvariantCulture,
+                    $"R={r:0.#} S/N={(snr is double v ? v.ToString(System.Globalization.CultureInfo.InvariantCulture) : "native")} fold {k + 1}/{settings.Folds}"));
+            }
+        });
+        var trainTime = sw.Elapsed;
         var cells = new List<CalibrationCell>();
         var confusions = new List<ConfusionMatrix>();
         var summaries = new List<AccuracySummary>();
-        // correct[si][ri][spectrum]: the paired outcomes of the minimum-R table.
-        var correct = settings.SnrLevels.Select(_ => new bool[resolutions.Length][]).ToArray();
-        for (int ri = 0; ri < resolutions.Length; ri++)
+        var correct = new bool[levels][];
+        for (int si = 0; si < levels; si++)
         {
-            double r = resolutions[ri];
-            var sw = Stopwatch.StartNew();
-            var degraded = new (LogWavelengthGrid Grid, double[] W, double[] F, DegradedNoise Noise)[spectra.Count];
-            Parallel.For(0, spectra.Count, parallel, i =>
-            {
-                var s = spectra[i];
-                var (grid, flux) = Degradation.Degrade(s.Spectrum, bins[i], r, s.SourceResolution,
-                    new DegradeOptions { PixelsPerElement = settings.PixelsPerElement });
-                degraded[i] = (grid, grid.Centres(), flux, DegradedNoise.Account(s.Spectrum, inputNoise[i], s.SourceResolution, grid, flux, r));
-            });
-            degradeTime += sw.Elapsed;
-            // Noise and features for every S/N level of this R, then every (S/N, fold) training in one
-            // parallel loop: 5 folds on 2 cores would leave one core idle for a fifth of each S/N level.
-            int levels = settings.SnrLevels.Count;
-            sw.Restart();
-            var features = new float[levels][][];
-            var snrs = new SpectrumSnr[levels][];
-            for (int si = 0; si < levels; si++) { features[si] = new float[spectra.Count][]; snrs[si] = new SpectrumSnr[spectra.Count]; }
-            Parallel.For(0, levels * spectra.Count, parallel, j =>
-            {
-                int si = j / spectra.Count, i = j % spectra.Count;
-                var (_, w, f, noise) = degraded[i];
-                // Only the shortfall over the noise already present is added (docs/calibration.md, "The S/N convention").
-                var noised = noise.Apply(f, settings.SnrLevels[si], settings.PixelsPerElement, new Random(DerivedSeed(settings.Seed, i, ri, si)));
-                snrs[si][i] = new SpectrumSnr(noised.RealisedSnr ?? double.PositiveInfinity, noised.ReachableSnr);
-                features[si][i] = Preprocessing.Features(w, noised.Flux, spectra[i].Redshift, r, settings.Preprocess);
-            });
-            featureTime += sw.Elapsed;
-            sw.Restart();
-            var predicted = new int[levels][];
-            for (int si = 0; si < levels; si++) predicted[si] = new int[spectra.Count];
-            Parallel.For(0, levels * settings.Folds, parallel, j =>
-            {
-                int si = j / settings.Folds, k = j % settings.Folds;
-                var (train, test) = splits[k];
-                if (test.Length == 0) return;
-                var x = features[si];
-                var p = classifier.TrainAndPredict(train.Select(i => x[i]).ToArray(), trainLabels[k], trainWeights[k],
-                    test.Select(i => x[i]).ToArray(), subtypes.Length, DerivedSeed(settings.Seed, k, ri, si));
-                for (int t = 0; t < test.Length; t++) predicted[si][test[t]] = p[t];
-                lock (cells)
-                {
-                    done++;
-                    double? snr = settings.SnrLevels[si];
-                    Report(string.Create(System.Globalization.CultureInfo.InvariantCulture,
-                        $"R={r:0.#} S/N={(snr is double v ? v.ToString(System.Globalization.CultureInfo.InvariantCulture) : "native")} fold {k + 1}/{settings.Folds}"));
-                }
-            });
-            trainTime += sw.Elapsed;
-            for (int si = 0; si < levels; si++)
-            {
-                var pr = predicted[si];
-                correct[si][ri] = spectra.Select((s, i) => subtypes[pr[i]] == s.Subtype).ToArray();
-                var predictions = spectra.Select((s, i) => new Prediction(s.ObjectId, s.Subtype, subtypes[pr[i]], s.PhaseDays)).ToArray();
-                var score = RealisedSnr.Annotate(
-                    CalibrationScoring.Score(predictions, subtypes, taxonomy, settings.PhaseBins, r, settings.SnrLevels[si]),
-                    predictions, snrs[si], settings.PhaseBins, settings.SnrLevels[si]);
-                cells.AddRange(score.Cells);
-                confusions.AddRange(score.Confusions);
-                summaries.Add(score.Summary);
-            }
+            var pr = predicted[si];
+            correct[si] = spectra.Select((s, i) => subtypes[pr[i]] == s.Subtype).ToArray();
+            var predictions = spectra.Select((s, i) => new Prediction(s.ObjectId, s.Subtype, subtypes[pr[i]], s.PhaseDays)).ToArray();
+            var score = RealisedSnr.Annotate(
+                CalibrationScoring.Score(predictions, subtypes, taxonomy, settings.PhaseBins, r, settings.SnrLevels[si]),
+                predictions, snrs[si], settings.PhaseBins, settings.SnrLevels[si]);
+            cells.AddRange(score.Cells);
+            confusions.AddRange(score.Confusions);
+            summaries.Add(score.Summary);
         }
+        return (new ResolutionOutcome(r, cells, confusions, summaries, correct), new CalibrationTimings(degradeTime, featureTime, trainTime, total.Elapsed));
+    }
 
-        var provenance = new CalibrationProvenance(library.Fingerprint(), spectra.Count, library.ObjectCount, library.Synthetic, codeVersion,
-            settings with { Resolutions = resolutions }, classifier.Name);
-        var document = new AccuracyModelDocument(SpectrumNoise.Convention, SpectrumNoise.ReferenceWavelengthAngstrom, subtypes, resolutions,
-            settings.SnrLevels, settings.PhaseBins, cells, confusions)
+    /// <summary>
+    /// The accuracy-model document from the outcomes of every R of <paramref name="run"/>'s grid (one each, in any
+    /// order): cells, confusions and summaries in grid order, the equal-exposure view, baselines and the paired
+    /// minimum-R table, which needs every R's per-spectrum outcomes at once.
+    /// </summary>
+    /// <exception cref="ArgumentException">An R of the grid has no outcome, or an outcome is for an R off the grid.</exception>
+    public static AccuracyModelDocument Assemble(CalibrationRun run, IReadOnlyList<ResolutionOutcome> outcomes, string codeVersion)
+    {
+        var settings = run.Settings;
+        var spectra = run.Library.Spectra;
+        var resolutions = run.Resolutions.ToArray();
+        var byR = new ResolutionOutcome[resolutions.Length];
+        foreach (var o in outcomes)
+        {
+            int ri = Array.IndexOf(resolutions, o.Resolution);
+            if (ri < 0) throw new ArgumentException($"An outcome is for R = {o.Resolution}, which is not on the grid.", nameof(outcomes));
+            if (o.Correct.Count != settings.SnrLevels.Count || o.Correct.Any(c => c.Length != spectra.Count))
+                throw new ArgumentException($"The outcome for R = {o.Resolution} does not match the library and S/N levels.", nameof(outcomes));
+            byR[ri] = o;
+        }
+        if (Array.IndexOf(byR, null) is var missing and >= 0)
+            throw new ArgumentException($"R = {resolutions[missing]} has no outcome.", nameof(outcomes));
+        var subtypes = run.Subtypes;
+        var taxonomy = run.Taxonomy;
+        var summaries = byR.SelectMany(o => o.Summaries).ToList();
+        var provenance = new CalibrationProvenance(run.Library.Fingerprint(), spectra.Count, run.Library.ObjectCount, run.Library.Synthetic, codeVersion,
+            settings with { Resolutions = resolutions }, run.Classifier.Name);
+        return new AccuracyModelDocument(SpectrumNoise.Convention, SpectrumNoise.ReferenceWavelengthAngstrom, subtypes, resolutions,
+            settings.SnrLevels, settings.PhaseBins, byR.SelectMany(o => o.Cells).ToList(), byR.SelectMany(o => o.Confusions).ToList())
         {
             BroadClasses = taxonomy.Classes.Select(c => new BroadClass(c.Name, c.Subtypes.Where(subtypes.Contains).ToArray()))
                 .Where(c => c.Subtypes.Count > 0).ToArray(),
@@ -157,13 +185,11 @@ public static class CalibrationPipeline
             Baselines = CalibrationScoring.Baselines(spectra.Select(s => s.Subtype).ToArray(), subtypes, taxonomy),
             MinimumResolution = MinimumResolutionTable.Build(
                 settings.SnrLevels.SelectMany((snr, si) => CalibrationScoring.Paired(spectra.Select(s => (s.ObjectId, s.Subtype)).ToArray(),
-                    resolutions, snr, correct[si], subtypes)).ToArray(),
-                subtypes.Length, settings.MinimumResolutionTolerance, settings.Seed),
+                    resolutions, snr, byR.Select(o => o.Correct[si]).ToArray(), subtypes)).ToArray(),
+                subtypes.Count, settings.MinimumResolutionTolerance, settings.Seed),
             Provenance = provenance,
-            Synthetic = library.Synthetic,
+            Synthetic = run.Library.Synthetic,
         };
-        Report("done");
-        return (document, new CalibrationTimings(degradeTime, featureTime, trainTime, total.Elapsed));
     }
 
     /// <summary>
@@ -204,5 +230,96 @@ public static class CalibrationPipeline
         int present = n.Count(c => c > 0);
         for (int c = 0; c < classCount; c++) w[c] = n[c] == 0 ? 0 : (float)(labels.Length / (double)(present * n[c]));
         return w;
+    }
+}
+
+/// <summary>
+/// The outcome of one R of a calibration grid: its cells, confusion matrices and one summary per S/N level (in level
+/// order), and per S/N level whether each library spectrum (in library order) was classified correctly out of fold.
+/// </summary>
+/// <param name="Resolution">The R (a value of the grid).</param>
+/// <param name="Correct">Correct[si][i]: spectrum i right at S/N level si (the paired outcomes of the minimum-R table).</param>
+public sealed record ResolutionOutcome(
+    double Resolution,
+    IReadOnlyList<CalibrationCell> Cells,
+    IReadOnlyList<ConfusionMatrix> Confusions,
+    IReadOnlyList<AccuracySummary> Summaries,
+    IReadOnlyList<bool[]> Correct);
+
+/// <summary>
+/// What every R of one calibration shares: the library, subtypes present, the sorted grid, the grouped folds with their
+/// labels and class weights, and the classifier. Preparing it twice from the same inputs gives the same run.
+/// </summary>
+public sealed class CalibrationRun
+{
+    private CalibrationRun(SpectralLibrary library, Taxonomy taxonomy, CalibrationSettings settings, string[] subtypes, double[] resolutions,
+        IReadOnlyList<(int[] Train, int[] Test)> splits, int[][] trainLabels, float[][] trainWeights, ISubtypeClassifier classifier)
+    {
+        Library = library; Taxonomy = taxonomy; Settings = settings; Subtypes = subtypes; Resolutions = resolutions;
+        Splits = splits; TrainLabels = trainLabels; TrainWeights = trainWeights; Classifier = classifier;
+        // What does not depend on R is computed once per spectrum: its pixel bins and the noise it carries.
+        var spectra = library.Spectra;
+        Bins = new PixelBins[spectra.Count];
+        InputNoise = new InputNoiseSources[spectra.Count];
+        Parallel.For(0, spectra.Count, i =>
+        {
+            Bins[i] = PixelBins.Of(spectra[i].Spectrum.WavelengthAngstrom);
+            InputNoise[i] = InputNoiseSources.Of(spectra[i].Spectrum, spectra[i].NoiseFree);
+        });
+    }
+
+    /// <summary>The spectral library.</summary>
+    public SpectralLibrary Library { get; }
+
+    /// <summary>The taxonomy (subtypes and broad classes).</summary>
+    public Taxonomy Taxonomy { get; }
+
+    /// <summary>The settings as given (their <see cref="CalibrationSettings.Resolutions"/> may be null).</summary>
+    public CalibrationSettings Settings { get; }
+
+    /// <summary>The taxonomy's subtypes present in the library, in taxonomy order.</summary>
+    public IReadOnlyList<string> Subtypes { get; }
+
+    /// <summary>The grid, ascending (the settings' values, or the default grid up to the library's lowest source R).</summary>
+    public IReadOnlyList<double> Resolutions { get; }
+
+    internal IReadOnlyList<(int[] Train, int[] Test)> Splits { get; }
+
+    internal int[][] TrainLabels { get; }
+
+    internal float[][] TrainWeights { get; }
+
+    internal ISubtypeClassifier Classifier { get; }
+
+    internal PixelBins[] Bins { get; }
+
+    internal InputNoiseSources[] InputNoise { get; }
+
+    /// <summary>Checks the library and grid and prepares the folds.</summary>
+    /// <exception cref="ArgumentException">A grid R exceeds a spectrum's source resolution or is below
+    /// <see cref="CalibrationSettings.MinimumResolution"/>, no resolution is known, or fewer than two subtypes.</exception>
+    public static CalibrationRun Prepare(SpectralLibrary library, Taxonomy taxonomy, CalibrationSettings settings, ISubtypeClassifier? classifier = null)
+    {
+        var spectra = library.Spectra;
+        var subtypes = taxonomy.Subtypes.Where(s => spectra.Any(x => x.Subtype == s)).ToArray();
+        if (subtypes.Length < 2) throw new ArgumentException("The library needs at least two subtypes to calibrate.", nameof(library));
+        double? maxR = library.MinSourceResolution;
+        var resolutions = (settings.Resolutions ?? CalibrationSettings.DefaultResolutions(maxR ?? throw new ArgumentException(
+            "No spectrum declares source_resolution; give the resolutions explicitly.", nameof(library)))).OrderBy(r => r).ToArray();
+        if (maxR is double top && resolutions.Any(r => r > top * (1 + 1e-9)))
+            throw new ArgumentException($"The grid asks for R = {resolutions.Max()} but the library's lowest source resolution is {top}.", nameof(settings));
+        if (resolutions.Length == 0 || resolutions[0] < CalibrationSettings.MinimumResolution)
+            throw new ArgumentException($"The grid needs R values of at least {CalibrationSettings.MinimumResolution}.", nameof(settings));
+        var labelIndex = subtypes.Select((s, i) => (s, i)).ToDictionary(p => p.s, p => p.i, StringComparer.Ordinal);
+        int[] labels = spectra.Select(s => labelIndex[s.Subtype]).ToArray();
+        var splits = CalibrationPipeline.Splits(library, settings);
+        var trainLabels = splits.Select(sp => sp.Train.Select(i => labels[i]).ToArray()).ToArray();
+        var trainWeights = trainLabels.Select(l =>
+        {
+            var w = CalibrationPipeline.ClassWeights(l, subtypes.Length, settings.BalancedClassWeights);
+            return l.Select(c => w[c]).ToArray();
+        }).ToArray();
+        return new CalibrationRun(library, taxonomy, settings, subtypes, resolutions, splits, trainLabels, trainWeights,
+            classifier ?? SubtypeClassifiers.Create(settings.Model, settings.ClassifierPasses));
     }
 }

@@ -23,7 +23,10 @@ public static class CalibrationEndpoints
     public static IServiceCollection AddCalibrations(this IServiceCollection services)
     {
         services.AddSingleton<CalibrationStore>();
+        services.AddSingleton<CalibrationPartStore>();
+        services.AddSingleton<CalibrationLibraries>();
         services.AddSingleton<IJobHandler, CalibrationJobHandler>();
+        services.AddSingleton<IJobHandler, CalibrationPartJobHandler>();
         return services;
     }
 
@@ -44,7 +47,7 @@ public static class CalibrationEndpoints
     }
 
     public static async Task<Results<Accepted<CalibrationJobResponse>, ValidationProblem>> RequestCalibration(
-        CalibrationRequest request, JobStore jobs, System.Security.Claims.ClaimsPrincipal user, TimeProvider clock, CancellationToken ct)
+        CalibrationRequest request, JobStore jobs, CalibrationLibraries libraries, System.Security.Claims.ClaimsPrincipal user, TimeProvider clock, CancellationToken ct)
     {
         var c = new FieldChecks();
         var library = request.Library ?? "synthetic";
@@ -97,16 +100,16 @@ public static class CalibrationEndpoints
                 c.Fail($"snr[{i}]", "must be in (0, 10000] or null for the native S/N");
             }
         }
+        var input = new CalibrationJobInput(library, request.LibraryPath, objects, request.Seed ?? 1, request.Resolutions, snr, folds, request.Activate ?? false);
         if (c.IsValid)
         {
             // The library's native resolving power bounds the grid: refused here, not as a failed job later.
-            await CheckAgainstLibraryAsync(library, request.LibraryPath, request.Resolutions, c, ct);
+            await CheckAgainstLibraryAsync(input, libraries, c, ct);
         }
         if (!c.IsValid)
         {
             return TypedResults.ValidationProblem(c.ToDictionary());
         }
-        var input = new CalibrationJobInput(library, request.LibraryPath, objects, request.Seed ?? 1, request.Resolutions, snr, folds, request.Activate ?? false);
         var id = await jobs.EnqueueAsync(CalibrationJobHandler.JobKind, JsonSerializer.Serialize(input, OperationsSetup.JobJson), Caller.From(user).KeyId, clock.GetUtcNow(), ct);
         return TypedResults.Accepted($"/api/jobs/{id}", new CalibrationJobResponse(id, $"/api/jobs/{id}"));
     }
@@ -117,10 +120,11 @@ public static class CalibrationEndpoints
     /// library is read once for this; one that does not import, or that declares no resolution when the request names
     /// none, is refused naming <c>libraryPath</c> or <c>resolutions</c>.
     /// </summary>
-    private static async Task CheckAgainstLibraryAsync(string library, string? path, IReadOnlyList<double>? resolutions, FieldChecks c, CancellationToken ct)
+    private static async Task CheckAgainstLibraryAsync(CalibrationJobInput input, CalibrationLibraries libraries, FieldChecks c, CancellationToken ct)
     {
+        var resolutions = input.Resolutions;
         double? native;
-        if (library == "synthetic")
+        if (input.Library == "synthetic")
         {
             native = new Triage.Core.Spectra.Synthetic.SynthOptions().NativeResolution;
         }
@@ -128,16 +132,12 @@ public static class CalibrationEndpoints
         {
             try
             {
-                native = (await Task.Run(() => LibraryFiles.Load(path!, Taxonomy.Default), ct)).MinSourceResolution;
+                // Kept in memory a while: the job's first steps on this replica reuse it.
+                native = (await Task.Run(() => libraries.Get(input), ct)).MinSourceResolution;
             }
-            catch (LibraryImportException e)
+            catch (JobInputException e)
             {
-                c.Fail("libraryPath", "the library does not import: " + string.Join("; ", e.Errors.Take(5).Select(x => x.ToString())));
-                return;
-            }
-            catch (Exception e) when (e is IOException or UnauthorizedAccessException)
-            {
-                c.Fail("libraryPath", "the library folder could not be read: " + e.Message);
+                c.Fail("libraryPath", e.Message);
                 return;
             }
         }

@@ -2,7 +2,6 @@ using System.Text.Json;
 using Triage.Api.Jobs;
 using Triage.Core.Calibration;
 using Triage.Core.Spectra;
-using Triage.Core.Spectra.Synthetic;
 using Triage.Learning;
 using Triage.Storage.Calibrations;
 using Triage.Storage.Jobs;
@@ -10,10 +9,12 @@ using Triage.Storage.Jobs;
 namespace Triage.Api.Calibrations;
 
 /// <summary>
-/// Runs a calibration as a durable job: builds or loads the library, runs the shared pipeline
-/// (the same code as <c>triage calibrate</c>) with its progress, and stores the result.
+/// Runs a calibration as a durable job: builds or loads the library and checks the grid. A grid of one R runs here
+/// with the shared pipeline (the same code as <c>triage calibrate</c>) and stores the result; a longer grid is split
+/// into one <see cref="CalibrationPartJobHandler"/> part per R, which the workers of every replica claim, and the
+/// last part to finish stores the calibration and completes this job.
 /// </summary>
-public sealed class CalibrationJobHandler(CalibrationStore store, TimeProvider clock) : IJobHandler
+public sealed class CalibrationJobHandler(CalibrationStore store, JobStore jobs, CalibrationLibraries libraries, TimeProvider clock) : IJobHandler
 {
     public const string JobKind = "calibration";
 
@@ -28,34 +29,22 @@ public sealed class CalibrationJobHandler(CalibrationStore store, TimeProvider c
             // An earlier run of this job stored the calibration: never a second one.
             return ResultJson(stored);
         }
-        var taxonomy = Taxonomy.Default;
         progress.Report(new JobProgress(0, "loading the library"));
-        SpectralLibrary library;
-        if (input.Library == "synthetic")
+        var library = libraries.Get(input);
+        var settings = Settings(input);
+        var prepared = Prepare(library, settings);
+        if (prepared.Resolutions.Count > 1)
         {
-            library = SyntheticLibrary.Generate(new SynthOptions { Objects = input.Objects, Seed = input.Seed }).Library;
+            var inputs = prepared.Resolutions.Select((_, i) => JsonSerializer.Serialize(
+                new CalibrationPartInput(input, run.JobId, i, prepared.Resolutions), Triage.Api.Operations.OperationsSetup.JobJson)).ToList();
+            var parts = await jobs.SplitIntoPartsAsync(run.JobId, CalibrationPartJobHandler.JobKind, inputs,
+                $"split into {inputs.Count} parts (one per R); 0 done", clock.GetUtcNow(), ct);
+            throw new JobSplitIntoParts(parts);
         }
-        else
-        {
-            try
-            {
-                library = LibraryFiles.Load(input.LibraryPath!, taxonomy);
-            }
-            catch (LibraryImportException e)
-            {
-                throw new JobInputException("The library was refused: " + string.Join("; ", e.Errors.Take(20).Select(x => x.ToString())));
-            }
-            catch (Exception e) when (e is IOException or UnauthorizedAccessException)
-            {
-                throw new JobInputException($"The library folder could not be read: {e.Message}");
-            }
-        }
-        var settings = new CalibrationSettings { Resolutions = input.Resolutions, SnrLevels = input.Snr, Folds = input.Folds, Seed = input.Seed };
-        var version = typeof(CalibrationJobHandler).Assembly.GetName().Version?.ToString() ?? "unknown";
         AccuracyModelDocument document;
         try
         {
-            document = await Task.Run(() => CalibrationPipeline.Run(library, taxonomy, settings, version,
+            document = await Task.Run(() => CalibrationPipeline.Run(library, Taxonomy.Default, settings, CodeVersion,
                 new InlineProgress<CalibrationProgress>(p => progress.Report(new JobProgress(p.Percent / 100, p.Stage))), ct), ct);
         }
         catch (ArgumentException e)
@@ -65,9 +54,7 @@ public sealed class CalibrationJobHandler(CalibrationStore store, TimeProvider c
         try
         {
             // The calibration (and its activation) and the job's completion commit together.
-            var row = await store.AddAsync(new NewCalibration(
-                library.Synthetic ? "synthetic" : "library", library.Synthetic, library.Fingerprint(), version,
-                JsonSerializer.Serialize(settings, CalibrationJson.Options), run.JobId, CalibrationJson.Serialize(document)),
+            var row = await store.AddAsync(NewCalibration(library, settings, run.JobId, CalibrationJson.Serialize(document)),
                 input.Activate, clock.GetUtcNow(),
                 (conn, tx, stored, token) => JobStore.CompleteWithinAsync(conn, tx, run.JobId, ResultJson(stored), clock.GetUtcNow(), token), ct);
             return ResultJson(row);
@@ -83,6 +70,32 @@ public sealed class CalibrationJobHandler(CalibrationStore store, TimeProvider c
         }
     }
 
-    private static string ResultJson(CalibrationRow row) =>
+    /// <summary>The version recorded in a calibration's provenance.</summary>
+    internal static string CodeVersion { get; } = typeof(CalibrationJobHandler).Assembly.GetName().Version?.ToString() ?? "unknown";
+
+    /// <summary>The job's result: the stored calibration.</summary>
+    internal static string ResultJson(CalibrationRow row) =>
         JsonSerializer.Serialize(new { calibrationId = row.Id, active = row.Active, url = $"/api/calibrations/{row.Id}" });
+
+    /// <summary>The pipeline settings a job input asks for.</summary>
+    internal static CalibrationSettings Settings(CalibrationJobInput input) =>
+        new() { Resolutions = input.Resolutions, SnrLevels = input.Snr, Folds = input.Folds, Seed = input.Seed };
+
+    /// <summary>The row a finished calibration is stored as.</summary>
+    internal static NewCalibration NewCalibration(SpectralLibrary library, CalibrationSettings settings, Guid jobId, string documentJson) =>
+        new(library.Synthetic ? "synthetic" : "library", library.Synthetic, library.Fingerprint(), CodeVersion,
+            JsonSerializer.Serialize(settings, CalibrationJson.Options), jobId, documentJson);
+
+    /// <summary>Checks the library against the grid; a refusal fails the job with the pipeline's message.</summary>
+    internal static CalibrationRun Prepare(SpectralLibrary library, CalibrationSettings settings)
+    {
+        try
+        {
+            return CalibrationRun.Prepare(library, Taxonomy.Default, settings);
+        }
+        catch (ArgumentException e)
+        {
+            throw new JobInputException(e.Message);
+        }
+    }
 }

@@ -89,11 +89,17 @@ public sealed class JobRunner(
         var heartbeat = Task.Run(() => BeatAsync(job.Id, started, o, () => { lock (gate) { return latest; } }, beat.Token), CancellationToken.None);
         try
         {
-            var result = await _handlers[job.Kind].RunAsync(new JobRun(job.Id, job.Kind, job.Input, job.Attempts), progress, stoppingToken);
+            var result = await _handlers[job.Kind].RunAsync(new JobRun(job.Id, job.Kind, job.Input, job.Attempts) { Worker = o.WorkerName }, progress, stoppingToken);
             await StopAsync(beat, heartbeat);
             // Handlers that store a result completed the job in that transaction; this records the others (and is a no-op then).
             await PersistAsync(ct => store.CompleteAsync(job.Id, result, clock.GetUtcNow(), ct), o, stoppingToken);
             log.LogInformation("Job {JobId} ({Kind}) succeeded in {ElapsedMs} ms", job.Id, job.Kind, (clock.GetUtcNow() - started).TotalMilliseconds);
+        }
+        catch (JobSplitIntoParts split)
+        {
+            // Its parts carry the work now (on any replica); the last of them completes it.
+            await StopAsync(beat, heartbeat);
+            log.LogInformation("Job {JobId} ({Kind}) handed its work to {Parts} parts", job.Id, job.Kind, split.Parts);
         }
         catch (OperationCanceledException) when (stoppingToken.IsCancellationRequested)
         {

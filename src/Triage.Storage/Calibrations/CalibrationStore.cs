@@ -37,9 +37,21 @@ public sealed class CalibrationStore(NpgsqlDataSource dataSource)
     /// </summary>
     public async Task<CalibrationRow> AddAsync(NewCalibration c, bool activate, DateTimeOffset now, WithinTransaction<CalibrationRow>? within, CancellationToken ct = default)
     {
-        var id = Guid.NewGuid();
         await using var conn = await dataSource.OpenConnectionAsync(ct);
         await using var tx = await conn.BeginTransactionAsync(ct);
+        var row = await AddWithinAsync(conn, tx, c, activate, now, ct);
+        if (within is not null)
+        {
+            await within(conn, tx, row, ct);
+        }
+        await tx.CommitAsync(ct);
+        return row;
+    }
+
+    /// <summary>Stores a calibration inside the caller's transaction (see <see cref="AddAsync(NewCalibration, bool, DateTimeOffset, CancellationToken)"/>).</summary>
+    public static async Task<CalibrationRow> AddWithinAsync(NpgsqlConnection conn, NpgsqlTransaction tx, NewCalibration c, bool activate, DateTimeOffset now, CancellationToken ct = default)
+    {
+        var id = Guid.NewGuid();
         await conn.ExecuteAsync(new CommandDefinition("LOCK TABLE calibrations IN SHARE ROW EXCLUSIVE MODE", transaction: tx, cancellationToken: ct));
         var makeActive = activate || !await conn.ExecuteScalarAsync<bool>(new CommandDefinition(
             "SELECT EXISTS (SELECT 1 FROM calibrations WHERE active)", transaction: tx, cancellationToken: ct));
@@ -64,13 +76,7 @@ public sealed class CalibrationStore(NpgsqlDataSource dataSource)
             cmd.Parameters.AddWithValue("active", makeActive);
             await cmd.ExecuteNonQueryAsync(ct);
         }
-        var row = new CalibrationRow(id, now, c.Source, c.Synthetic, c.LibraryFingerprint, c.CodeVersion, c.JobId, makeActive);
-        if (within is not null)
-        {
-            await within(conn, tx, row, ct);
-        }
-        await tx.CommitAsync(ct);
-        return row;
+        return new CalibrationRow(id, now, c.Source, c.Synthetic, c.LibraryFingerprint, c.CodeVersion, c.JobId, makeActive);
     }
 
     /// <summary>The unique index that keeps one calibration per job.</summary>

@@ -87,11 +87,11 @@ public sealed class JobStore(NpgsqlDataSource dataSource)
         UPDATE jobs SET status = 'running', started_at = @now, heartbeat_at = @now, attempts = attempts + 1,
             progress = 0, progress_note = NULL, eta_seconds = NULL
         WHERE id = (SELECT id FROM jobs WHERE status = 'queued' AND kind = ANY(@kinds)
-                    ORDER BY created_at FOR UPDATE SKIP LOCKED LIMIT 1)
+                    ORDER BY created_at, part FOR UPDATE SKIP LOCKED LIMIT 1)
         RETURNING {Columns}
         """;
 
-    /// <summary>Takes the oldest queued job of the given kinds, or null when there is none.</summary>
+    /// <summary>Takes the oldest queued job of the given kinds (parts queued together in part order), or null when there is none.</summary>
     public async Task<JobRow?> ClaimNextAsync(IReadOnlyCollection<string> kinds, DateTimeOffset now, CancellationToken ct = default)
     {
         await using var conn = await dataSource.OpenConnectionAsync(ct);
@@ -168,16 +168,53 @@ public sealed class JobStore(NpgsqlDataSource dataSource)
     {
         await using var conn = await dataSource.OpenConnectionAsync(ct);
         var limit = now - staleAfter;
-        var requeued = await conn.ExecuteAsync(new CommandDefinition("""
+        // A job waiting for its parts beats no heartbeat: it is stale only once none of its parts is open.
+        var requeued = await conn.ExecuteAsync(new CommandDefinition($"""
             UPDATE jobs SET status = 'queued', progress_note = 'interrupted by a restart; queued again'
-            WHERE status = 'running' AND heartbeat_at < @limit AND attempts < @max
+            WHERE status = 'running' AND heartbeat_at < @limit AND attempts < @max AND {NoOpenParts}
             """, new { limit, max = MaxAttempts }, cancellationToken: ct));
-        var failed = await conn.ExecuteAsync(new CommandDefinition("""
+        var failed = await conn.ExecuteAsync(new CommandDefinition($"""
             UPDATE jobs SET status = 'failed', finished_at = @now,
                 error = 'interrupted by a restart ' || attempts || ' times; not retried again'
-            WHERE status = 'running' AND heartbeat_at < @limit AND attempts >= @max
+            WHERE status = 'running' AND heartbeat_at < @limit AND attempts >= @max AND {NoOpenParts}
             """, new { limit, now, max = MaxAttempts }, cancellationToken: ct));
         return requeued + failed;
+    }
+
+    private const string NoOpenParts = "NOT EXISTS (SELECT 1 FROM jobs p WHERE p.parent_id = jobs.id AND p.status IN ('queued', 'running'))";
+
+    /// <summary>
+    /// Splits a running job into parts: one queued child job of <paramref name="kind"/> per input (part i gets
+    /// <paramref name="inputs"/>[i]), in one transaction with the parent's note. Parts that exist already (the
+    /// parent ran again) are kept as they are. The parent stays running without a heartbeat while any part is
+    /// open (recovery skips it); the handler of its last part completes it. Returns the number of parts.
+    /// </summary>
+    public async Task<int> SplitIntoPartsAsync(Guid parentId, string kind, IReadOnlyList<string> inputs, string note, DateTimeOffset now, CancellationToken ct = default)
+    {
+        await using var conn = await dataSource.OpenConnectionAsync(ct);
+        await using var tx = await conn.BeginTransactionAsync(ct);
+        for (var i = 0; i < inputs.Count; i++)
+        {
+            await using var cmd = new NpgsqlCommand("""
+                INSERT INTO jobs (id, kind, status, input, requested_by, created_at, parent_id, part)
+                SELECT @id, @kind, 'queued', @input, requested_by, @now, id, @part FROM jobs WHERE id = @parent
+                ON CONFLICT (parent_id, part) WHERE parent_id IS NOT NULL DO NOTHING
+                """, conn, tx);
+            cmd.Parameters.AddWithValue("id", Guid.NewGuid());
+            cmd.Parameters.AddWithValue("kind", kind);
+            cmd.Parameters.Add(new NpgsqlParameter("input", NpgsqlDbType.Jsonb) { Value = inputs[i] });
+            cmd.Parameters.AddWithValue("now", now);
+            cmd.Parameters.AddWithValue("parent", parentId);
+            cmd.Parameters.AddWithValue("part", i);
+            await cmd.ExecuteNonQueryAsync(ct);
+        }
+        await conn.ExecuteAsync(new CommandDefinition("""
+            UPDATE jobs SET progress_note = @note, eta_seconds = NULL, heartbeat_at = @now WHERE id = @parentId AND status = 'running'
+            """, new { parentId, note, now }, tx, cancellationToken: ct));
+        var count = await conn.ExecuteScalarAsync<int>(new CommandDefinition(
+            "SELECT count(*) FROM jobs WHERE parent_id = @parentId", new { parentId }, tx, cancellationToken: ct));
+        await tx.CommitAsync(ct);
+        return count;
     }
 
     internal static string StatusText(JobStatus s) => s.ToString().ToLowerInvariant();

@@ -190,7 +190,11 @@ public sealed class LongFaultRun(ProxiedDatabaseFactory api, ITestOutputHelper o
             SELECT count(*) FROM (SELECT job_id FROM plans WHERE job_id IS NOT NULL UNION ALL SELECT job_id FROM calibrations WHERE job_id IS NOT NULL) r GROUP BY job_id
             """)).ToList();
         Assert.All(perJob, n => Assert.Equal(1, n));
-        output.WriteLine(Row("3 plan jobs and 1 calibration, six 2.5 s outages", counts, 0, 0, $"{perJob.Count} jobs, each 1"));
+        // The calibration ran as one part per R: one stored outcome per part, never two.
+        var perPart = (await conn.QueryAsync<long>("SELECT count(*) FROM calibration_parts GROUP BY parent_job_id, part")).ToList();
+        Assert.Equal(2, perPart.Count);
+        Assert.All(perPart, n => Assert.Equal(1, n));
+        output.WriteLine(Row("3 plan jobs and 1 calibration (2 parts), six 2.5 s outages", counts, 0, 0, $"{perJob.Count} jobs, each 1; {perPart.Count} parts, each 1"));
     }
 
     private async Task HeldLockUnderLoadAsync(string prefix)

@@ -46,6 +46,7 @@ public class ReplicaAFactory : IsolatedDatabaseFactory
         builder.UseSetting("Triage:Jobs:PollInterval", "00:00:05");
         // The event relay reads the outbox every 5 min by itself: only a notification brings a version sooner.
         builder.UseSetting("Triage:Events:PollInterval", "00:05:00");
+        builder.UseSetting("Triage:Jobs:WorkerName", "replica-" + Replica);
         builder.ConfigureTestServices(s => s.AddSingleton<IJobHandler>(new ProbeHandler(Replica, Runs)));
     }
 }
@@ -60,6 +61,7 @@ public sealed class ReplicaBFactory(ReplicaAFactory first) : TriageApiFactory
         builder.UseSetting("Triage:Access:KeyCacheSeconds", "60");
         builder.UseSetting("Triage:Jobs:PollInterval", "00:00:05");
         builder.UseSetting("Triage:Events:PollInterval", "00:05:00");
+        builder.UseSetting("Triage:Jobs:WorkerName", "replica-B");
         builder.ConfigureTestServices(s => s.AddSingleton<IJobHandler>(new ProbeHandler("B", first.Runs)));
     }
 }
@@ -90,7 +92,9 @@ public sealed class ReplicaPair : IDisposable
 /// second although both cache keys for a minute (LISTEN/NOTIFY), and jobs queued once are each
 /// run exactly once, by both replicas between them (claims with FOR UPDATE SKIP LOCKED; idle
 /// workers woken by the notification, not by their 5 s poll), and a plan version made through one
-/// reaches a stream client of the other at once although the relays poll only every 5 minutes.
+/// reaches a stream client of the other at once although the relays poll only every 5 minutes. A
+/// calibration's parts (one per R) are run by both replicas, and the last part stores exactly one
+/// calibration, the same document one whole run gives.
 /// </summary>
 public sealed class ReplicaTests(ReplicaPair pair) : IClassFixture<ReplicaPair>
 {
@@ -179,5 +183,74 @@ public sealed class ReplicaTests(ReplicaPair pair) : IClassFixture<ReplicaPair>
         Assert.True(posted.Elapsed < TimeSpan.FromMinutes(2), $"the event reached replica B {posted.Elapsed.TotalSeconds:F1} s after the post");
         await cancel.CancelAsync();
         await stream;
+    }
+
+    [Fact]
+    public async Task CalibrationParts_AreSpreadOverBothReplicas_AndTheLastStoresOneResult()
+    {
+        var admin = pair.A.ClientWith(await pair.A.KeyAsync(Scope.Admin));
+        double[] grid = [8, 20, 60, 150, 400, 1000];
+        var body = new { library = "synthetic", objects = 30, seed = 4, resolutions = grid.Reverse(), snr = new double?[] { 10, null }, folds = 2 };
+        var accepted = await admin.PostAsync("/api/calibrations", Bodies.Raw(JsonSerializer.Serialize(body)));
+        Assert.Equal(HttpStatusCode.Accepted, accepted.StatusCode);
+        var jobUrl = JsonDocument.Parse(await accepted.Content.ReadAsStringAsync()).RootElement.GetProperty("jobUrl").GetString()!;
+        var jobId = Guid.Parse(jobUrl.Split('/').Last());
+
+        // Progress comes from parts done: every percent read while it runs (on either replica) is k/6.
+        var onB = pair.B.ClientWith(await pair.B.KeyAsync(Scope.Admin));
+        var seen = new List<(double Percent, string? Step)>();
+        var clock = Stopwatch.StartNew();
+        JsonElement job;
+        for (var poll = 0; ; poll++)
+        {
+            job = JsonDocument.Parse(await (poll % 2 == 0 ? admin : onB).GetStringAsync(jobUrl)).RootElement;
+            var status = job.GetProperty("status").GetString();
+            Assert.True(status != "failed", job.GetProperty("error").GetString());
+            if (status == "succeeded")
+            {
+                break;
+            }
+            if (status == "running" && job.GetProperty("step").GetString() is { } step && step.Contains("parts", StringComparison.Ordinal))
+            {
+                seen.Add((job.GetProperty("percentDone").GetDouble(), step));
+            }
+            Assert.True(clock.Elapsed < TimeSpan.FromMinutes(5), "the calibration did not finish within 5 minutes");
+            await Task.Delay(100);
+        }
+        var allowed = Enumerable.Range(0, grid.Length).Select(k => Math.Round(100.0 * k / grid.Length, 1)).ToHashSet();
+        Assert.All(seen, s => Assert.Contains(s.Percent, allowed));
+        Assert.Contains(seen, s => s.Percent > 0);
+
+        await using var conn = await pair.A.DataSource.OpenConnectionAsync();
+        var parts = (await conn.QueryAsync<(int Part, double Resolution, string Worker, Guid JobId)>(
+            "SELECT part, resolution, worker, job_id FROM calibration_parts WHERE parent_job_id = @jobId ORDER BY part", new { jobId })).ToList();
+        Assert.Equal(grid, parts.Select(p => p.Resolution));
+        Assert.Equal(Enumerable.Range(0, grid.Length), parts.Select(p => p.Part));
+        // Both replicas ran parts, and each part job ran once, on the worker its row names.
+        Assert.Equal(["replica-A", "replica-B"], parts.Select(p => p.Worker).Distinct().Order());
+        var partJobs = (await conn.QueryAsync<(Guid Id, string Status, int Attempts, string Result)>(
+            "SELECT id, status, attempts, result::text FROM jobs WHERE parent_id = @jobId", new { jobId })).ToList();
+        Assert.Equal(grid.Length, partJobs.Count);
+        Assert.All(partJobs, j => Assert.Equal(("succeeded", 1), (j.Status, j.Attempts)));
+        foreach (var p in parts)
+        {
+            var result = JsonDocument.Parse(partJobs.Single(j => j.Id == p.JobId).Result).RootElement;
+            Assert.Equal(p.Worker, result.GetProperty("worker").GetString());
+        }
+
+        // One calibration, under the calibration job's id, named by its result.
+        var stored = (await conn.QueryAsync<(Guid Id, string Document)>("SELECT id, document::text FROM calibrations WHERE job_id = @jobId", new { jobId })).ToList();
+        Assert.Single(stored);
+        Assert.Equal(stored[0].Id.ToString(), job.GetProperty("result").GetProperty("calibrationId").GetString());
+        Assert.Equal(1, job.GetProperty("attempts").GetInt32());
+        Assert.Equal(100, job.GetProperty("percentDone").GetDouble());
+
+        // The assembled document is the one a whole run of the same input in one process gives.
+        var library = Triage.Core.Spectra.Synthetic.SyntheticLibrary.Generate(new Triage.Core.Spectra.Synthetic.SynthOptions { Objects = 30, Seed = 4 }).Library;
+        var whole = Triage.Learning.CalibrationPipeline.Run(library, Triage.Core.Spectra.Taxonomy.Default,
+            new Triage.Core.Calibration.CalibrationSettings { Resolutions = grid.Reverse().ToArray(), SnrLevels = [10, null], Folds = 2, Seed = 4 },
+            Triage.Learning.CalibrationJson.Deserialize(stored[0].Document).Provenance!.CodeVersion);
+        Assert.Equal(Triage.Learning.CalibrationJson.Serialize(whole),
+            Triage.Learning.CalibrationJson.Serialize(Triage.Learning.CalibrationJson.Deserialize(stored[0].Document)));
     }
 }
