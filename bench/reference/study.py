@@ -59,19 +59,19 @@ def load(folder, cache=None):
         path = os.path.join(cache, h.hexdigest() + ".npz")
     if path and os.path.exists(path):
         z = np.load(path)
-        arrays = [(z["w%d" % i], z["f%d" % i], z["e%d" % i] if "e%d" % i in z else None) for i in range(len(meta))]
+        W, F, E = z["w"], z["f"], (z["e"] if "e" in z else None)
+        arrays = [(W[i], F[i], None if E is None else E[i]) for i in range(len(meta))]
     else:
         arrays = []
         for r in meta:
             data = read_spectrum(os.path.join(folder, r["file"]))
             arrays.append((data[:, 0], data[:, 1], data[:, 2] if data.shape[1] > 2 else None))
-        if path:
+        # The cache stores one 2-D array per column, so only libraries whose spectra share a length are cached.
+        if path and len({len(a[0]) for a in arrays}) == 1:
             os.makedirs(cache, exist_ok=True)
-            out = {}
-            for i, (w, f, e) in enumerate(arrays):
-                out["w%d" % i] = w; out["f%d" % i] = f
-                if e is not None:
-                    out["e%d" % i] = e
+            out = dict(w=np.array([a[0] for a in arrays]), f=np.array([a[1] for a in arrays]))
+            if all(a[2] is not None for a in arrays):
+                out["e"] = np.array([a[2] for a in arrays])
             np.savez(path + ".tmp.npz", **out)
             os.replace(path + ".tmp.npz", path)
     return [dict(obj=r["object_id"], sub=r["subtype"], z=float(r["redshift"]),
@@ -79,8 +79,14 @@ def load(folder, cache=None):
                  w=w, f=f, e=e) for r, (w, f, e) in zip(meta, arrays)]
 
 
-def degrade_batch(w, F, r, r0):
-    """F: (n_spectra, n_pixels) on the shared grid w (uniform in ln lambda). Returns (centres, binned)."""
+def degrade_batch(w, F, r, r0, chunk=128):
+    """F: (n_spectra, n_pixels) on the shared grid w (uniform in ln lambda). Returns (centres, binned).
+    Works through the rows in chunks so that the complex spectra stay small (2,430 rows at once take ~0.4 GB)."""
+    parts = [degrade_rows(w, F[i:i + chunk], r, r0) for i in range(0, F.shape[0], chunk)]
+    return parts[0][0], np.concatenate([p[1] for p in parts])
+
+
+def degrade_rows(w, F, r, r0):
     x = np.log(w)
     step = (x[-1] - x[0]) / (len(x) - 1)
     sig_t = 1 / (r * FWHM_PER_SIGMA)
