@@ -9,6 +9,7 @@ using Triage.Api.NightOperations;
 using Triage.Api.Operations;
 using Triage.Api.Plans;
 using Triage.Api.Roster;
+using Triage.Api.Seasons;
 using Triage.Api.Sky;
 
 var builder = WebApplication.CreateBuilder(args);
@@ -27,6 +28,7 @@ builder.Services.AddPlans();
 builder.Services.AddNightOperations(builder.Configuration);
 builder.Services.AddPlanEvents(builder.Configuration);
 builder.Services.AddCalibrations();
+builder.Services.AddSeasons();
 builder.Services.AddSky();
 builder.Services.AddTriageCompression();
 builder.Services.AddDatabaseNotifications(builder.Configuration);
@@ -56,6 +58,7 @@ app.MapPlans();
 app.MapNightOperations();
 app.MapPlanEvents();
 app.MapCalibrations();
+app.MapSeasons();
 app.MapSky();
 
 await app.PrepareDatabaseAsync();

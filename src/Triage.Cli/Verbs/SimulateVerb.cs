@@ -1,7 +1,6 @@
 using System.CommandLine;
 using System.Globalization;
 using System.Text.Json;
-using System.Text.Json.Serialization;
 using Spectre.Console;
 using Triage.Core.Planning;
 using Triage.Core.Roster;
@@ -17,12 +16,6 @@ namespace Triage.Cli.Verbs;
 /// </summary>
 internal static class SimulateVerb
 {
-    internal static readonly JsonSerializerOptions Json = new(JsonSerializerDefaults.Web)
-    {
-        WriteIndented = true,
-        NumberHandling = JsonNumberHandling.AllowNamedFloatingPointLiterals,
-    };
-
     public static Command Create()
     {
         var roster = new Option<FileInfo>("--roster") { Description = "Roster JSON (sites with their spectrographs).", Required = true };
@@ -36,7 +29,7 @@ internal static class SimulateVerb
         var maxPool = new Option<int>("--max-pool") { Description = "Most candidates planned per night, chosen like the service's bounded pool (default 600).", DefaultValueFactory = _ => new SeasonSettings().MaxPoolCandidates };
         var clear = new Option<double>("--clear-fraction") { Description = "Probability a site is clear on a night (default 0.7).", DefaultValueFactory = _ => 0.7 };
         var noLearning = new Option<bool>("--no-learning") { Description = "Plan with the calibration only (no outcome learning)." };
-        var strategies = new Option<string?>("--strategies") { Description = "Comma-separated strategy names (default all)." };
+        var strategies = new Option<string?>("--strategies") { Description = "Comma-separated strategy names (default: the five compared; triage-sequential-accuracy-objective on request)." };
         var whatIf = new Option<FileInfo?>("--what-if-roster") { Description = "A changed roster: run the same seeds with it and report the difference." };
         var plots = new Option<DirectoryInfo?>("--plots") { Description = "Folder for SVG plots of the first seed." };
         var output = new Option<FileInfo>("--out") { Description = "Season JSON to write.", Required = true };
@@ -64,25 +57,11 @@ internal static class SimulateVerb
                 var count = parse.GetValue(seeds) is var k and >= 1 and <= 100 ? k : throw new FormatException("--seeds: 1 to 100.");
                 var changed = parse.GetValue(whatIf) is { } w ? RosterJson.Parse(File.ReadAllText(Existing(w, "--what-if-roster"))) : default;
                 var seedList = Enumerable.Range(parse.GetValue(seed), count).ToList();
-                var (runs, alternative) = RunAll(sites, units, changed, planner, truthSurface, settings, seedList, ct);
-
-                var summary = SeasonSummary.Of(runs);
-                var whatIfResult = alternative is null ? null : settings.Strategies
-                    .Select(s => FacilityWhatIf.Of(SeasonSimulator.Name(s), runs, alternative)).ToList();
+                var report = RunAll((sites, units), changed.Item1 is null ? null : changed, planner, truthSurface, settings, seedList, ct);
+                var runs = report.Runs;
                 var outFile = parse.GetValue(output)!;
                 Directory.CreateDirectory(outFile.DirectoryName!);
-                File.WriteAllText(outFile.FullName, JsonSerializer.Serialize(new
-                {
-                    simulated = true,
-                    seeds = seedList,
-                    nights = settings.Nights,
-                    firstNight = settings.FirstNight,
-                    strategies = summary.Strategies,
-                    comparisons = summary.Comparisons,
-                    whatIf = whatIfResult,
-                    settings,
-                    runs,
-                }, Json));
+                File.WriteAllText(outFile.FullName, report.ToJson(indented: true));
                 if (parse.GetValue(plots) is { } dir)
                 {
                     Directory.CreateDirectory(dir.FullName);
@@ -90,7 +69,7 @@ internal static class SimulateVerb
                     File.WriteAllText(Path.Combine(dir.FullName, "high-r-hours.svg"), SeasonPlots.HighResolutionHoursSvg(runs[0]));
                 }
 
-                Print(summary, whatIfResult);
+                Print(report);
                 Console.WriteLine($"Wrote {outFile.FullName}");
                 return Task.FromResult(0);
             }
@@ -133,7 +112,7 @@ internal static class SimulateVerb
     {
         if (string.IsNullOrWhiteSpace(text))
         {
-            return Enum.GetValues<SeasonStrategy>();
+            return SeasonSettings.Compared;
         }
 
         var all = Enum.GetValues<SeasonStrategy>().ToDictionary(SeasonSimulator.Name, s => s, StringComparer.Ordinal);
@@ -142,41 +121,26 @@ internal static class SimulateVerb
             .ToList();
     }
 
-    private static (List<SeasonResult> Runs, List<SeasonResult>? Changed) RunAll(
-        IReadOnlyList<Site> sites, IReadOnlyList<Spectrograph> units, (IReadOnlyList<Site>, IReadOnlyList<Spectrograph>) changed,
+    private static SeasonReport RunAll(
+        (IReadOnlyList<Site>, IReadOnlyList<Spectrograph>) roster, (IReadOnlyList<Site>, IReadOnlyList<Spectrograph>)? changed,
         AccuracySurface planner, AccuracySurface truth, SeasonSettings settings, List<int> seeds, CancellationToken ct)
     {
-        var runs = new List<SeasonResult>();
-        List<SeasonResult>? alternative = changed.Item1 is null ? null : [];
-        var perSeason = settings.Nights * settings.Strategies.Count;
-        var total = seeds.Count * perSeason * (alternative is null ? 1 : 2);
+        SeasonReport? report = null;
         AnsiConsole.Progress()
             .Columns(new TaskDescriptionColumn(), new ProgressBarColumn(), new PercentageColumn(), new ElapsedTimeColumn(), new RemainingTimeColumn())
             .Start(ctx =>
             {
-                var task = ctx.AddTask("simulating", maxValue: total);
-                var finished = 0;
-                foreach (var s in seeds)
-                {
-                    var seeded = settings with { Seed = s };
-                    var progress = new Inline<SeasonProgress>(p => { task.Value = finished + p.Done; task.Description = $"seed {s}: {p.What}"; });
-                    runs.Add(SeasonSimulator.Run(sites, units, planner, truth, seeded, progress, ct));
-                    finished += perSeason;
-                    if (alternative is not null)
-                    {
-                        var what = new Inline<SeasonProgress>(p => { task.Value = finished + p.Done; task.Description = $"seed {s} (changed roster): {p.What}"; });
-                        alternative.Add(SeasonSimulator.Run(changed.Item1!, changed.Item2!, planner, truth, seeded, what, ct));
-                        finished += perSeason;
-                    }
-                }
-
-                task.Value = total;
+                var task = ctx.AddTask("simulating", maxValue: SeasonReport.Steps(settings, seeds.Count, changed is not null));
+                var progress = new Inline<SeasonProgress>(p => { task.Value = p.Done; task.Description = p.What; });
+                report = SeasonReport.Run(roster, changed, planner, truth, settings, seeds, progress, ct);
+                task.Value = task.MaxValue;
             });
-        return (runs, alternative);
+        return report!;
     }
 
-    private static void Print(SeasonSummary summary, IReadOnlyList<FacilityWhatIf>? whatIf)
+    private static void Print(SeasonReport summary)
     {
+        var whatIf = summary.WhatIf;
         var inv = CultureInfo.InvariantCulture;
         var table = new Table().AddColumns("strategy", "correct", "wrong", "spectra", "high-R h", "correct per high-R h", "high-R share on ambiguous");
         foreach (var s in summary.Strategies)

@@ -37,6 +37,12 @@ public enum SeasonStrategy
 
     /// <summary>Rule: science priority filling the highest-R unit first; a reported label is final.</summary>
     PriorityHighestResolutionFirst,
+
+    /// <summary>
+    /// The service with its default objective: sequential identification (posterior ≥ τ, unsettled candidates
+    /// replanned, outcome learning) but plans that maximise expected accuracy. Not run unless asked for.
+    /// </summary>
+    TriageSequentialAccuracyObjective,
 }
 
 /// <summary>Settings of a simulated season.</summary>
@@ -81,8 +87,15 @@ public sealed record SeasonSettings
     /// <summary>Local-search rounds per night. Default 3000.</summary>
     public int LocalSearchRounds { get; init; } = 3000;
 
-    /// <summary>Strategies run. Default: all five.</summary>
-    public IReadOnlyList<SeasonStrategy> Strategies { get; init; } = Enum.GetValues<SeasonStrategy>();
+    /// <summary>The five strategies of the comparison (every strategy but the accuracy-objective variant).</summary>
+    public static IReadOnlyList<SeasonStrategy> Compared { get; } =
+    [
+        SeasonStrategy.TriageWithEscalation, SeasonStrategy.TriageWithoutEscalation, SeasonStrategy.TriageSequentialWithoutLookahead,
+        SeasonStrategy.BrightestFirstLargestTelescope, SeasonStrategy.PriorityHighestResolutionFirst,
+    ];
+
+    /// <summary>Strategies run. Default: <see cref="Compared"/>.</summary>
+    public IReadOnlyList<SeasonStrategy> Strategies { get; init; } = Compared;
 
     /// <summary>
     /// Most candidates handed to the planner per night, chosen as the service's plan job chooses them
@@ -111,6 +124,7 @@ public static class SeasonSimulator
         SeasonStrategy.TriageWithoutEscalation => "triage-without-escalation",
         SeasonStrategy.TriageSequentialWithoutLookahead => "triage-sequential-without-lookahead",
         SeasonStrategy.BrightestFirstLargestTelescope => "rule-brightest-first-largest-telescope",
+        SeasonStrategy.TriageSequentialAccuracyObjective => "triage-sequential-accuracy-objective",
         _ => "rule-priority-highest-resolution-first",
     };
 
@@ -229,7 +243,8 @@ internal sealed class StrategyRun
         _identifiedDays = new double[sky.Count];
         _leftAmbiguousByLowR = new bool[sky.Count];
         _reports = sky.Select(_ => new List<Report>()).ToArray();
-        _sequential = strategy is SeasonStrategy.TriageWithEscalation or SeasonStrategy.TriageSequentialWithoutLookahead;
+        _sequential = strategy is SeasonStrategy.TriageWithEscalation or SeasonStrategy.TriageSequentialWithoutLookahead
+            or SeasonStrategy.TriageSequentialAccuracyObjective;
         _outcomes = _sequential && settings.LearnUnitAccuracy ? new UnitOutcomes(planner, settings.Outcomes) : null;
         _seasonStart = SeasonSimulator.Evening(settings.FirstNight);
         _correctByNight = new int[settings.Nights];
@@ -267,7 +282,7 @@ internal sealed class StrategyRun
             byId[t.Id] = target;
         }
 
-        var objective = _sequential ? PlanObjective.Identification : PlanObjective.Accuracy;
+        var objective = _sequential && _strategy != SeasonStrategy.TriageSequentialAccuracyObjective ? PlanObjective.Identification : PlanObjective.Accuracy;
         var waiting = pool.Count;
         var eligible = waiting;
         if (pool.Count > _settings.MaxPoolCandidates)
