@@ -12,12 +12,14 @@ namespace Triage.Bench.Candidates;
 
 /// <summary>
 /// Batch intake into PostgreSQL: 5,000 candidates with ten photometry points each per
-/// operation, through binary COPY into staging tables and the ON CONFLICT merge (the path the
+/// operation, through binary COPY into a staging table and the ON CONFLICT merge (the path the
 /// intake endpoint takes after validation). Fresh ids every iteration, so every candidate and
-/// point is a real insert. Candidates per second = 5,000 / mean.
+/// point is a real insert; a third benchmark posts the next snapshot of a stored batch (every
+/// candidate updated, one more point each). Candidates per second = 5,000 / mean.
 /// Database: <c>TRIAGE_BENCH_CONNECTION</c> (default: the local triage_bench database).
 /// </summary>
 [Config(typeof(IntakeConfig))]
+[MinColumn, MaxColumn]
 public class CandidateIntakeBenchmarks
 {
     private const int BatchSize = 5000;
@@ -41,8 +43,17 @@ public class CandidateIntakeBenchmarks
         _store.UpsertBatchAsync("bench-broker", _repeat, DateTimeOffset.UtcNow).GetAwaiter().GetResult();
     }
 
-    [IterationSetup]
+    [IterationSetup(Targets = [nameof(NewBatchOf5000), nameof(RepeatedBatchOf5000)])]
     public void NewIds() => _batch = Make($"b{_round++}-{Guid.NewGuid():N}"[..14]);
+
+    /// <summary>Stores a batch (not timed) and prepares its next snapshot: every candidate with one more point.</summary>
+    [IterationSetup(Target = nameof(UpdatedBatchOf5000))]
+    public void StoredThenExtended()
+    {
+        var stored = Make($"u{_round++}-{Guid.NewGuid():N}"[..14]);
+        _store.UpsertBatchAsync("bench-broker", stored, DateTimeOffset.UtcNow).GetAwaiter().GetResult();
+        _batch = Extend(stored);
+    }
 
     /// <summary>A batch of new candidates: every row inserted.</summary>
     [Benchmark]
@@ -51,6 +62,13 @@ public class CandidateIntakeBenchmarks
     /// <summary>The same batch again (a broker's retry): nothing changes.</summary>
     [Benchmark]
     public Task<IntakeSummary> RepeatedBatchOf5000() => _store.UpsertBatchAsync("bench-broker", _repeat, DateTimeOffset.UtcNow);
+
+    /// <summary>
+    /// The next snapshot of 5,000 stored candidates (each with an 11th point): every candidate
+    /// updated and its light curve merged with the stored one.
+    /// </summary>
+    [Benchmark]
+    public Task<IntakeSummary> UpdatedBatchOf5000() => _store.UpsertBatchAsync("bench-broker", _batch, DateTimeOffset.UtcNow);
 
     /// <summary>In-process (the generated-project build times out on a loaded 2-core machine); one batch per iteration.</summary>
     private sealed class IntakeConfig : ManualConfig
@@ -62,6 +80,18 @@ public class CandidateIntakeBenchmarks
 
     [GlobalCleanup]
     public void Cleanup() => _data.Dispose();
+
+    /// <summary>Each candidate of <paramref name="stored"/> with one more detection three days after its last point (a new content hash).</summary>
+    internal static List<CandidateIntake> Extend(List<CandidateIntake> stored) =>
+        stored.Select(s =>
+        {
+            var last = s.Candidate.Photometry[^1];
+            var t = last.TimeUtc.AddDays(3);
+            var next = new PhotometryPoint(t, Core.LightCurves.ModifiedJulianDate.FromUtc(t), last.Band, last.FluxMicroJy * 0.9, 5, false);
+            var hash = (byte[])s.ContentHash.Clone();
+            hash[0] ^= 0xFF;
+            return new CandidateIntake(s.Candidate with { Photometry = [.. s.Candidate.Photometry, next] }, hash);
+        }).ToList();
 
     internal static List<CandidateIntake> Make(string prefix)
     {
