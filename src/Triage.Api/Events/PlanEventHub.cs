@@ -130,6 +130,7 @@ public sealed class PlanEventRelay(
     {
         await Task.Yield();
         long last = -1;
+        DateTimeOffset? unavailableSince = null;
         while (!stoppingToken.IsCancellationRequested)
         {
             try
@@ -148,12 +149,27 @@ public sealed class PlanEventRelay(
                 while (await store.DeliverDueAsync(clock.GetUtcNow(), 20, sender.SendAsync, stoppingToken) > 0)
                 {
                 }
+                if (unavailableSince is { } since)
+                {
+                    log.LogInformation("Plan event relay reached the database again after {Seconds:0.0} s", (clock.GetUtcNow() - since).TotalSeconds);
+                    unavailableSince = null;
+                }
 
                 await hub.WaitForWakeAsync(options.Value.PollInterval, stoppingToken);
             }
             catch (OperationCanceledException) when (stoppingToken.IsCancellationRequested)
             {
                 return;
+            }
+            catch (Exception e) when (Triage.Storage.DatabaseFaults.IsUnavailable(e))
+            {
+                // The database is away: one line when it goes, one when it is back (not a stack trace per poll).
+                if (unavailableSince is null)
+                {
+                    unavailableSince = clock.GetUtcNow();
+                    log.LogWarning("Plan event relay cannot reach the database ({Reason}); retrying", e.Message);
+                }
+                await Task.Delay(TimeSpan.FromTicks(Math.Min(options.Value.PollInterval.Ticks, TimeSpan.FromSeconds(2).Ticks)), stoppingToken);
             }
             catch (Exception e)
             {

@@ -1,0 +1,48 @@
+using Serilog.Events;
+
+namespace Triage.Api.Tests.Faults;
+
+/// <summary>
+/// The plan-event relay through a database outage: one warning when the database goes and one line when it is back,
+/// not an error with a stack trace at every poll (the long fault run logged 25 of those in one run before).
+/// </summary>
+public sealed class QuietOutageTests(AttackFactory api) : IClassFixture<AttackFactory>
+{
+    [Fact]
+    public async Task PlanEventRelay_LogsOneLineWhenTheDatabaseGoes_AndOneWhenItIsBack()
+    {
+        _ = api.Server;
+        await Task.Delay(1000);
+        var before = api.Log.Events.Count;
+        api.Proxy.Cut();
+        try
+        {
+            await WaitForAsync(before, lines => lines.Count >= 1);
+            // Several more 2 s polls fail while the database stays away.
+            await Task.Delay(6000);
+        }
+        finally
+        {
+            api.Proxy.Restore();
+        }
+        await WaitForAsync(before, lines => lines.Any(e => e.Level == LogEventLevel.Information));
+        await Task.Delay(4000); // and a few good polls
+
+        var all = RelayLines(before);
+        Assert.True(all.Count == 2, $"{all.Count} relay lines: {string.Join(" | ", all.Select(e => $"{e.Level} {e.MessageTemplate.Text}"))}");
+        Assert.Equal((LogEventLevel.Warning, LogEventLevel.Information), (all[0].Level, all[1].Level));
+        Assert.All(all, e => Assert.Null(e.Exception));
+    }
+
+    private List<LogEvent> RelayLines(int from) => api.Log.Events.Skip(from).Where(e => e.Properties.TryGetValue("SourceContext", out var c)
+        && c.ToString().Trim('"') == "Triage.Api.Events.PlanEventRelay").ToList();
+
+    private async Task WaitForAsync(int from, Func<List<LogEvent>, bool> condition)
+    {
+        for (var i = 0; i < 600 && !condition(RelayLines(from)); i++)
+        {
+            await Task.Delay(100);
+        }
+        Assert.True(condition(RelayLines(from)), $"relay lines so far: {string.Join(" | ", RelayLines(from).Select(e => $"{e.Level} {e.MessageTemplate.Text}"))}");
+    }
+}
