@@ -104,9 +104,11 @@ declare -A sample=(
   ["degrade"]="--in @first-spectrum --resolution 100 --snr 20 --out $work/degraded.txt"
   ["calibrate"]="--library $lib --out $work/cal.json --resolutions 10,100 --snr 10 --folds 2 --plots $work/plots"
   ["plot-calibration"]="--in demo/calibration.json --out $work/demo-plots"
+  ["rehearse"]="--roster demo/roster.json --candidates $work/invented.json --calibration demo/calibration.json --night 2026-12-02 --every 120 --out $work/rehearsal.json"
+  ["simulate"]="--roster demo/roster.json --nights 2 --seed 1 --out $work/season.json"
 )
 # Runs that need another verb's output first.
-order=("db advance" "key issue" "demo load" "invent-candidates" "fit" "plan" "sky" "exptime" "library synth" "library check" "library export" "degrade" "calibrate" "plot-calibration")
+order=("db advance" "key issue" "demo load" "invent-candidates" "fit" "plan" "rehearse" "sky" "exptime" "library synth" "library check" "library export" "degrade" "calibrate" "plot-calibration")
 
 commands_of() { # the subcommands listed under "Commands:" in a help text
   awk '/^Commands:/ {on = 1; next} on && /^[^ ]/ {on = 0} on && NF {print $1}'

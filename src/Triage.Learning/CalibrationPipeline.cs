@@ -87,9 +87,9 @@ public static class CalibrationPipeline
         Parallel.For(0, spectra.Count, parallel, i =>
         {
             var s = spectra[i];
-            var (grid, flux) = Degradation.Degrade(s.Spectrum, r, s.SourceResolution,
+            var (grid, flux) = Degradation.Degrade(s.Spectrum, run.Bins[i], r, s.SourceResolution,
                 new DegradeOptions { PixelsPerElement = settings.PixelsPerElement });
-            degraded[i] = (grid, grid.Centres(), flux, DegradedNoise.Account(s, grid, flux, r));
+            degraded[i] = (grid, grid.Centres(), flux, DegradedNoise.Account(s.Spectrum, run.InputNoise[i], s.SourceResolution, grid, flux, r));
         });
         var degradeTime = sw.Elapsed;
         // Noise and features for every S/N level of this R, then every (S/N, fold) training in one
@@ -257,6 +257,15 @@ public sealed class CalibrationRun
     {
         Library = library; Taxonomy = taxonomy; Settings = settings; Subtypes = subtypes; Resolutions = resolutions;
         Splits = splits; TrainLabels = trainLabels; TrainWeights = trainWeights; Classifier = classifier;
+        // What does not depend on R is computed once per spectrum: its pixel bins and the noise it carries.
+        var spectra = library.Spectra;
+        Bins = new PixelBins[spectra.Count];
+        InputNoise = new InputNoiseSources[spectra.Count];
+        Parallel.For(0, spectra.Count, i =>
+        {
+            Bins[i] = PixelBins.Of(spectra[i].Spectrum.WavelengthAngstrom);
+            InputNoise[i] = InputNoiseSources.Of(spectra[i].Spectrum, spectra[i].NoiseFree);
+        });
     }
 
     /// <summary>The spectral library.</summary>
@@ -281,6 +290,10 @@ public sealed class CalibrationRun
     internal float[][] TrainWeights { get; }
 
     internal ISubtypeClassifier Classifier { get; }
+
+    internal PixelBins[] Bins { get; }
+
+    internal InputNoiseSources[] InputNoise { get; }
 
     /// <summary>Checks the library and grid and prepares the folds.</summary>
     /// <exception cref="ArgumentException">A grid R exceeds a spectrum's source resolution or is below
@@ -307,6 +320,6 @@ public sealed class CalibrationRun
             return l.Select(c => w[c]).ToArray();
         }).ToArray();
         return new CalibrationRun(library, taxonomy, settings, subtypes, resolutions, splits, trainLabels, trainWeights,
-            classifier ?? SubtypeClassifiers.Create(settings.Model));
+            classifier ?? SubtypeClassifiers.Create(settings.Model, settings.ClassifierPasses));
     }
 }

@@ -6,7 +6,7 @@ namespace Triage.Api.Calibrations;
 /// <summary>
 /// Body of a calibration request. <c>library</c> is <c>synthetic</c> (generated in the service,
 /// labelled synthetic everywhere) or <c>folder</c> (a library folder on the server, <c>libraryPath</c>).
-/// Omitted settings take the calibration defaults (12 R values from 5 to the library's R; S/N 5, 10, 20, native; 5 folds).
+/// Omitted settings take the calibration defaults (12 R values from 5 to 4000, or to the library's R when lower; S/N 5, 10, 20; 5 folds).
 /// </summary>
 public sealed record CalibrationRequest(
     string? Library,

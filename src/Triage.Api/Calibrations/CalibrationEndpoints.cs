@@ -88,7 +88,7 @@ public static class CalibrationEndpoints
                 }
             }
         }
-        var snr = request.Snr ?? [5, 10, 20, null];
+        var snr = request.Snr ?? CalibrationSettings.DefaultSnrLevels.ToArray();
         if (snr.Count is 0 or > 10)
         {
             c.Fail("snr", "needs 1 to 10 values (null = native S/N)");

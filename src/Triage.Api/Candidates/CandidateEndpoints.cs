@@ -66,7 +66,7 @@ public static class CandidateEndpoints
     }
 
     public static async Task<Results<Ok<IntakeResponse>, ValidationProblem, ProblemHttpResult>> PostBatch(
-        HttpRequest request, CandidateStore store, IOptions<CandidateOptions> options, ClaimsPrincipal user, TimeProvider clock, CancellationToken ct)
+        HttpRequest request, CandidateStore store, IOptions<CandidateOptions> options, ClaimsPrincipal user, TimeProvider clock, ArrivalWatch arrivals, CancellationToken ct)
     {
         if (request.ContentType is null || !request.ContentType.StartsWith("application/json", StringComparison.OrdinalIgnoreCase))
         {
@@ -100,6 +100,11 @@ public static class CandidateEndpoints
             intake.Add(CandidateIntake.From(c, submission));
         }
         var summary = await store.UpsertBatchAsync(Caller.From(user).PublicId, intake, now, ct);
+        if (summary.Created + summary.Updated > 0)
+        {
+            // A candidate worth more than tonight's margin replans the night (looked at after a quiet spell).
+            arrivals.Notice();
+        }
         return TypedResults.Ok(new IntakeResponse(summary.Received, summary.Created, summary.Updated, summary.Unchanged, summary.PhotometryWritten, result.Notices));
     }
 

@@ -41,6 +41,8 @@ public static class NightOperationsEndpoints
         services.Configure<ReplanOptions>(configuration.GetSection("Triage:Replanning"));
         services.AddSingleton<ReplanScheduler>();
         services.AddHostedService(sp => sp.GetRequiredService<ReplanScheduler>());
+        services.AddSingleton<ArrivalWatch>();
+        services.AddHostedService(sp => sp.GetRequiredService<ArrivalWatch>());
         return services;
     }
 

@@ -24,6 +24,12 @@ public sealed class ReplanOptions
 
     /// <summary>How often pending requests are looked at. Default 500 ms.</summary>
     public TimeSpan Tick { get; set; } = TimeSpan.FromMilliseconds(500);
+
+    /// <summary>Longest time between two looks for valuable arrivals even when this replica's intake was quiet (catches other replicas' intake). Default 60 s.</summary>
+    public TimeSpan ArrivalPoll { get; set; } = TimeSpan.FromSeconds(60);
+
+    /// <summary>Most changed candidates (the most recent) valued per look for a replan. Default 500.</summary>
+    public int ArrivalLimit { get; set; } = 500;
 }
 
 /// <summary>

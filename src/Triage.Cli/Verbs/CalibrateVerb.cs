@@ -17,8 +17,8 @@ internal static class CalibrateVerb
     {
         var library = new Option<DirectoryInfo>("--library") { Description = "Library folder with manifest.csv.", Required = true };
         var output = new Option<FileInfo>("--out") { Description = "Calibration JSON to write.", Required = true };
-        var resolutions = new Option<string?>("--resolutions") { Description = "Comma-separated R values (default: 12 log-spaced from 5 to the library's R)." };
-        var snr = new Option<string>("--snr") { Description = "Comma-separated S/N per element; 'native' adds no noise (default 5,10,20,native).", DefaultValueFactory = _ => "5,10,20,native" };
+        var resolutions = new Option<string?>("--resolutions") { Description = "Comma-separated R values (default: 12 log-spaced from 5 to 4000, or to the library's R when lower)." };
+        var snr = new Option<string>("--snr") { Description = "Comma-separated S/N per element; 'native' adds no noise beyond the library's own (default 5,10,20).", DefaultValueFactory = _ => "5,10,20" };
         var folds = new Option<int>("--folds") { Description = "Cross-validation folds, grouped by object (default 5).", DefaultValueFactory = _ => 5 };
         var seed = new Option<int>("--seed") { Description = "Seed of folds and noise (default 1).", DefaultValueFactory = _ => 1 };
         var model = new Option<string>("--model") { Description = $"Classifier: {string.Join(", ", SubtypeClassifiers.Names)} (default linear).", DefaultValueFactory = _ => "linear" };
@@ -28,11 +28,14 @@ internal static class CalibrateVerb
         var lowBelow = new Option<double?>("--low-r-below") { Description = $"Below this R use the low-R feature choice (default {defaults.LowResolutionBelow.ToString(CultureInfo.InvariantCulture)}; 0: one choice for every R)." };
         var lowContinuum = new Option<ContinuumHandling?>("--low-r-continuum") { Description = $"Continuum handling below --low-r-below (default {defaults.LowResolution?.Continuum.ToString() ?? "none"})." };
         var lowMinBins = new Option<int?>("--low-r-min-bins") { Description = $"Minimum flux bins below --low-r-below (default {defaults.LowResolution?.MinBins.ToString(CultureInfo.InvariantCulture) ?? "4"})." };
+        var passes = new Option<int?>("--passes") { Description = $"Passes over each training fold for --model linear (default {SubtypeClassifiers.LinearIterations}) or lbfgs (default 200)." };
         var unweighted = new Option<bool>("--unweighted") { Description = "Train without balanced class weights." };
         var taxonomy = new Option<FileInfo?>("--taxonomy") { Description = "Taxonomy file (default: the built-in one, as config/taxonomy.txt)." };
+        var cache = new Option<DirectoryInfo?>("--cache") { Description = "Folder of the binary cache of parsed libraries, keyed by content (default ~/.cache/triage/libraries)." };
+        var noCache = new Option<bool>("--no-cache") { Description = "Parse the library's text files without reading or writing the cache." };
         var plots = new Option<DirectoryInfo?>("--plots") { Description = "Folder for SVG plots (recall curves per S/N, confusion heatmaps)." };
         var cmd = new Command("calibrate", "Compute per-subtype classification accuracy versus R, S/N and phase from a labelled library.")
-            { library, output, resolutions, snr, folds, seed, model, continuum, maxBins, lowBelow, lowContinuum, lowMinBins, unweighted, taxonomy, plots };
+            { library, output, resolutions, snr, folds, seed, model, continuum, maxBins, lowBelow, lowContinuum, lowMinBins, passes, unweighted, taxonomy, cache, noCache, plots };
         cmd.SetAction((parse, ct) =>
         {
             CalibrationSettings settings;
@@ -53,9 +56,18 @@ internal static class CalibrateVerb
                         MaxBins = parse.GetValue(maxBins) is var mb and >= 8 ? mb : throw new FormatException("--max-bins: at least 8."),
                     }, parse.GetValue(lowBelow), parse.GetValue(lowContinuum), parse.GetValue(lowMinBins)),
                     BalancedClassWeights = !parse.GetValue(unweighted),
+                    ClassifierPasses = parse.GetValue(passes) switch
+                    {
+                        null => null,
+                        < 1 => throw new FormatException("--passes: at least 1."),
+                        _ when parse.GetValue(model) is "tree" or "boosted" => throw new FormatException($"--passes: applies to --model linear or lbfgs, not {parse.GetValue(model)}."),
+                        var n => n,
+                    },
                 };
                 tax = LibraryFiles.LoadTaxonomy(parse.GetValue(taxonomy)?.FullName);
-                lib = LibraryFiles.Load(parse.GetValue(library)!.FullName, tax);
+                lib = parse.GetValue(noCache)
+                    ? LibraryFiles.Load(parse.GetValue(library)!.FullName, tax)
+                    : LibraryCache.Load(parse.GetValue(library)!.FullName, tax, parse.GetValue(cache)?.FullName ?? LibraryCache.DefaultFolder).Library;
                 foreach (var w in lib.Warnings) Console.Error.WriteLine($"warning: {w}");
             }
             catch (LibraryImportException ex)

@@ -15,11 +15,18 @@ public sealed record CalibrationSettings
     /// </summary>
     public const double MinimumResolution = 5;
 
-    /// <summary>Resolving powers of the grid (each ≥ <see cref="MinimumResolution"/>); null: <see cref="DefaultResolutions"/> up to the library's resolution.</summary>
+    /// <summary>Resolving powers of the grid (each ≥ <see cref="MinimumResolution"/>); null: <see cref="DefaultResolutions"/> for the library's resolution.</summary>
     public IReadOnlyList<double>? Resolutions { get; init; }
 
-    /// <summary>S/N per resolution element levels; null in the list means native (no noise added). Default 5, 10, 20, native.</summary>
-    public IReadOnlyList<double?> SnrLevels { get; init; } = [5, 10, 20, null];
+    /// <summary>
+    /// S/N per resolution element levels; null in the list means native (no noise added beyond the library's own). Default
+    /// 5, 10, 20: numeric levels only, because the planner reads numeric cells only and the native column of a noise-free
+    /// model library has no S/N to place it at.
+    /// </summary>
+    public IReadOnlyList<double?> SnrLevels { get; init; } = DefaultSnrLevels;
+
+    /// <summary>The default S/N levels: 5, 10, 20 per resolution element.</summary>
+    public static IReadOnlyList<double?> DefaultSnrLevels { get; } = [5, 10, 20];
 
     /// <summary>Phase bins. Default <see cref="DefaultPhaseBins"/>.</summary>
     public IReadOnlyList<PhaseBin> PhaseBins { get; init; } = DefaultPhaseBins;
@@ -38,6 +45,12 @@ public sealed record CalibrationSettings
 
     /// <summary>Classifier name (see Triage.Learning). Default "linear".</summary>
     public string Model { get; init; } = "linear";
+
+    /// <summary>
+    /// Passes over the training fold for the "linear" and "lbfgs" classifiers; null: the classifier's default (10 SDCA passes
+    /// for "linear", docs/calibration.md "Classifier passes").
+    /// </summary>
+    public int? ClassifierPasses { get; init; }
 
     /// <summary>Weight each class by N/(K·n_class) in training (favours per-subtype recall). Default true.</summary>
     public bool BalancedClassWeights { get; init; } = true;
@@ -61,23 +74,36 @@ public sealed record CalibrationSettings
     public const string AllPhases = "all";
 
     /// <summary>
-    /// Twelve resolving powers log-spaced from 5 to <paramref name="maxResolution"/>, rounded to
-    /// two significant digits below 100 and three above (the last is exactly the maximum).
+    /// Top of the default grid when the library reaches it: R = 4000, the highest resolving power the default grid
+    /// calibrates exactly (a spectrograph above it is read at 4000, the surface's edge).
     /// </summary>
-    public static IReadOnlyList<double> DefaultResolutions(double maxResolution, int count = 12, double minResolution = 5)
+    public const double DefaultTopResolution = 4000;
+
+    /// <summary>
+    /// Twelve resolving powers log-spaced from 5 to min(<paramref name="maxResolution"/>, <see cref="DefaultTopResolution"/>),
+    /// rounded to two significant digits below 100 and three above; the first is exactly 5 and the last exactly the top.
+    /// </summary>
+    /// <param name="maxResolution">The library's lowest source resolution (the grid may not exceed it).</param>
+    /// <param name="count">Number of grid points (≥ 2).</param>
+    /// <param name="minResolution">Lowest R of the grid.</param>
+    public static IReadOnlyList<double> DefaultResolutions(double maxResolution, int count = 12, double minResolution = MinimumResolution)
     {
+        double top = Math.Min(maxResolution, DefaultTopResolution);
         var r = new double[count];
         for (int i = 0; i < count; i++)
         {
-            double v = minResolution * Math.Pow(maxResolution / minResolution, i / (double)(count - 1));
-            r[i] = i == count - 1 || i == 0 ? v : RoundSignificant(v, v < 100 ? 2 : 3);
+            double v = minResolution * Math.Pow(top / minResolution, i / (double)(count - 1));
+            r[i] = i == count - 1 ? top : i == 0 ? minResolution : RoundSignificant(v, v < 100 ? 2 : 3);
         }
         return r;
     }
 
     private static double RoundSignificant(double v, int digits)
     {
-        double scale = Math.Pow(10, Math.Floor(Math.Log10(v)) - digits + 1);
+        int decimals = digits - 1 - (int)Math.Floor(Math.Log10(v));
+        // Math.Round to decimal places gives the nearest double to the short decimal (9.2, not 9.200000000000001).
+        if (decimals >= 0) return Math.Round(v, decimals);
+        double scale = Math.Pow(10, -decimals);
         return Math.Round(v / scale) * scale;
     }
 }

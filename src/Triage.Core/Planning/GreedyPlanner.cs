@@ -4,6 +4,9 @@
 // Scores: value density v/d (classic for knapsack-like capacity [2]); value v; or, given prices
 // λᵤ per tick of each unit (e.g. LP duals), the reduced profit v − λᵤ·d first and density after,
 // which sends a candidate to the unit where its time is cheapest relative to what it yields.
+// When replanning, one more run first places every anchored choice (the previous version's assignments, pinned to
+// their starts) and fills the rest by density: the best of the runs is then never worse than keeping the previous
+// version, so a later search changes an assignment only when that gains more than the stability share.
 //
 // References
 // [1] M. L. Pinedo, Scheduling: Theory, Algorithms, and Systems, 5th ed., Springer 2016, ch. 3–5.
@@ -62,7 +65,30 @@ public static class GreedyPlanner
             runs.Add(Solve(model, Order.ValueDensity, pricePerTick));
         }
 
+        if (model.AnchorChoices.Count > 0)
+        {
+            runs.Add(SolveKeepingAnchors(model));
+        }
+
         return runs.MaxBy(model.ObjectiveOf)!;
+    }
+
+    /// <summary>Places every anchored choice that still fits (in start order), then the rest by value density.</summary>
+    public static IReadOnlyList<PlacedChoice> SolveKeepingAnchors(PlanningModel model)
+    {
+        ArgumentNullException.ThrowIfNull(model);
+        var state = new PlacementState(model);
+        foreach (var i in model.AnchorChoices.OrderBy(i => model.Choices[i].EarliestTick).ThenBy(i => i))
+        {
+            state.TryPlace(i);
+        }
+
+        foreach (var i in Enumerable.Range(0, model.Choices.Count).OrderByDescending(i => model.Choices[i].NetValue / model.Choices[i].DurationTicks).ThenBy(i => i))
+        {
+            state.TryPlace(i);
+        }
+
+        return state.Placed;
     }
 
     /// <summary>Unit timelines, budgets and cost used so far; places choices at their earliest free start.</summary>

@@ -51,8 +51,9 @@ public readonly record struct PlacedChoice(int ChoiceIndex, long StartTick);
 /// <summary>The pruned, discretised problem shared by the heuristic and the solver.</summary>
 public sealed class PlanningModel
 {
-    private PlanningModel(PlanningProblem problem, PlanningSettings settings, Choice[] choices, long[] budgetTicks, int before)
+    private PlanningModel(PlanningProblem problem, PlanningSettings settings, Choice[] choices, long[] budgetTicks, int before, int[] anchorChoices)
     {
+        AnchorChoices = anchorChoices;
         Problem = problem;
         Settings = settings;
         Choices = choices;
@@ -68,6 +69,9 @@ public sealed class PlanningModel
 
     /// <summary>Surviving choices.</summary>
     public IReadOnlyList<Choice> Choices { get; }
+
+    /// <summary>Indices of the choices that keep an assignment of the previous version (replanning), pinned to its start.</summary>
+    public IReadOnlyList<int> AnchorChoices { get; }
 
     /// <summary>Per unit, the budget in whole ticks.</summary>
     public IReadOnlyList<long> BudgetTicks { get; }
@@ -150,8 +154,9 @@ public sealed class PlanningModel
             choices.AddRange(list.Where(c => keepUnits.Contains(c.Unit)));
         }
 
+        var firstAnchor = choices.Count;
         choices.AddRange(AnchoredChoices(problem, step, budgetTicks));
-        return new PlanningModel(problem, settings, choices.ToArray(), budgetTicks, before);
+        return new PlanningModel(problem, settings, choices.ToArray(), budgetTicks, before, Enumerable.Range(firstAnchor, choices.Count - firstAnchor).ToArray());
     }
 
     // A previous assignment becomes one more choice pinned to its start tick and worth (1 + share) × its net value,
@@ -233,7 +238,7 @@ public sealed class PlanningModel
             mapped.Add(new PlacedChoice(i, p.StartTick));
         }
 
-        return (new PlanningModel(Problem, Settings, choices.ToArray(), BudgetTicks.ToArray(), ChoicesBeforePruning), mapped);
+        return (new PlanningModel(Problem, Settings, choices.ToArray(), BudgetTicks.ToArray(), ChoicesBeforePruning, AnchorChoices.ToArray()), mapped);
     }
 
     /// <summary>Net value of a set of placed choices.</summary>

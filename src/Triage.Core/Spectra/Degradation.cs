@@ -21,7 +21,7 @@
 //  3. Carnall, A. C., "SpectRes: a fast spectral resampling tool in Python", arXiv:1705.05165 (2017), §2 (pixels as bins).
 namespace Triage.Core.Spectra;
 
-/// <summary>Options of <see cref="Degradation.Degrade"/>.</summary>
+/// <summary>Options of <see cref="Degradation.Degrade(Spectrum, double, double?, DegradeOptions?)"/>.</summary>
 public sealed record DegradeOptions
 {
     /// <summary>Pixels per resolution element λ/R of the output grid. Default 2 (Nyquist sampling).</summary>
@@ -55,8 +55,18 @@ public static class Degradation
     /// <returns>The degraded spectrum (no noise added) and its grid.</returns>
     /// <exception cref="ArgumentOutOfRangeException">R ≤ 0, or R above the source resolution.</exception>
     public static (LogWavelengthGrid Grid, double[] Flux) Degrade(Spectrum spectrum, double resolution, double? sourceResolution,
+        DegradeOptions? options = null) =>
+        Degrade(spectrum, PixelBins.Of(spectrum.WavelengthAngstrom), resolution, sourceResolution, options);
+
+    /// <summary>
+    /// As <see cref="Degrade(Spectrum, double, double?, DegradeOptions?)"/> with the input's pixel bins computed once by
+    /// <see cref="PixelBins.Of"/> (a calibration degrades every spectrum to many R).
+    /// </summary>
+    /// <param name="input">The bins of <paramref name="spectrum"/>'s wavelengths.</param>
+    public static (LogWavelengthGrid Grid, double[] Flux) Degrade(Spectrum spectrum, PixelBins input, double resolution, double? sourceResolution,
         DegradeOptions? options = null)
     {
+        ArgumentNullException.ThrowIfNull(input);
         options ??= new DegradeOptions();
         if (!(resolution > 0) || double.IsInfinity(resolution))
             throw new ArgumentOutOfRangeException(nameof(resolution), resolution, "R must be positive and finite.");
@@ -64,8 +74,8 @@ public static class Degradation
             throw new ArgumentOutOfRangeException(nameof(resolution), resolution,
                 $"Cannot degrade to R = {resolution} above the source resolution R = {r0}.");
         var w = spectrum.WavelengthAngstrom;
+        if (input.Edges.Length != w.Length + 1) throw new ArgumentException("The bins belong to another wavelength array.", nameof(input));
         var outGrid = LogWavelengthGrid.ForResolution(w[0], w[^1], resolution, options.PixelsPerElement);
-        var input = InputBins.Of(w);
 
         // Same R and the input already on the output grid: nothing to do.
         if (sourceResolution is double rs && Math.Abs(resolution / rs - 1) < 1e-9 && input.Uniform is { } same
@@ -162,26 +172,37 @@ public static class Degradation
         return s;
     }
 
-    /// <summary>Pixel edges of a sampled spectrum (geometric midpoints; the outer edges mirror the next one).</summary>
-    private sealed record InputBins(double[] Edges, double StepLn, LogWavelengthGrid? Uniform)
+}
+
+/// <summary>
+/// Pixel bins of a sampled spectrum: edges at the geometric midpoints between samples (the outer edges mirror the
+/// next one), the mean width in ln λ, and the log grid itself when the samples are uniform in ln λ.
+/// </summary>
+/// <param name="Edges">Bin edges (Å), one more than the samples.</param>
+/// <param name="StepLn">Mean bin width in ln λ.</param>
+/// <param name="Uniform">The grid of the bins when the samples are uniform in ln λ to 1e-4 of a step; else null.</param>
+public sealed record PixelBins(double[] Edges, double StepLn, LogWavelengthGrid? Uniform)
+{
+    /// <summary>Lower edge of the first bin (Å).</summary>
+    public double FirstEdge => Edges[0];
+
+    /// <summary>Upper edge of the last bin (Å).</summary>
+    public double LastEdge => Edges[^1];
+
+    /// <summary>The bins of samples at <paramref name="w"/> (Å, increasing, at least two).</summary>
+    public static PixelBins Of(double[] w)
     {
-        public double FirstEdge => Edges[0];
-
-        public double LastEdge => Edges[^1];
-
-        public static InputBins Of(double[] w)
-        {
-            int n = w.Length;
-            var edges = new double[n + 1];
-            for (int i = 1; i < n; i++) edges[i] = Math.Sqrt(w[i - 1] * w[i]);
-            edges[0] = w[0] * w[0] / edges[1];
-            edges[n] = w[n - 1] * w[n - 1] / edges[n - 1];
-            double step = Math.Log(edges[n] / edges[0]) / n;
-            // Uniform in ln λ to 1e-4 of a step (wavelengths written to 0.001 Å are).
-            bool uniform = true;
-            for (int i = 1; i < n && uniform; i++)
-                uniform = Math.Abs(Math.Log(w[i] / w[i - 1]) - step) < 1e-4 * step + 2e-3 / w[i];
-            return new InputBins(edges, step, uniform ? new LogWavelengthGrid(edges[0], step, n) : null);
-        }
+        ArgumentNullException.ThrowIfNull(w);
+        int n = w.Length;
+        var edges = new double[n + 1];
+        for (int i = 1; i < n; i++) edges[i] = Math.Sqrt(w[i - 1] * w[i]);
+        edges[0] = w[0] * w[0] / edges[1];
+        edges[n] = w[n - 1] * w[n - 1] / edges[n - 1];
+        double step = Math.Log(edges[n] / edges[0]) / n;
+        // Uniform in ln λ to 1e-4 of a step (wavelengths written to 0.001 Å are).
+        bool uniform = true;
+        for (int i = 1; i < n && uniform; i++)
+            uniform = Math.Abs(Math.Log(w[i] / w[i - 1]) - step) < 1e-4 * step + 2e-3 / w[i];
+        return new PixelBins(edges, step, uniform ? new LogWavelengthGrid(edges[0], step, n) : null);
     }
 }

@@ -24,14 +24,17 @@ public sealed record DegradedNoise(NoiseBudget Budget, double NativeElementNoise
 
     /// <summary>As above, for a bare spectrum with a known (or unknown: null) source resolution.</summary>
     public static DegradedNoise Account(Spectrum spectrum, bool noiseFree, double? sourceResolution, LogWavelengthGrid grid,
+        ReadOnlySpan<double> flux, double resolution) =>
+        Account(spectrum, InputNoiseSources.Of(spectrum, noiseFree), sourceResolution, grid, flux, resolution);
+
+    /// <summary>As above with the input's noise measured once by <see cref="InputNoiseSources.Of"/> (it does not depend on R).</summary>
+    public static DegradedNoise Account(Spectrum spectrum, InputNoiseSources input, double? sourceResolution, LogWavelengthGrid grid,
         ReadOnlySpan<double> flux, double resolution)
     {
         double sigmaK = Degradation.KernelSigmaLn(resolution, sourceResolution);
         double level = SpectrumNoise.ReferenceLevel(grid, flux);
-        double present = SpectrumNoise.PropagatedElementNoise(SpectrumNoise.MeasureInputNoise(spectrum, noiseFree), resolution, sigmaK);
-        double native = noiseFree && spectrum.FluxError is not null
-            ? SpectrumNoise.PropagatedElementNoise(SpectrumNoise.MeasureInputNoise(spectrum, false), resolution, sigmaK)
-            : present;
+        double present = SpectrumNoise.PropagatedElementNoise(input.Present, resolution, sigmaK);
+        double native = SpectrumNoise.PropagatedElementNoise(input.Native, resolution, sigmaK);
         return new DegradedNoise(new NoiseBudget(level, present), native, SpectrumNoise.NoiseShape(spectrum, grid));
     }
 
@@ -63,6 +66,21 @@ public sealed record DegradedNoise(NoiseBudget Budget, double NativeElementNoise
         }
         var noised = added > 0 ? SpectrumNoise.AddElementNoise(flux, added, pixelsPerElement, Shape, random) : flux.ToArray();
         return new NoisedSpectrum(noised, RealisedSnr(added), reached, Budget.ReachableSnr);
+    }
+}
+
+/// <summary>The noise of an input spectrum per pixel near the reference wavelength, measured once for every R.</summary>
+/// <param name="Present">Noise already in the flux (0 for a noise-free model).</param>
+/// <param name="Native">Noise of a native observation: the present noise, or for a noise-free model the noise its error column states.</param>
+public readonly record struct InputNoiseSources(InputNoise Present, InputNoise Native)
+{
+    /// <summary>Measures the noise of <paramref name="spectrum"/> (see <see cref="SpectrumNoise.MeasureInputNoise"/>).</summary>
+    public static InputNoiseSources Of(Spectrum spectrum, bool noiseFree)
+    {
+        ArgumentNullException.ThrowIfNull(spectrum);
+        var present = SpectrumNoise.MeasureInputNoise(spectrum, noiseFree);
+        return new InputNoiseSources(present,
+            noiseFree && spectrum.FluxError is not null ? SpectrumNoise.MeasureInputNoise(spectrum, false) : present);
     }
 }
 

@@ -82,7 +82,8 @@ public static class SpectrumNoise
     public static double ReferenceLevel(LogWavelengthGrid grid, ReadOnlySpan<double> flux, double referenceAngstrom = ReferenceWavelengthAngstrom)
     {
         var window = new List<double>();
-        for (int i = 0; i < grid.Count; i++)
+        var (from, to) = grid.CandidateRange(0.95 * referenceAngstrom, 1.05 * referenceAngstrom);
+        for (int i = from; i < to; i++)
         {
             if (double.IsNaN(flux[i])) continue;
             if (Math.Abs(grid.CentreAngstrom(i) - referenceAngstrom) <= 0.05 * referenceAngstrom) window.Add(flux[i]);
@@ -182,9 +183,10 @@ public static class SpectrumNoise
             density[i] = err[i] * err[i] * width;
         }
         var binned = FluxRebinning.ToGrid(w, density, grid);
+        var edges = grid.Edges();
         var shape = new double[grid.Count];
         for (int k = 0; k < grid.Count; k++)
-            shape[k] = Math.Sqrt(Math.Max(0, binned[k]) / (grid.EdgeAngstrom(k + 1) - grid.EdgeAngstrom(k)));
+            shape[k] = Math.Sqrt(Math.Max(0, binned[k]) / (edges[k + 1] - edges[k]));
         double atRef = ReferenceLevel(grid, shape, referenceAngstrom);
         if (!(atRef > 0)) return null;
         for (int k = 0; k < shape.Length; k++) shape[k] = double.IsNaN(shape[k]) ? 1 : shape[k] / atRef;
@@ -200,8 +202,15 @@ public static class SpectrumNoise
     {
         double sigma = Math.Sqrt(pixelsPerElement) * elementNoise;
         var result = new double[flux.Length];
-        for (int i = 0; i < flux.Length; i++)
-            result[i] = flux[i] + sigma * (shape?[i] ?? 1) * StandardNormal(random);
+        // Box–Muller gives two independent deviates per pair of uniforms [4]; both are used.
+        for (int i = 0; i < flux.Length; i += 2)
+        {
+            double u1 = 1.0 - random.NextDouble(), u2 = random.NextDouble();
+            double radius = Math.Sqrt(-2.0 * Math.Log(u1));
+            var (sin, cos) = Math.SinCos(2 * Math.PI * u2);
+            result[i] = flux[i] + sigma * (shape?[i] ?? 1) * radius * cos;
+            if (i + 1 < flux.Length) result[i + 1] = flux[i + 1] + sigma * (shape?[i + 1] ?? 1) * radius * sin;
+        }
         return result;
     }
 

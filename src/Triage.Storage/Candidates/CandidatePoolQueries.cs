@@ -60,6 +60,21 @@ public sealed partial class CandidateStore
             r.FittedAt is { } f ? Utc.From(f) : null)).ToList();
     }
 
+    /// <summary>
+    /// Ids of the candidates in one of <paramref name="states"/> created at or after <paramref name="since"/>, most
+    /// recent first, at most <paramref name="limit"/> (a row is never updated before it is created, so the
+    /// <c>updated_at</c> index narrows the scan).
+    /// </summary>
+    public async Task<IReadOnlyList<Guid>> CreatedSinceAsync(IReadOnlyCollection<CandidateState> states, DateTimeOffset since, int limit, CancellationToken ct = default)
+    {
+        ArgumentNullException.ThrowIfNull(states);
+        await using var conn = await dataSource.OpenConnectionAsync(ct);
+        var ids = await conn.QueryAsync<Guid>(new CommandDefinition(
+            "SELECT id FROM candidates WHERE updated_at >= @since AND created_at >= @since AND state = ANY(@states) ORDER BY created_at DESC, id LIMIT @limit",
+            new { since, states = states.Select(CandidateLifecycle.Name).ToArray(), limit }, cancellationToken: ct));
+        return ids.ToList();
+    }
+
     private const string ByIdsSql = $"""
         SELECT {DetailColumns}
         FROM candidates WHERE id = ANY(@ids) ORDER BY id;

@@ -39,6 +39,9 @@ public partial class PlotPaletteTests
     private static AccuracyModelDocument Demo() =>
         CalibrationJson.Deserialize(File.ReadAllText(Path.Combine(RepoRoot(), "demo", "calibration.json")));
 
+    // The demo calibration's highest numeric S/N level (it carries numeric levels only).
+    private static double TopSnr(AccuracyModelDocument doc) => doc.SnrLevels.Where(s => s is not null).Max()!.Value;
+
     [Theory]
     [InlineData("recall")]
     [InlineData("equal-exposure")]
@@ -51,7 +54,7 @@ public partial class PlotPaletteTests
         {
             "recall" => CalibrationPlots.RecallCurvesSvg(doc, 10),
             "equal-exposure" => CalibrationPlots.EqualExposureSvg(doc),
-            _ => CalibrationPlots.ConfusionSvg(doc, doc.Resolutions[^1], null),
+            _ => CalibrationPlots.ConfusionSvg(doc, doc.Resolutions[^1], TopSnr(doc)),
         };
         var used = ColourRegex().Matches(svg).Select(m => m.Value[..7].ToLowerInvariant()).ToHashSet();
         if (plot == "recall")
@@ -83,7 +86,7 @@ public partial class PlotPaletteTests
     public void Plot_LegendLiesOutsideTheDataArea(string plot, int width, int height)
     {
         string svg = plot == "recall"
-            ? CalibrationPlots.RecallCurvesSvg(Demo(), null, width: width, height: height)
+            ? CalibrationPlots.RecallCurvesSvg(Demo(), TopSnr(Demo()), width: width, height: height)
             : CalibrationPlots.EqualExposureSvg(Demo(), width, height);
         var data = Rects(svg, PlotStyle.DataHex).Single();
         // The legend box is the paper-coloured rectangle that is not the whole figure.
