@@ -1,6 +1,8 @@
-// Roster: every site with its spectrographs, R, status and tonight's budget use from the active plan.
+// Roster: every site with its spectrographs, R, status and tonight's budget use from the active plan,
+// then each unit's measured against modelled accuracy.
 import { loadNetwork, loadPlan } from './data.js';
 import { el, num, offsetLabel } from './format.js';
+import { renderUnitAccuracy } from './units.js';
 
 export async function renderRoster(root, night) {
   const [network, plan] = await Promise.all([loadNetwork(), loadPlan(night)]);
@@ -29,4 +31,5 @@ export async function renderRoster(root, night) {
           })))
         : el('p', {}, 'No spectrographs.')));
   }
+  await renderUnitAccuracy(root);
 }

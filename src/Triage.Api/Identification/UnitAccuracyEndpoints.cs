@@ -19,12 +19,14 @@ namespace Triage.Api.Identification;
 /// <param name="MeasuredLow">Wilson 95 % lower bound.</param>
 /// <param name="MeasuredHigh">Wilson 95 % upper bound.</param>
 /// <param name="ModelledRecall">Mean recall the active calibration predicts for the same trials (R, S/N, phase, subtype).</param>
+/// <param name="ModelledLow">Lower end of the range the measured recall falls in 95 % of the time if the model is right: (E − 1.96 √V)/n, at least 0 (null without trials).</param>
+/// <param name="ModelledHigh">Upper end of that range: (E + 1.96 √V)/n, at most 1 (null without trials).</param>
 /// <param name="Z">(correct − expected)/√variance under the model.</param>
 /// <param name="Flagged">Significantly worse than modelled (one-sided, z below −2.326 with at least 10 trials): a warning, not an error.</param>
 /// <param name="Warning">Plain-words warning when flagged.</param>
 public sealed record UnitAccuracyResponse(
     Guid SpectrographId, string Name, double ResolvingPower, int Trials, int Correct, double? MeasuredRecall, double MeasuredLow,
-    double MeasuredHigh, double? ModelledRecall, double Z, bool Flagged, string? Warning);
+    double MeasuredHigh, double? ModelledRecall, double? ModelledLow, double? ModelledHigh, double Z, bool Flagged, string? Warning);
 
 /// <summary>Every unit's accuracy.</summary>
 /// <param name="CalibrationId">Calibration the modelled figures come from.</param>
@@ -61,6 +63,8 @@ public static class UnitAccuracyEndpoints
             var a = UnitOutcomes.Score(u.Id.ToString(), s.N, s.X, s.E, s.V, settings);
             return new UnitAccuracyResponse(u.Id, u.Name, u.ResolvingPower, a.Trials, a.Correct,
                 a.Trials > 0 ? a.Measured.Estimate : null, a.Measured.Low, a.Measured.High, a.Trials > 0 ? a.Modelled : null,
+                a.Trials > 0 ? Math.Max(0, (s.E - 1.96 * Math.Sqrt(s.V)) / s.N) : null,
+                a.Trials > 0 ? Math.Min(1, (s.E + 1.96 * Math.Sqrt(s.V)) / s.N) : null,
                 Math.Round(a.Z, 3), a.Flagged,
                 a.Flagged
                     ? FormattableString.Invariant($"{u.Name} named the final subtype in {a.Correct} of {a.Trials} spectra; the calibration expected {a.Modelled * a.Trials:0.#}. Its real accuracy looks worse than modelled.")

@@ -47,7 +47,7 @@ public sealed record CalibrationSettings
     public string Model { get; init; } = "linear";
 
     /// <summary>
-    /// Passes over the training fold for the "linear" and "lbfgs" classifiers; null: the classifier's default (10 SDCA passes
+    /// Passes over the training fold for the "linear" and "lbfgs" classifiers; null: the classifier's default (30 SDCA passes
     /// for "linear", docs/calibration.md "Classifier passes").
     /// </summary>
     public int? ClassifierPasses { get; init; }

@@ -10,18 +10,24 @@ namespace Triage.Storage.Candidates;
 // (migration 0075), so a batch of 5,000 candidates × 10 points writes 5,000 light-curve rows
 // instead of 50,000 point rows.
 //
-// Large batches: one binary COPY of the whole batch (candidates with their light curves) into a
-// transaction-scoped staging table, then one round trip of two statements:
-//   A. the candidate merge (INSERT … ON CONFLICT on the broker's id), their events, and the light
-//      curves of the candidates it created, copied straight from staging; the candidates it
-//      updated are noted in a second staging table;
+// Large batches: one probe reads which of the batch's broker ids are stored and the hash of
+// their last submission. Candidates never sent before go straight into candidates,
+// candidate_events and candidate_light_curves with three binary COPYs (PostgreSQL writes COPY
+// rows in buffered groups). Candidates sent with the same content are left alone (unchanged).
+// Only those sent before with other content are merged: one COPY into a transaction-scoped
+// staging table, then one round trip of two statements:
+//   A. the candidate merge (INSERT … ON CONFLICT on the broker's id, which also re-checks the
+//      hash and the older-snapshot rule under the row lock), their events, and the light curves
+//      of any candidates it created; the candidates it updated are noted in a second staging table;
 //   C. the stored light curves of those updated candidates.
-// Only when some candidates were updated: the client merges their curves with the incoming points
-// (StoredLightCurve.Merge) and writes them back with a second COPY and one upsert (D).
+// The client merges those curves with the incoming points (StoredLightCurve.Merge) and writes them
+// back with a second COPY and one upsert (D).
 // Small batches skip the staging tables: A reads array parameters, C reads the updated
 // candidates' curves by id, and the new and merged curves go back as one batch of upserts.
 //
-// Exactly-once: A takes the lock of every candidate row it inserts or updates (and waits for a
+// Exactly-once: a fresh candidate's COPY is refused by the unique broker-id key when a
+// concurrent batch created it first (after waiting for that commit); the transaction rolls back
+// and the batch is retried, now finding it stored. A takes the lock of every candidate row it inserts or updates (and waits for a
 // concurrent batch holding one), and only the holder of that lock writes the candidate's light
 // curve. C runs as its own statement after A, so its snapshot already holds whatever a
 // concurrent batch committed for those candidates before A got their locks: no point is lost
@@ -160,7 +166,10 @@ public sealed partial class CandidateStore
     private static readonly string MergeCandidatesFromArraysSql = "WITH " + StageFromArrays + Fill(CandidateMergeSql, "stage_candidates_typed") +
         "SELECT n::int AS N, id AS Id, inserted AS Inserted FROM changed";
 
-    /// <summary>Stores a validated batch for one broker, all or nothing. Retries a deadlock or serialization failure twice.</summary>
+    /// <summary>
+    /// Stores a validated batch for one broker, all or nothing. Retries twice after a deadlock, a
+    /// serialization failure, or a concurrent batch creating one of its new candidates first.
+    /// </summary>
     public async Task<IntakeSummary> UpsertBatchAsync(string broker, IReadOnlyList<CandidateIntake> batch, DateTimeOffset now, CancellationToken ct = default)
     {
         for (int attempt = 0; ; attempt++)
@@ -169,51 +178,137 @@ public sealed partial class CandidateStore
             {
                 return batch.Count <= ArrayPathMaxCandidates
                     ? await UpsertFromArraysAsync(broker, batch, now, ct)
-                    : await UpsertThroughStagingAsync(broker, batch, now, ct);
+                    : await UpsertLargeAsync(broker, batch, now, ct);
             }
-            catch (PostgresException ex) when (attempt < 2 && ex.SqlState is PostgresErrorCodes.DeadlockDetected or PostgresErrorCodes.SerializationFailure)
+            catch (PostgresException ex) when (attempt < 2 && (ex.SqlState is PostgresErrorCodes.DeadlockDetected or PostgresErrorCodes.SerializationFailure
+                || ex is { SqlState: PostgresErrorCodes.UniqueViolation, ConstraintName: "candidates_broker_id" }))
             {
                 await Task.Delay(20 * (attempt + 1), ct);
             }
         }
     }
 
-    private async Task<IntakeSummary> UpsertThroughStagingAsync(string broker, IReadOnlyList<CandidateIntake> batch, DateTimeOffset now, CancellationToken ct)
+    // Which of the batch's candidates the broker has sent before, and the hash of what it sent last.
+    private const string ProbeSql = """
+        SELECT broker_candidate_id, content_hash FROM candidates WHERE broker = @broker AND broker_candidate_id = ANY(@cids)
+        """;
+
+    private const string CandidateCopyColumns =
+        "id, broker_candidate_id, ra_deg, dec_deg, ux, uy, uz, discovered_at, redshift, redshift_error, " +
+        "subtype_probabilities, science_weight, notes, broker_state, content_hash, peak_flux_microjy, newest_observed_at";
+
+    private async Task<IntakeSummary> UpsertLargeAsync(string broker, IReadOnlyList<CandidateIntake> batch, DateTimeOffset now, CancellationToken ct)
     {
         await using var conn = await dataSource.OpenConnectionAsync(ct);
         await using var tx = await conn.BeginTransactionAsync(ct);
-        await conn.ExecuteAsync(new CommandDefinition(CreateStagingSql, transaction: tx, cancellationToken: ct));
+        var known = (await conn.QueryAsync<(string Id, byte[] Hash)>(new CommandDefinition(ProbeSql,
+                new { broker, cids = batch.Select(b => b.Candidate.Id).ToArray() }, tx, cancellationToken: ct)))
+            .ToDictionary(k => k.Id, k => k.Hash, StringComparer.Ordinal);
+        // Candidates never sent before are copied straight into the tables; those sent with other
+        // content go through the merge; those sent with the same content are left alone.
+        var fresh = batch.Where(b => !known.ContainsKey(b.Candidate.Id)).OrderBy(b => b.Candidate.Id, StringComparer.Ordinal).ToList();
+        var differing = batch.Where(b => known.TryGetValue(b.Candidate.Id, out var hash) && !hash.AsSpan().SequenceEqual(b.ContentHash)).ToList();
+        int written = fresh.Count == 0 ? 0 : await CopyFreshAsync(conn, broker, fresh, now, ct);
+        var (created, updated, merged) = differing.Count == 0 ? (0, 0, 0) : await MergeThroughStagingAsync(conn, tx, broker, differing, now, ct);
+        await tx.CommitAsync(ct);
+        return new IntakeSummary(batch.Count, fresh.Count + created, updated, batch.Count - fresh.Count - created - updated, written + merged);
+    }
 
+    /// <summary>
+    /// Candidates the probe found absent: binary COPY straight into candidates, candidate_events
+    /// and candidate_light_curves (PostgreSQL inserts COPY rows in buffered groups, much cheaper
+    /// than row-by-row INSERT … ON CONFLICT). A concurrent batch that creates one of them first
+    /// makes the unique broker-id key refuse this COPY (after waiting for its commit): the whole
+    /// transaction rolls back and the batch is retried, now finding them present. Rows go in
+    /// broker-id order, so two such batches meet their common ids in the same order.
+    /// </summary>
+    private static async Task<int> CopyFreshAsync(NpgsqlConnection conn, string broker, IReadOnlyList<CandidateIntake> fresh, DateTimeOffset now, CancellationToken ct)
+    {
+        var ids = NewIds(fresh.Count, now);
+        var at = now.UtcDateTime;
         await using (var copy = await conn.BeginBinaryImportAsync(
-            "COPY stage_candidates (n, id, broker_candidate_id, ra_deg, dec_deg, ux, uy, uz, discovered_at, redshift, redshift_error, " +
-            "subtype_probabilities, science_weight, notes, broker_state, content_hash, peak_flux_microjy, newest_observed_at, " +
-            LightCurveColumns + ") FROM STDIN (FORMAT BINARY)", ct))
+            $"COPY candidates ({CandidateCopyColumns}, broker, created_at, updated_at) FROM STDIN (FORMAT BINARY)", ct))
+        {
+            for (int n = 0; n < fresh.Count; n++)
+            {
+                copy.StartRow();
+                WriteCandidate(copy, ids[n], fresh[n]);
+                copy.Write(broker, NpgsqlDbType.Text);
+                copy.Write(at, NpgsqlDbType.TimestampTz);
+                copy.Write(at, NpgsqlDbType.TimestampTz);
+            }
+            await copy.CompleteAsync(ct);
+        }
+        await using (var copy = await conn.BeginBinaryImportAsync("COPY candidate_events (candidate_id, at, kind, actor) FROM STDIN (FORMAT BINARY)", ct))
+        {
+            foreach (var id in ids)
+            {
+                copy.StartRow();
+                copy.Write(id, NpgsqlDbType.Uuid);
+                copy.Write(at, NpgsqlDbType.TimestampTz);
+                copy.Write("created", NpgsqlDbType.Text);
+                copy.Write(broker, NpgsqlDbType.Text);
+            }
+            await copy.CompleteAsync(ct);
+        }
+        int points = 0;
+        await using (var copy = await conn.BeginBinaryImportAsync($"COPY candidate_light_curves (candidate_id, {LightCurveColumns}) FROM STDIN (FORMAT BINARY)", ct))
+        {
+            for (int n = 0; n < fresh.Count; n++)
+            {
+                copy.StartRow();
+                copy.Write(ids[n], NpgsqlDbType.Uuid);
+                StoredLightCurve.Of(fresh[n].Candidate.Photometry).WriteTo(copy);
+                points += fresh[n].Candidate.Photometry.Count;
+            }
+            await copy.CompleteAsync(ct);
+        }
+        return points;
+    }
+
+    /// <summary>The candidate columns of <see cref="CandidateCopyColumns"/>, in that order.</summary>
+    private static void WriteCandidate(NpgsqlBinaryImporter copy, Guid id, CandidateIntake intake)
+    {
+        var (c, hash) = intake;
+        var (x, y, z) = UnitVector(c.RaDeg, c.DecDeg);
+        copy.Write(id, NpgsqlDbType.Uuid);
+        copy.Write(c.Id, NpgsqlDbType.Text);
+        copy.Write(c.RaDeg, NpgsqlDbType.Double);
+        copy.Write(c.DecDeg, NpgsqlDbType.Double);
+        copy.Write(x, NpgsqlDbType.Double);
+        copy.Write(y, NpgsqlDbType.Double);
+        copy.Write(z, NpgsqlDbType.Double);
+        copy.Write(c.DiscoveredUtc.UtcDateTime, NpgsqlDbType.TimestampTz);
+        WriteNullable(copy, c.Redshift);
+        WriteNullable(copy, c.RedshiftError);
+        WriteNullable(copy, c.SubtypeProbabilities is null ? null : JsonSerializer.Serialize(c.SubtypeProbabilities), NpgsqlDbType.Jsonb);
+        copy.Write(c.ScienceWeight, NpgsqlDbType.Double);
+        WriteNullable(copy, c.Notes, NpgsqlDbType.Text);
+        WriteNullable(copy, c.BrokerState is null ? null : JsonSerializer.Serialize(c.BrokerState, BrokerBatchJson.Options), NpgsqlDbType.Jsonb);
+        copy.Write(hash, NpgsqlDbType.Bytea);
+        WriteNullable(copy, PeakFlux(c));
+        copy.Write(NewestObservation(c), NpgsqlDbType.TimestampTz);
+    }
+
+    /// <summary>
+    /// Candidates sent before with other content: staged and merged under their row locks (A),
+    /// their stored curves read (C) and merged with the incoming points (D). Answers created
+    /// (a candidate deleted since the probe), updated, and points written.
+    /// </summary>
+    private static async Task<(int Created, int Updated, int Written)> MergeThroughStagingAsync(
+        NpgsqlConnection conn, NpgsqlTransaction tx, string broker, IReadOnlyList<CandidateIntake> batch, DateTimeOffset now, CancellationToken ct)
+    {
+        await conn.ExecuteAsync(new CommandDefinition(CreateStagingSql, transaction: tx, cancellationToken: ct));
+        await using (var copy = await conn.BeginBinaryImportAsync(
+            $"COPY stage_candidates (n, {CandidateCopyColumns}, {LightCurveColumns}) FROM STDIN (FORMAT BINARY)", ct))
         {
             var ids = NewIds(batch.Count, now);
             for (int n = 0; n < batch.Count; n++)
             {
-                var (c, hash) = batch[n];
-                var (x, y, z) = UnitVector(c.RaDeg, c.DecDeg);
                 copy.StartRow();
                 copy.Write(n, NpgsqlDbType.Integer);
-                copy.Write(ids[n], NpgsqlDbType.Uuid);
-                copy.Write(c.Id, NpgsqlDbType.Text);
-                copy.Write(c.RaDeg, NpgsqlDbType.Double);
-                copy.Write(c.DecDeg, NpgsqlDbType.Double);
-                copy.Write(x, NpgsqlDbType.Double);
-                copy.Write(y, NpgsqlDbType.Double);
-                copy.Write(z, NpgsqlDbType.Double);
-                copy.Write(c.DiscoveredUtc.UtcDateTime, NpgsqlDbType.TimestampTz);
-                WriteNullable(copy, c.Redshift);
-                WriteNullable(copy, c.RedshiftError);
-                WriteNullable(copy, c.SubtypeProbabilities is null ? null : JsonSerializer.Serialize(c.SubtypeProbabilities), NpgsqlDbType.Jsonb);
-                copy.Write(c.ScienceWeight, NpgsqlDbType.Double);
-                WriteNullable(copy, c.Notes, NpgsqlDbType.Text);
-                WriteNullable(copy, c.BrokerState is null ? null : JsonSerializer.Serialize(c.BrokerState, BrokerBatchJson.Options), NpgsqlDbType.Jsonb);
-                copy.Write(hash, NpgsqlDbType.Bytea);
-                WriteNullable(copy, PeakFlux(c));
-                copy.Write(NewestObservation(c), NpgsqlDbType.TimestampTz);
-                StoredLightCurve.Of(c.Photometry).WriteTo(copy);
+                WriteCandidate(copy, ids[n], batch[n]);
+                StoredLightCurve.Of(batch[n].Candidate.Photometry).WriteTo(copy);
             }
             await copy.CompleteAsync(ct);
         }
@@ -262,8 +357,7 @@ public sealed partial class CandidateStore
             }
             await conn.ExecuteAsync(new CommandDefinition(StoreMergedCurvesSql, transaction: tx, cancellationToken: ct));
         }
-        await tx.CommitAsync(ct);
-        return new IntakeSummary(batch.Count, created, updated, batch.Count - created - updated, written);
+        return (created, updated, written);
     }
 
     private sealed record ChangedCandidate(int N, Guid Id, bool Inserted);

@@ -62,8 +62,8 @@ public sealed partial class CandidateStore
 
     /// <summary>
     /// Ids of the candidates in one of <paramref name="states"/> created at or after <paramref name="since"/>, most
-    /// recent first, at most <paramref name="limit"/> (a row is never updated before it is created, so the
-    /// <c>updated_at</c> index narrows the scan).
+    /// recent first, at most <paramref name="limit"/> (read through the <c>created_at</c> index of step 0077;
+    /// a row is never updated before it is created, so the <c>updated_at</c> condition only restates that).
     /// </summary>
     public async Task<IReadOnlyList<Guid>> CreatedSinceAsync(IReadOnlyCollection<CandidateState> states, DateTimeOffset since, int limit, CancellationToken ct = default)
     {

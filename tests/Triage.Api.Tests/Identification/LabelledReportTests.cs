@@ -161,6 +161,9 @@ public sealed class LabelledReportTests(IsolatedDatabaseFactory api) : IClassFix
         Assert.Equal(0, (int)row["correct"]!);
         Assert.Equal(0.8, (double)row["modelledRecall"]!, 9);
         Assert.Equal(-8 / Math.Sqrt(1.6), (double)row["z"]!, 3);
+        // Under the model the recall of these ten trials lies in (8 ± 1.96·√1.6)/10 = 0.552 … 1.048 → 1 (95 %).
+        Assert.Equal((8 - 1.96 * Math.Sqrt(1.6)) / 10, (double)row["modelledLow"]!, 9);
+        Assert.Equal(1, (double)row["modelledHigh"]!, 9);
         Assert.True((bool)row["flagged"]!);
         Assert.Contains("worse than modelled", (string)row["warning"]!, StringComparison.Ordinal);
         Assert.Equal(0, (double)row["measuredLow"]!, 9);
