@@ -99,6 +99,7 @@ public sealed class PlanJobHandler(
         {
             Objective = input.Objective,
             BusyUntilUtc = start.BusyUntilUtc,
+            RemainingBudgetSeconds = NightReplan.RemainingBudget(previous, from, NightReplan.DefaultFreeze),
             Previous = start.Anchors,
             Closures = NightOperationsStore.ForPlanner(closures),
             Conditions = NightOperationsStore.ForPlanner(conditions),

@@ -16,8 +16,9 @@ namespace Triage.Api.Replanning;
 /// unit's time than that time is worth in the active version (<see cref="ArrivalValue"/>). Intake calls
 /// <see cref="Notice"/>; after <see cref="ReplanOptions.Debounce"/> of quiet (and at least every
 /// <see cref="ReplanOptions.ArrivalPoll"/>, which also catches intake on other replicas) the candidates created since
-/// the last look and still new are fitted and valued from now against every night that has a plan and contains now at
-/// some site. Candidates a version dropped (back to new) are not arrivals: the planner has just weighed them.
+/// the last look, after the night's active version was computed, and still new are fitted and valued from now against
+/// every night that has a plan and contains now at some site. Candidates the active version weighed (also those it
+/// dropped back to new) are not arrivals.
 /// </summary>
 public sealed class ArrivalWatch(
     CandidateStore candidates,
@@ -103,7 +104,7 @@ public sealed class ArrivalWatch(
         }
     }
 
-    private async Task ValueAsync(IReadOnlyList<Guid> ids, DateTimeOffset now, CancellationToken ct)
+    private async Task ValueAsync(IReadOnlyList<(Guid Id, DateTimeOffset CreatedAt)> created, DateTimeOffset now, CancellationToken ct)
     {
         var sites = (await roster.ListSitesAsync(new SiteFilter(), ct)).Select(v => v.Value).ToList();
         var spectrographs = (await roster.ListSpectrographsAsync(new SpectrographFilter(), ct)).Select(v => v.Value).ToList();
@@ -120,12 +121,20 @@ public sealed class ArrivalWatch(
                 return;
             }
 
-            targets ??= await ForecastsAsync(ids, calibration.Surface, calibration.ReferenceWavelength, ct);
+            // Only candidates created after the active version read its pool are arrivals: it weighed the others.
             var active = PlanJson.Deserialize(latest.BodyJson);
+            var computed = active.GeneratedUtc ?? latest.Row.CreatedAt;
+            var arrivals = created.Where(c => c.CreatedAt > computed).Select(c => c.Id).ToHashSet();
+            if (arrivals.Count == 0)
+            {
+                continue;
+            }
+
+            targets ??= await ForecastsAsync(created.Select(c => c.Id).ToList(), calibration.Surface, calibration.ReferenceWavelength, ct);
             var nightStart = new DateTimeOffset(night.ToDateTime(TimeOnly.MinValue), TimeSpan.Zero);
             var closures = await operations.ClosuresAsync(nightStart.AddHours(-12), nightStart.AddDays(2), null, ct);
             var conditions = await operations.ConditionsAtAsync(now, null, ct);
-            var built = NightProblemBuilder.Build(sites, spectrographs, targets, calibration.Surface, night, now, new NightBuildSettings
+            var built = NightProblemBuilder.Build(sites, spectrographs, targets.Where(t => arrivals.Contains(Guid.Parse(t.Id))).ToList(), calibration.Surface, night, now, new NightBuildSettings
             {
                 Objective = active.Objective,
                 Closures = NightOperationsStore.ForPlanner(closures),

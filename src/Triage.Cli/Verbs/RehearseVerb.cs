@@ -154,6 +154,7 @@ internal static class RehearseVerb
             var built = NightProblemBuilder.Build(sites, spectrographs, targets, surface, night, t, new NightBuildSettings
             {
                 BusyUntilUtc = split.BusyUntilUtc,
+                RemainingBudgetSeconds = NightReplan.RemainingBudget(plan, t, NightReplan.DefaultFreeze),
                 Previous = split.Anchors,
                 StabilityShare = stability,
             });

@@ -47,6 +47,12 @@ public sealed record NightBuildSettings
     /// </summary>
     public IReadOnlyDictionary<Guid, DateTimeOffset>? BusyUntilUtc { get; init; }
 
+    /// <summary>
+    /// Replanning: per spectrograph, the part of tonight's budget still free (the nightly budget less what earlier
+    /// versions' work under way or over used), s ≥ 0; a unit not listed has its whole nightly budget. Default none.
+    /// </summary>
+    public IReadOnlyDictionary<Guid, double>? RemainingBudgetSeconds { get; init; }
+
     /// <summary>Spans when a site or one unit is closed (weather, engineering, another programme): hard constraints. Default none.</summary>
     public IReadOnlyList<UnitClosure> Closures { get; init; } = [];
 
@@ -325,8 +331,13 @@ public static class NightProblemBuilder
                 continue;
             }
 
-            units.Add(new PlanningUnit(sg.Id.ToString(), sg.Name, site.Name, sg.ResolvingPower, available,
-                Math.Max(0, sg.NightlyBudgetHours * 3600), sg.CostPerHour));
+            var budget = Math.Max(0, sg.NightlyBudgetHours * 3600);
+            if (settings.RemainingBudgetSeconds is { } remaining && remaining.TryGetValue(sg.Id, out var left))
+            {
+                budget = Math.Clamp(left, 0, budget);
+            }
+
+            units.Add(new PlanningUnit(sg.Id.ToString(), sg.Name, site.Name, sg.ResolvingPower, available, budget, sg.CostPerHour));
             unitRoster.Add((site, sg));
             nightSpans.Add(new SecondsWindow(Seconds(d.StartUtc) + margin, Seconds(d.EndUtc) - margin));
             closedSpans.Add(settings.Closures

@@ -58,6 +58,29 @@ public static class NightReplan
         return new ReplanStart(kept, anchors, busy);
     }
 
+    /// <summary>
+    /// Per unit of <paramref name="previous"/>, the budget still free for a replan at <paramref name="fromUtc"/>: the
+    /// previous version's budget (already net of what came before it) less the durations of its own entries that start
+    /// before <paramref name="fromUtc"/> + <paramref name="freeze"/> (over, under way or kept), so that a replan never
+    /// gets back time the night has already spent.
+    /// </summary>
+    public static IReadOnlyDictionary<Guid, double> RemainingBudget(NightPlan? previous, DateTimeOffset fromUtc, TimeSpan freeze)
+    {
+        var result = new Dictionary<Guid, double>();
+        foreach (var q in previous?.Spectrographs ?? [])
+        {
+            if (!Guid.TryParse(q.SpectrographId, out var id))
+            {
+                continue;
+            }
+
+            var spent = q.Queue.Where(e => !e.KeptFromPrevious && e.StartUtc <= fromUtc + freeze).Sum(e => (e.EndUtc - e.StartUtc).TotalSeconds);
+            result[id] = Math.Max(0, q.BudgetSeconds - spent);
+        }
+
+        return result;
+    }
+
     /// <summary>The new plan with the kept entries put back in their queues (marked as kept).</summary>
     public static NightPlan WithKept(NightPlan plan, IReadOnlyList<UnitEntry> kept)
     {

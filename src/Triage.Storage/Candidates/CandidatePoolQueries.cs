@@ -61,18 +61,17 @@ public sealed partial class CandidateStore
     }
 
     /// <summary>
-    /// Ids of the candidates in one of <paramref name="states"/> created at or after <paramref name="since"/>, most
-    /// recent first, at most <paramref name="limit"/> (read through the <c>created_at</c> index of step 0077;
-    /// a row is never updated before it is created, so the <c>updated_at</c> condition only restates that).
+    /// The candidates in one of <paramref name="states"/> created at or after <paramref name="since"/> (id and creation
+    /// instant), most recent first, at most <paramref name="limit"/> (through the <c>candidates_created</c> index).
     /// </summary>
-    public async Task<IReadOnlyList<Guid>> CreatedSinceAsync(IReadOnlyCollection<CandidateState> states, DateTimeOffset since, int limit, CancellationToken ct = default)
+    public async Task<IReadOnlyList<(Guid Id, DateTimeOffset CreatedAt)>> CreatedSinceAsync(IReadOnlyCollection<CandidateState> states, DateTimeOffset since, int limit, CancellationToken ct = default)
     {
         ArgumentNullException.ThrowIfNull(states);
         await using var conn = await dataSource.OpenConnectionAsync(ct);
-        var ids = await conn.QueryAsync<Guid>(new CommandDefinition(
-            "SELECT id FROM candidates WHERE updated_at >= @since AND created_at >= @since AND state = ANY(@states) ORDER BY created_at DESC, id LIMIT @limit",
+        var rows = await conn.QueryAsync<(Guid, DateTime)>(new CommandDefinition(
+            "SELECT id, created_at FROM candidates WHERE created_at >= @since AND state = ANY(@states) ORDER BY created_at DESC, id LIMIT @limit",
             new { since, states = states.Select(CandidateLifecycle.Name).ToArray(), limit }, cancellationToken: ct));
-        return ids.ToList();
+        return rows.Select(r => (r.Item1, Utc.From(r.Item2))).ToList();
     }
 
     private const string ByIdsSql = $"""

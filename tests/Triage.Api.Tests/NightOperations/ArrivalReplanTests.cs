@@ -18,6 +18,7 @@ public sealed class ArrivalReplanTests(NightClockFactory api) : IClassFixture<Ni
         var (scheduler, _, _, _) = await api.ArrangeDemoAsync();
         var watch = api.Services.GetRequiredService<ArrivalWatch>();
         var night = NightClockFactory.Night.ToString("yyyy-MM-dd");
+        api.Clock.Now = NightClockFactory.MidNight;
         await NightClockFactory.RunJobAsync(scheduler, await scheduler.PostAsync("/api/plans", Bodies.Raw(JsonSerializer.Serialize(new { night }))));
         var v1 = JsonDocument.Parse(await scheduler.GetStringAsync($"/api/plans/{night}")).RootElement;
 
