@@ -2,7 +2,12 @@ using System.Net;
 using Microsoft.Extensions.DependencyInjection;
 using System.Text.Json.Nodes;
 using Triage.Api.Tests.Infrastructure;
+using Triage.Core.Calibration;
+using Triage.Core.Candidates;
+using Triage.Core.Spectra;
+using Triage.Learning;
 using Triage.Storage.Access;
+using Triage.Storage.Calibrations;
 
 namespace Triage.Api.Tests.Candidates;
 
@@ -54,9 +59,29 @@ public sealed class CandidateLifecycleTests(TriageApiFactory api)
         return (string)(await (await reader.GetAsync($"/api/candidates/{id}")).ReadObjectAsync())["candidate"]!["state"]!;
     }
 
+    /// <summary>
+    /// A calibration whose every answer is right (diagonal confusion, each subtype its own broad class, so nothing is
+    /// shrunk): one labelled report then settles the subtype whatever the prior. Other classes of this collection leave
+    /// other calibrations active, so the lifecycle test activates its own.
+    /// </summary>
+    private static string CertainCalibrationJson()
+    {
+        var subtypes = DefaultSubtypeLabels.All.ToArray();
+        var bin = new PhaseBin("all-phases", -1000, 1000);
+        var cells = subtypes.Select(s => new CalibrationCell(s, 100, 10, bin.Name, 1, 1, 1, 1, 50, 50)).ToList();
+        var counts = subtypes.Select((_, i) => (IReadOnlyList<int>)subtypes.Select((_, j) => i == j ? 50 : 0).ToList()).ToList();
+        return CalibrationJson.Serialize(new AccuracyModelDocument("per resolution element", 6000, subtypes, [100], [10], [bin], cells,
+            [new ConfusionMatrix(100, 10, bin.Name, subtypes, counts)])
+        {
+            BroadClasses = subtypes.Select(s => new BroadClass("class-of-" + s, [s])).ToList(),
+        });
+    }
+
     [Fact]
     public async Task Lifecycle_PlannedObservedClassified_NotReplannedUnlessForced()
     {
+        await api.Services.GetRequiredService<CalibrationStore>().AddAsync(
+            new NewCalibration("imported", false, null, "test", null, null, CertainCalibrationJson()), true, DateTimeOffset.UtcNow);
         var id = await NewCandidateAsync();
         var scheduler = api.ClientWith(await api.KeyAsync(Scope.Scheduler));
         var (observatory, spectrograph) = await ObservatoryAsync();
