@@ -9,7 +9,8 @@ namespace Triage.Api.Candidates;
 /// <param name="CalibrationId">Calibration id.</param>
 /// <param name="Surface">Its accuracy surface (confusion channels with the planner's shrinkage).</param>
 /// <param name="BroadClasses">Broad classes a report may name.</param>
-public sealed record ActiveChannel(Guid CalibrationId, AccuracySurface Surface, IReadOnlyList<BroadClass> BroadClasses);
+/// <param name="SnrReferenceWavelengthAngstrom">Wavelength at which the calibration's S/N is stated, Å.</param>
+public sealed record ActiveChannel(Guid CalibrationId, AccuracySurface Surface, IReadOnlyList<BroadClass> BroadClasses, double SnrReferenceWavelengthAngstrom);
 
 /// <summary>
 /// Keeps the active calibration's surface parsed between reports: one cheap query per report
@@ -41,7 +42,7 @@ public sealed class IdentificationModel(CalibrationStore calibrations)
 
         var document = CalibrationJson.Deserialize(active.DocumentJson);
         var broad = document.BroadClasses.Count > 0 ? document.BroadClasses : Taxonomy.Default.Classes;
-        var fresh = new ActiveChannel(active.Row.Id, AccuracySurface.FromDocument(document), broad);
+        var fresh = new ActiveChannel(active.Row.Id, AccuracySurface.FromDocument(document), broad, document.SnrReferenceWavelengthAngstrom);
         _cached = fresh;
         return fresh;
     }

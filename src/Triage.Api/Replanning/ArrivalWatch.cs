@@ -3,7 +3,7 @@ using Triage.Core.Candidates;
 using Triage.Core.Planning;
 using Triage.Core.Sky;
 using Triage.Learning;
-using Triage.Storage.Calibrations;
+using Triage.Api.Candidates;
 using Triage.Storage.Candidates;
 using Triage.Storage.NightOperations;
 using Triage.Storage.Plans;
@@ -12,7 +12,7 @@ using Triage.Storage.Roster;
 namespace Triage.Api.Replanning;
 
 /// <summary>
-/// Asks for a replan when a candidate that arrived (or changed) after tonight's plan is worth more per hour of some
+/// Asks for a replan when a candidate that arrived after tonight's plan is worth more per hour of some
 /// unit's time than that time is worth in the active version (<see cref="ArrivalValue"/>). Intake calls
 /// <see cref="Notice"/>; after <see cref="ReplanOptions.Debounce"/> of quiet (and at least every
 /// <see cref="ReplanOptions.ArrivalPoll"/>, which also catches intake on other replicas) the candidates created since
@@ -22,7 +22,7 @@ namespace Triage.Api.Replanning;
 /// </summary>
 public sealed class ArrivalWatch(
     CandidateStore candidates,
-    CalibrationStore calibrations,
+    IdentificationModel calibration,
     RosterStore roster,
     PlanStore plans,
     NightOperationsStore operations,
@@ -36,7 +36,6 @@ public sealed class ArrivalWatch(
     private long _noticesSeen;
     private long _lastLookTimestamp = clock.GetTimestamp();
     private DateTimeOffset _watermark = clock.GetUtcNow();
-    private (Guid Id, AccuracySurface Surface, double ReferenceWavelength)? _calibration;
 
     /// <summary>Candidates were created or updated just now (called by intake after its commit).</summary>
     public void Notice()
@@ -116,31 +115,31 @@ public sealed class ArrivalWatch(
                 continue;
             }
 
-            if (await SurfaceAsync(ct) is not { } calibration)
+            if (await calibration.GetAsync(ct) is not { } active)
             {
                 return;
             }
 
             // Only candidates created after the active version read its pool are arrivals: it weighed the others.
-            var active = PlanJson.Deserialize(latest.BodyJson);
-            var computed = active.GeneratedUtc ?? latest.Row.CreatedAt;
+            var plan = PlanJson.Deserialize(latest.BodyJson);
+            var computed = plan.GeneratedUtc ?? latest.Row.CreatedAt;
             var arrivals = created.Where(c => c.CreatedAt > computed).Select(c => c.Id).ToHashSet();
             if (arrivals.Count == 0)
             {
                 continue;
             }
 
-            targets ??= await ForecastsAsync(created.Select(c => c.Id).ToList(), calibration.Surface, calibration.ReferenceWavelength, ct);
+            targets ??= await ForecastsAsync(created.Select(c => c.Id).ToList(), active.Surface, active.SnrReferenceWavelengthAngstrom, ct);
             var nightStart = new DateTimeOffset(night.ToDateTime(TimeOnly.MinValue), TimeSpan.Zero);
             var closures = await operations.ClosuresAsync(nightStart.AddHours(-12), nightStart.AddDays(2), null, ct);
             var conditions = await operations.ConditionsAtAsync(now, null, ct);
-            var built = NightProblemBuilder.Build(sites, spectrographs, targets.Where(t => arrivals.Contains(Guid.Parse(t.Id))).ToList(), calibration.Surface, night, now, new NightBuildSettings
+            var built = NightProblemBuilder.Build(sites, spectrographs, targets.Where(t => arrivals.Contains(Guid.Parse(t.Id))).ToList(), active.Surface, night, now, new NightBuildSettings
             {
-                Objective = active.Objective,
+                Objective = plan.Objective,
                 Closures = NightOperationsStore.ForPlanner(closures),
                 Conditions = NightOperationsStore.ForPlanner(conditions),
             });
-            var valuable = ArrivalValue.ExceedingMargin(built, active);
+            var valuable = ArrivalValue.ExceedingMargin(built, plan);
             if (valuable.Count == 0)
             {
                 continue;
@@ -156,22 +155,6 @@ public sealed class ArrivalWatch(
             replans.Request(night, "candidate", detail);
             log.LogInformation("Arrivals worth a replan of {Night}: {Detail}", night, detail);
         }
-    }
-
-    private async Task<(Guid Id, AccuracySurface Surface, double ReferenceWavelength)?> SurfaceAsync(CancellationToken ct)
-    {
-        if (await calibrations.GetAsync(null, ct) is not { } active)
-        {
-            return null;
-        }
-
-        if (_calibration is not { } cached || cached.Id != active.Row.Id)
-        {
-            var document = CalibrationJson.Deserialize(active.DocumentJson);
-            _calibration = cached = (active.Row.Id, AccuracySurface.FromDocument(document), document.SnrReferenceWavelengthAngstrom);
-        }
-
-        return cached;
     }
 
     private async Task<List<ITargetForecast>> ForecastsAsync(IReadOnlyList<Guid> ids, AccuracySurface surface, double referenceWavelength, CancellationToken ct)
