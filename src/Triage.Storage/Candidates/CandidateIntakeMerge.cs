@@ -1,7 +1,6 @@
 using System.Text.Json;
 using Dapper;
 using Npgsql;
-using NpgsqlTypes;
 using Triage.Core.Candidates;
 
 namespace Triage.Storage.Candidates;
@@ -188,10 +187,21 @@ public sealed partial class CandidateStore
         }
     }
 
-    // Which of the batch's candidates the broker has sent before, and the hash of what it sent last.
+    // Which of the batch's candidates the broker has sent before, and the hash of what it sent last:
+    // one look-up in the broker-id key per candidate. Written as a loop over the ids (the OFFSET 0
+    // keeps the subquery from being flattened into a join) because the equivalent
+    // "broker_candidate_id = ANY(@cids)" was planned as a parallel sequential scan of the whole
+    // table once it held ~100,000 candidates: 30–50 ms at 170,000 and growing with the table,
+    // against 5–13 ms for 5,000 index look-ups at any size (docs/operations.md, "Batch intake at scale").
     private const string ProbeSql = """
-        SELECT broker_candidate_id, content_hash FROM candidates WHERE broker = @broker AND broker_candidate_id = ANY(@cids)
+        SELECT k.cid, c.content_hash
+        FROM unnest(@cids::text[]) AS k(cid)
+        CROSS JOIN LATERAL (
+            SELECT content_hash FROM candidates WHERE broker = @broker AND broker_candidate_id = k.cid OFFSET 0) c
         """;
+
+    // The number of columns in CandidateCopyColumns.
+    private const short CandidateCopyFields = 17;
 
     private const string CandidateCopyColumns =
         "id, broker_candidate_id, ra_deg, dec_deg, ux, uy, uz, discovered_at, redshift, redshift_error, " +
@@ -226,68 +236,61 @@ public sealed partial class CandidateStore
     {
         var ids = NewIds(fresh.Count, now);
         var at = now.UtcDateTime;
-        await using (var copy = await conn.BeginBinaryImportAsync(
-            $"COPY candidates ({CandidateCopyColumns}, broker, created_at, updated_at) FROM STDIN (FORMAT BINARY)", ct))
+        var candidates = new PgCopyRows(fresh.Count * 256);
+        for (int n = 0; n < fresh.Count; n++)
         {
-            for (int n = 0; n < fresh.Count; n++)
-            {
-                copy.StartRow();
-                WriteCandidate(copy, ids[n], fresh[n]);
-                copy.Write(broker, NpgsqlDbType.Text);
-                copy.Write(at, NpgsqlDbType.TimestampTz);
-                copy.Write(at, NpgsqlDbType.TimestampTz);
-            }
-            await copy.CompleteAsync(ct);
+            candidates.StartRow(CandidateCopyFields + 3);
+            WriteCandidate(candidates, ids[n], fresh[n]);
+            candidates.Text(broker);
+            candidates.TimestampTz(at);
+            candidates.TimestampTz(at);
         }
-        await using (var copy = await conn.BeginBinaryImportAsync("COPY candidate_events (candidate_id, at, kind, actor) FROM STDIN (FORMAT BINARY)", ct))
+        await candidates.SendAsync(conn, $"COPY candidates ({CandidateCopyColumns}, broker, created_at, updated_at) FROM STDIN (FORMAT BINARY)", ct);
+        var events = new PgCopyRows(fresh.Count * 64);
+        foreach (var id in ids)
         {
-            foreach (var id in ids)
-            {
-                copy.StartRow();
-                copy.Write(id, NpgsqlDbType.Uuid);
-                copy.Write(at, NpgsqlDbType.TimestampTz);
-                copy.Write("created", NpgsqlDbType.Text);
-                copy.Write(broker, NpgsqlDbType.Text);
-            }
-            await copy.CompleteAsync(ct);
+            events.StartRow(4);
+            events.Uuid(id);
+            events.TimestampTz(at);
+            events.Text("created");
+            events.Text(broker);
         }
+        await events.SendAsync(conn, "COPY candidate_events (candidate_id, at, kind, actor) FROM STDIN (FORMAT BINARY)", ct);
         int points = 0;
-        await using (var copy = await conn.BeginBinaryImportAsync($"COPY candidate_light_curves (candidate_id, {LightCurveColumns}) FROM STDIN (FORMAT BINARY)", ct))
+        var curves = new PgCopyRows(fresh.Count * 1024);
+        for (int n = 0; n < fresh.Count; n++)
         {
-            for (int n = 0; n < fresh.Count; n++)
-            {
-                copy.StartRow();
-                copy.Write(ids[n], NpgsqlDbType.Uuid);
-                StoredLightCurve.Of(fresh[n].Candidate.Photometry).WriteTo(copy);
-                points += fresh[n].Candidate.Photometry.Count;
-            }
-            await copy.CompleteAsync(ct);
+            curves.StartRow(8);
+            curves.Uuid(ids[n]);
+            StoredLightCurve.Of(fresh[n].Candidate.Photometry).WriteTo(curves);
+            points += fresh[n].Candidate.Photometry.Count;
         }
+        await curves.SendAsync(conn, $"COPY candidate_light_curves (candidate_id, {LightCurveColumns}) FROM STDIN (FORMAT BINARY)", ct);
         return points;
     }
 
     /// <summary>The candidate columns of <see cref="CandidateCopyColumns"/>, in that order.</summary>
-    private static void WriteCandidate(NpgsqlBinaryImporter copy, Guid id, CandidateIntake intake)
+    private static void WriteCandidate(PgCopyRows copy, Guid id, CandidateIntake intake)
     {
         var (c, hash) = intake;
         var (x, y, z) = UnitVector(c.RaDeg, c.DecDeg);
-        copy.Write(id, NpgsqlDbType.Uuid);
-        copy.Write(c.Id, NpgsqlDbType.Text);
-        copy.Write(c.RaDeg, NpgsqlDbType.Double);
-        copy.Write(c.DecDeg, NpgsqlDbType.Double);
-        copy.Write(x, NpgsqlDbType.Double);
-        copy.Write(y, NpgsqlDbType.Double);
-        copy.Write(z, NpgsqlDbType.Double);
-        copy.Write(c.DiscoveredUtc.UtcDateTime, NpgsqlDbType.TimestampTz);
-        WriteNullable(copy, c.Redshift);
-        WriteNullable(copy, c.RedshiftError);
-        WriteNullable(copy, c.SubtypeProbabilities is null ? null : JsonSerializer.Serialize(c.SubtypeProbabilities), NpgsqlDbType.Jsonb);
-        copy.Write(c.ScienceWeight, NpgsqlDbType.Double);
-        WriteNullable(copy, c.Notes, NpgsqlDbType.Text);
-        WriteNullable(copy, c.BrokerState is null ? null : JsonSerializer.Serialize(c.BrokerState, BrokerBatchJson.Options), NpgsqlDbType.Jsonb);
-        copy.Write(hash, NpgsqlDbType.Bytea);
-        WriteNullable(copy, PeakFlux(c));
-        copy.Write(NewestObservation(c), NpgsqlDbType.TimestampTz);
+        copy.Uuid(id);
+        copy.Text(c.Id);
+        copy.Float8(c.RaDeg);
+        copy.Float8(c.DecDeg);
+        copy.Float8(x);
+        copy.Float8(y);
+        copy.Float8(z);
+        copy.TimestampTz(c.DiscoveredUtc.UtcDateTime);
+        copy.Float8(c.Redshift);
+        copy.Float8(c.RedshiftError);
+        copy.Jsonb(c.SubtypeProbabilities is null ? null : JsonSerializer.Serialize(c.SubtypeProbabilities));
+        copy.Float8(c.ScienceWeight);
+        copy.TextOrNull(c.Notes);
+        copy.Jsonb(c.BrokerState is null ? null : JsonSerializer.Serialize(c.BrokerState, BrokerBatchJson.Options));
+        copy.Bytea(hash);
+        copy.Float8(PeakFlux(c));
+        copy.TimestampTz(NewestObservation(c));
     }
 
     /// <summary>
@@ -299,19 +302,16 @@ public sealed partial class CandidateStore
         NpgsqlConnection conn, NpgsqlTransaction tx, string broker, IReadOnlyList<CandidateIntake> batch, DateTimeOffset now, CancellationToken ct)
     {
         await conn.ExecuteAsync(new CommandDefinition(CreateStagingSql, transaction: tx, cancellationToken: ct));
-        await using (var copy = await conn.BeginBinaryImportAsync(
-            $"COPY stage_candidates (n, {CandidateCopyColumns}, {LightCurveColumns}) FROM STDIN (FORMAT BINARY)", ct))
+        var staged = new PgCopyRows(batch.Count * 1280);
+        var ids = NewIds(batch.Count, now);
+        for (int n = 0; n < batch.Count; n++)
         {
-            var ids = NewIds(batch.Count, now);
-            for (int n = 0; n < batch.Count; n++)
-            {
-                copy.StartRow();
-                copy.Write(n, NpgsqlDbType.Integer);
-                WriteCandidate(copy, ids[n], batch[n]);
-                StoredLightCurve.Of(batch[n].Candidate.Photometry).WriteTo(copy);
-            }
-            await copy.CompleteAsync(ct);
+            staged.StartRow(1 + CandidateCopyFields + 7);
+            staged.Int4(n);
+            WriteCandidate(staged, ids[n], batch[n]);
+            StoredLightCurve.Of(batch[n].Candidate.Photometry).WriteTo(staged);
         }
+        await staged.SendAsync(conn, $"COPY stage_candidates (n, {CandidateCopyColumns}, {LightCurveColumns}) FROM STDIN (FORMAT BINARY)", ct);
 
         // A and C in one round trip, as two statements: C's snapshot is taken after A holds its locks.
         await using var merge = new NpgsqlBatch(conn, tx)
@@ -344,17 +344,14 @@ public sealed partial class CandidateStore
         if (merged.Count > 0)
         {
             // D: the merged curves of the updated candidates, in id order.
-            await using (var copy = await conn.BeginBinaryImportAsync(
-                $"COPY stage_merged (candidate_id, {LightCurveColumns}) FROM STDIN (FORMAT BINARY)", ct))
+            var rows = new PgCopyRows(merged.Count * 1024);
+            foreach (var (id, curve) in merged)
             {
-                foreach (var (id, curve) in merged)
-                {
-                    copy.StartRow();
-                    copy.Write(id, NpgsqlDbType.Uuid);
-                    curve.WriteTo(copy);
-                }
-                await copy.CompleteAsync(ct);
+                rows.StartRow(8);
+                rows.Uuid(id);
+                curve.WriteTo(rows);
             }
+            await rows.SendAsync(conn, $"COPY stage_merged (candidate_id, {LightCurveColumns}) FROM STDIN (FORMAT BINARY)", ct);
             await conn.ExecuteAsync(new CommandDefinition(StoreMergedCurvesSql, transaction: tx, cancellationToken: ct));
         }
         return (created, updated, written);
@@ -457,30 +454,6 @@ public sealed partial class CandidateStore
         }
         Array.Sort(ids, static (a, b) => a.CompareTo(b));
         return ids;
-    }
-
-    private static void WriteNullable(NpgsqlBinaryImporter copy, double? value)
-    {
-        if (value is { } v)
-        {
-            copy.Write(v, NpgsqlDbType.Double);
-        }
-        else
-        {
-            copy.WriteNull();
-        }
-    }
-
-    private static void WriteNullable(NpgsqlBinaryImporter copy, string? value, NpgsqlDbType type)
-    {
-        if (value is null)
-        {
-            copy.WriteNull();
-        }
-        else
-        {
-            copy.Write(value, type);
-        }
     }
 
     /// <summary>
