@@ -10,13 +10,14 @@ namespace Triage.Storage.Candidates;
 // instead of 50,000 point rows.
 //
 // Large batches: one probe reads which of the batch's broker ids are stored and the hash of
-// their last submission. Candidates never sent before go straight into candidates,
-// candidate_events and candidate_light_curves with three binary COPYs (PostgreSQL writes COPY
-// rows in buffered groups). Candidates sent with the same content are left alone (unchanged).
+// their last submission. Candidates never sent before go straight into candidates and
+// candidate_light_curves with two binary COPYs (PostgreSQL writes COPY rows in buffered groups;
+// the rows are encoded in memory by PgCopyRows). Their 'created' history event is read from the
+// candidate row itself (migration 0080), so nothing else is written for them. Candidates sent with the same content are left alone (unchanged).
 // Only those sent before with other content are merged: one COPY into a transaction-scoped
 // staging table, then one round trip of two statements:
 //   A. the candidate merge (INSERT … ON CONFLICT on the broker's id, which also re-checks the
-//      hash and the older-snapshot rule under the row lock), their events, and the light curves
+//      hash and the older-snapshot rule under the row lock), the updated ones' events, and the light curves
 //      of any candidates it created; the candidates it updated are noted in a second staging table;
 //   C. the stored light curves of those updated candidates.
 // The client merges those curves with the incoming points (StoredLightCurve.Merge) and writes them
@@ -52,7 +53,7 @@ public sealed partial class CandidateStore
         """;
 
     // Inserts new candidates and updates changed ones (content hash differs and the submission is
-    // not an older snapshot: its newest point is not earlier than the stored newest), writes their events,
+    // not an older snapshot: its newest point is not earlier than the stored newest), writes the updated ones' events,
     // and yields the candidates it touched: their ordinal n in the batch (via the staging rows),
     // stored id, and whether this statement created them. Rows are taken in broker-id order so
     // concurrent batches lock candidates in the same order.
@@ -76,8 +77,8 @@ public sealed partial class CandidateStore
               AND (candidates.newest_observed_at IS NULL OR EXCLUDED.newest_observed_at >= candidates.newest_observed_at)
             RETURNING id, broker_candidate_id, (xmax = 0) AS inserted
         ), events AS (
-            INSERT INTO candidate_events (candidate_id, at, kind, actor)
-            SELECT id, @now, CASE WHEN inserted THEN 'created' ELSE 'updated' END, @broker FROM up
+            INSERT INTO candidate_event_log (candidate_id, at, kind, actor)
+            SELECT id, @now, 'updated', @broker FROM up WHERE NOT inserted
         ), changed AS (
             SELECT up.id, up.inserted, s.n FROM up JOIN stage_candidates s ON s.broker_candidate_id = up.broker_candidate_id
         )
@@ -225,8 +226,8 @@ public sealed partial class CandidateStore
     }
 
     /// <summary>
-    /// Candidates the probe found absent: binary COPY straight into candidates, candidate_events
-    /// and candidate_light_curves (PostgreSQL inserts COPY rows in buffered groups, much cheaper
+    /// Candidates the probe found absent: binary COPY straight into candidates and
+    /// candidate_light_curves (PostgreSQL inserts COPY rows in buffered groups, much cheaper
     /// than row-by-row INSERT … ON CONFLICT). A concurrent batch that creates one of them first
     /// makes the unique broker-id key refuse this COPY (after waiting for its commit): the whole
     /// transaction rolls back and the batch is retried, now finding them present. Rows go in
@@ -246,16 +247,6 @@ public sealed partial class CandidateStore
             candidates.TimestampTz(at);
         }
         await candidates.SendAsync(conn, $"COPY candidates ({CandidateCopyColumns}, broker, created_at, updated_at) FROM STDIN (FORMAT BINARY)", ct);
-        var events = new PgCopyRows(fresh.Count * 64);
-        foreach (var id in ids)
-        {
-            events.StartRow(4);
-            events.Uuid(id);
-            events.TimestampTz(at);
-            events.Text("created");
-            events.Text(broker);
-        }
-        await events.SendAsync(conn, "COPY candidate_events (candidate_id, at, kind, actor) FROM STDIN (FORMAT BINARY)", ct);
         int points = 0;
         var curves = new PgCopyRows(fresh.Count * 1024);
         for (int n = 0; n < fresh.Count; n++)
