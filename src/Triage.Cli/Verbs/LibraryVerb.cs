@@ -88,7 +88,7 @@ internal static class LibraryVerb
                     $"OK: {lib.Spectra.Count} spectra of {lib.ObjectCount} objects, fingerprint {lib.Fingerprint()}"));
                 if (lib.WithoutRedshiftCount == 0) Console.WriteLine("Every row gives a redshift.");
                 else Console.WriteLine(string.Create(CultureInfo.InvariantCulture,
-                    $"{lib.WithoutRedshiftCount} of {lib.Spectra.Count} rows give no redshift ({lib.Spectra.Where(s => s.Redshift is null).Select(s => s.ObjectId).Distinct(StringComparer.Ordinal).Count()} objects); calibration estimates it from the spectrum."));
+                    $"{lib.WithoutRedshiftCount} of {lib.Spectra.Count} rows give no redshift (objects without one: {lib.Spectra.Where(s => s.Redshift is null).Select(s => s.ObjectId).Distinct(StringComparer.Ordinal).Count()}); calibration estimates it from the spectrum."));
                 return 0;
             }
             catch (LibraryImportException ex)
