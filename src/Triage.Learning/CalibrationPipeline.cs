@@ -22,6 +22,9 @@ public sealed record CalibrationTimings(TimeSpan Degrade, TimeSpan Features, Tim
 /// </summary>
 public static class CalibrationPipeline
 {
+    /// <summary>Spectra on one wavelength array (and source R) from which the degradation goes through a shared operator.</summary>
+    private const int MinSharedGrid = 8;
+
     /// <summary>Runs the calibration and returns the accuracy-model document.</summary>
     /// <param name="codeVersion">Version string of the calling build, recorded in the provenance.</param>
     /// <exception cref="ArgumentException">A grid R exceeds a spectrum's source resolution, or fewer than two subtypes.</exception>
@@ -84,13 +87,35 @@ public static class CalibrationPipeline
         double r = run.Resolutions[ri];
         var sw = Stopwatch.StartNew();
         var degraded = new (LogWavelengthGrid Grid, double[] W, double[] F, DegradedNoise Noise)[spectra.Count];
-        Parallel.For(0, spectra.Count, parallel, i =>
+        var degradeOptions = new DegradeOptions { PixelsPerElement = settings.PixelsPerElement };
+        // One operator per (wavelength array, source R) serves all of its spectra, in blocks the operator interleaves;
+        // a spectrum with few others on its grid is degraded step by step (building an operator costs a few degradations).
+        var alone = run.GridGroups.Where(g => g.Members.Length < MinSharedGrid).SelectMany(g => g.Members).ToArray();
+        Parallel.For(0, alone.Length, parallel, t =>
         {
+            int i = alone[t];
             var s = spectra[i];
-            var (grid, flux) = Degradation.Degrade(s.Spectrum, run.Bins[i], r, s.SourceResolution,
-                new DegradeOptions { PixelsPerElement = settings.PixelsPerElement });
+            var (grid, flux) = Degradation.Degrade(s.Spectrum, run.Bins[i], r, s.SourceResolution, degradeOptions);
             degraded[i] = (grid, grid.Centres(), flux, DegradedNoise.Account(s.Spectrum, run.InputNoise[i], s.SourceResolution, grid, flux, r));
         });
+        foreach (var group in run.GridGroups.Where(g => g.Members.Length >= MinSharedGrid))
+        {
+            var first = spectra[group.Members[0]];
+            var op = DegradationOperator.Build(first.Spectrum.WavelengthAngstrom, run.Bins[group.Members[0]], r, first.SourceResolution, degradeOptions);
+            var centres = op.Grid.Centres();
+            const int chunk = 64;
+            Parallel.For(0, (group.Members.Length + chunk - 1) / chunk, parallel, c =>
+            {
+                var members = group.Members.AsSpan(c * chunk, Math.Min(chunk, group.Members.Length - c * chunk)).ToArray();
+                var fluxes = op.Apply(members.Select(i => spectra[i].Spectrum.Flux).ToArray());
+                for (int t = 0; t < members.Length; t++)
+                {
+                    int i = members[t];
+                    var s = spectra[i];
+                    degraded[i] = (op.Grid, centres, fluxes[t], DegradedNoise.Account(s.Spectrum, run.InputNoise[i], s.SourceResolution, op.Grid, fluxes[t], r));
+                }
+            });
+        }
         var degradeTime = sw.Elapsed;
         // Rows without a redshift get one estimated from their own degraded, noised spectrum, by cross-correlation
         // with templates built from the spectra of known redshift that train the fold testing them (never from
@@ -297,11 +322,42 @@ public sealed class CalibrationRun
         PriorRedshift = known.Length == 0 ? 0 : known[known.Length / 2];
         Bins = new PixelBins[spectra.Count];
         InputNoise = new InputNoiseSources[spectra.Count];
+        // Spectra sampled at the same wavelengths with the same source R share their bins and, per R, one degradation operator.
+        var groups = new Dictionary<(double[] Wavelengths, double? Source), List<int>>(new GridKeyComparer());
+        for (int i = 0; i < spectra.Count; i++)
+        {
+            var key = (spectra[i].Spectrum.WavelengthAngstrom, spectra[i].SourceResolution);
+            if (!groups.TryGetValue(key, out var members)) groups[key] = members = [];
+            members.Add(i);
+        }
+        GridGroups = groups.Values.Select(m => new GridGroup(m.ToArray())).ToArray();
+        var groupOf = new int[spectra.Count];
+        for (int gi = 0; gi < GridGroups.Count; gi++) foreach (int i in GridGroups[gi].Members) groupOf[i] = gi;
+        var groupBins = new PixelBins[GridGroups.Count];
+        Parallel.For(0, GridGroups.Count, gi => groupBins[gi] = PixelBins.Of(spectra[GridGroups[gi].Members[0]].Spectrum.WavelengthAngstrom));
         Parallel.For(0, spectra.Count, i =>
         {
-            Bins[i] = PixelBins.Of(spectra[i].Spectrum.WavelengthAngstrom);
+            Bins[i] = groupBins[groupOf[i]];
             InputNoise[i] = InputNoiseSources.Of(spectra[i].Spectrum, spectra[i].NoiseFree);
         });
+    }
+
+    /// <summary>Spectra of the library (indices) sampled at one wavelength array with one source resolution.</summary>
+    internal sealed record GridGroup(int[] Members);
+
+    /// <summary>The spectra grouped by wavelength array and source resolution, each group in library order.</summary>
+    internal IReadOnlyList<GridGroup> GridGroups { get; }
+
+    private sealed class GridKeyComparer : IEqualityComparer<(double[] Wavelengths, double? Source)>
+    {
+        public bool Equals((double[] Wavelengths, double? Source) a, (double[] Wavelengths, double? Source) b) =>
+            Nullable.Equals(a.Source, b.Source) && (ReferenceEquals(a.Wavelengths, b.Wavelengths) || a.Wavelengths.AsSpan().SequenceEqual(b.Wavelengths));
+
+        public int GetHashCode((double[] Wavelengths, double? Source) k)
+        {
+            var w = k.Wavelengths;
+            return HashCode.Combine(w.Length, w.Length > 0 ? w[0] : 0, w.Length > 0 ? w[^1] : 0, w.Length > 1 ? w[w.Length / 2] : 0, k.Source);
+        }
     }
 
     /// <summary>The spectral library.</summary>

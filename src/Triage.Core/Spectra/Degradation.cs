@@ -68,48 +68,89 @@ public static class Degradation
     {
         ArgumentNullException.ThrowIfNull(input);
         options ??= new DegradeOptions();
+        var w = spectrum.WavelengthAngstrom;
+        if (input.Edges.Length != w.Length + 1) throw new ArgumentException("The bins belong to another wavelength array.", nameof(input));
+        var plan = Plan(w[0], w[^1], input, resolution, sourceResolution, options);
+        return (plan.Output, Apply(plan, input, spectrum.Flux));
+    }
+
+    /// <summary>
+    /// The steps of one degradation, decided once from the wavelengths and R: the output grid, whether the input is
+    /// returned as it is, the working grid (the input's own when it is uniform and fine enough) and the kernel σ in
+    /// working pixels (0: none). <see cref="Degrade(Spectrum, PixelBins, double, double?, DegradeOptions?)"/> and
+    /// <see cref="DegradationOperator"/> both follow it, so they cannot drift apart.
+    /// </summary>
+    internal static DegradePlan Plan(double firstAngstrom, double lastAngstrom, PixelBins input, double resolution, double? sourceResolution,
+        DegradeOptions options)
+    {
         if (!(resolution > 0) || double.IsInfinity(resolution))
             throw new ArgumentOutOfRangeException(nameof(resolution), resolution, "R must be positive and finite.");
         if (sourceResolution is double r0 && resolution > r0 * (1 + 1e-9))
             throw new ArgumentOutOfRangeException(nameof(resolution), resolution,
                 $"Cannot degrade to R = {resolution} above the source resolution R = {r0}.");
-        var w = spectrum.WavelengthAngstrom;
-        if (input.Edges.Length != w.Length + 1) throw new ArgumentException("The bins belong to another wavelength array.", nameof(input));
-        var outGrid = LogWavelengthGrid.ForResolution(w[0], w[^1], resolution, options.PixelsPerElement);
+        var outGrid = LogWavelengthGrid.ForResolution(firstAngstrom, lastAngstrom, resolution, options.PixelsPerElement);
 
         // Same R and the input already on the output grid: nothing to do.
         if (sourceResolution is double rs && Math.Abs(resolution / rs - 1) < 1e-9 && input.Uniform is { } same
             && Math.Abs(same.StepLn / outGrid.StepLn - 1) < 1e-6)
-            return (same, (double[])spectrum.Flux.Clone());
+            return new DegradePlan(same, true, same, true, 0, options.KernelHalfWidthSigma);
 
         double sigmaT = SigmaLn(resolution);
         double sourcePixel = sourceResolution is null ? 0 : input.StepLn;
         double sigmaS = sourceResolution is double rk ? SigmaLn(rk) : 0;
         double stepW = Math.Max(input.StepLn, sigmaT / 4);
         LogWavelengthGrid work;
-        double[] g;
+        bool workIsInput;
         if (input.Uniform is { } uniform && stepW <= input.StepLn * (1 + 1e-6))
         {
             work = uniform;
-            g = (double[])spectrum.Flux.Clone();
-            stepW = work.StepLn;
+            workIsInput = true;
         }
         else
         {
             work = LogWavelengthGrid.WithCount(input.FirstEdge, input.LastEdge, Math.Max(2, (int)Math.Floor(Math.Log(input.LastEdge / input.FirstEdge) / stepW)));
-            stepW = work.StepLn;
-            g = FluxRebinning.BinsToGrid(input.Edges, spectrum.Flux, work);
+            workIsInput = false;
         }
+        stepW = work.StepLn;
         double sigmaK2 = sigmaT * sigmaT - sigmaS * sigmaS - sourcePixel * sourcePixel / 12 - stepW * stepW / 12
                          - Math.Max(0, stepW * stepW - input.StepLn * input.StepLn) / 12;
-        if (sigmaK2 > 0)
+        return new DegradePlan(outGrid, false, work, workIsInput, sigmaK2 > 0 ? Math.Sqrt(sigmaK2) / stepW : 0, options.KernelHalfWidthSigma);
+    }
+
+    /// <summary>The degradation of <paramref name="flux"/> (on the bins <paramref name="input"/>) step by step as <paramref name="plan"/> says.</summary>
+    internal static double[] Apply(DegradePlan plan, PixelBins input, double[] flux)
+    {
+        if (plan.Identity) return (double[])flux.Clone();
+        var work = plan.Work;
+        double[] g = plan.WorkIsInput ? (double[])flux.Clone() : FluxRebinning.BinsToGrid(input.Edges, flux, work);
+        if (plan.KernelSigmaPixels > 0)
         {
             var centres = work.Centres();
             for (int i = 0; i < g.Length; i++) g[i] *= centres[i];
-            g = Convolve(g, Math.Sqrt(sigmaK2) / stepW, options.KernelHalfWidthSigma);
+            g = Convolve(g, plan.KernelSigmaPixels, plan.KernelHalfWidthSigma);
             for (int i = 0; i < g.Length; i++) g[i] /= centres[i];
         }
-        return (outGrid, FluxRebinning.BinsToGrid(work, g, outGrid));
+        return FluxRebinning.BinsToGrid(work, g, plan.Output);
+    }
+
+    /// <summary>
+    /// The discrete kernel of <see cref="Convolve"/>: a Gaussian of σ = <paramref name="sigmaPixels"/> pixels sampled and
+    /// truncated at ± <paramref name="halfWidthSigma"/> σ, normalised to unit sum, for σ ≥ 0.7; the variance-matched
+    /// three-tap kernel [a, 1 − 2a, a], a = σ²/2, below. Its length is odd; the middle tap is the centre.
+    /// </summary>
+    public static double[] Kernel(double sigmaPixels, double halfWidthSigma = 5)
+    {
+        if (sigmaPixels < 0.7)
+        {
+            double a = sigmaPixels * sigmaPixels / 2;
+            return [a, 1 - 2 * a, a];
+        }
+        int h = Math.Max(1, (int)Math.Ceiling(halfWidthSigma * sigmaPixels));
+        var kernel = new double[2 * h + 1];
+        double sum = 0;
+        for (int j = -h; j <= h; j++) sum += kernel[j + h] = Math.Exp(-0.5 * j * j / (sigmaPixels * sigmaPixels));
+        for (int j = 0; j < kernel.Length; j++) kernel[j] /= sum;
+        return kernel;
     }
 
     /// <summary>
@@ -120,20 +161,7 @@ public static class Degradation
     /// </summary>
     public static double[] Convolve(double[] values, double sigmaPixels, double halfWidthSigma = 5)
     {
-        double[] kernel;
-        if (sigmaPixels < 0.7)
-        {
-            double a = sigmaPixels * sigmaPixels / 2;
-            kernel = [a, 1 - 2 * a, a];
-        }
-        else
-        {
-            int h = Math.Max(1, (int)Math.Ceiling(halfWidthSigma * sigmaPixels));
-            kernel = new double[2 * h + 1];
-            double sum = 0;
-            for (int j = -h; j <= h; j++) sum += kernel[j + h] = Math.Exp(-0.5 * j * j / (sigmaPixels * sigmaPixels));
-            for (int j = 0; j < kernel.Length; j++) kernel[j] /= sum;
-        }
+        var kernel = Kernel(sigmaPixels, halfWidthSigma);
         int half = kernel.Length / 2, n = values.Length;
         var result = new double[n];
         bool anyNaN = Array.Exists(values, double.IsNaN);
@@ -173,6 +201,16 @@ public static class Degradation
     }
 
 }
+
+/// <summary>The steps of one degradation (see <see cref="Degradation.Plan"/>).</summary>
+/// <param name="Output">The output grid.</param>
+/// <param name="Identity">True when the input is returned as it is (same R, already on the output grid).</param>
+/// <param name="Work">The working grid the kernel acts on.</param>
+/// <param name="WorkIsInput">True when the working grid is the input's own (no binning onto it).</param>
+/// <param name="KernelSigmaPixels">σ of the kernel in working pixels; 0: no convolution.</param>
+/// <param name="KernelHalfWidthSigma">Truncation of the kernel in units of σ.</param>
+internal readonly record struct DegradePlan(LogWavelengthGrid Output, bool Identity, LogWavelengthGrid Work, bool WorkIsInput,
+    double KernelSigmaPixels, double KernelHalfWidthSigma);
 
 /// <summary>
 /// Pixel bins of a sampled spectrum: edges at the geometric midpoints between samples (the outer edges mirror the

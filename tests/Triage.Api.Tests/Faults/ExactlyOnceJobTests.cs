@@ -51,9 +51,17 @@ public sealed class ExactlyOnceJobTests(ProxiedJobsFactory api) : IClassFixture<
         return await conn.QuerySingleAsync<(string, double, int)>("SELECT status, progress, attempts FROM jobs WHERE id = @id", new { id });
     }
 
-    /// <summary>As after a kill -9 between the result's commit and the job's completion (old code): still "running", heartbeat stale.</summary>
+    /// <summary>
+    /// As after a kill -9 between the result's commit and the job's completion (old code): still "running", heartbeat stale.
+    /// The worker's own run of the job must be over first (a kill leaves no runner behind): it runs jobs one at a time, so a
+    /// short job queued after it and seen finished means the first run has returned, and its closing write cannot land on
+    /// the state staged here.
+    /// </summary>
     private async Task LoseCompletionAsync(Guid jobId)
     {
+        var store = api.Services.GetRequiredService<JobStore>();
+        var marker = await store.EnqueueAsync("test-slow", """{"ms": 20}""", null, DateTimeOffset.UtcNow);
+        await WaitForAsync(marker, s => s.Status == "succeeded");
         await using var conn = await api.Direct.OpenConnectionAsync();
         await conn.ExecuteAsync("""
             UPDATE jobs SET status = 'running', result = NULL, finished_at = NULL, attempts = 1, heartbeat_at = now() - interval '2 hours'
