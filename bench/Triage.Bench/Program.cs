@@ -12,6 +12,11 @@ if (args.Length > 0 && args[0] == "flood")
 {
     return await Triage.Bench.Harness.FloodPlan.RunAsync(args);
 }
+// `redshift-errors ...` measures the redshift estimated from the spectrum on a synthetic library (docs/calibration.md).
+if (args.Length > 0 && args[0] == "redshift-errors")
+{
+    return Triage.Bench.Harness.RedshiftErrors.Run(args);
+}
 // `demo-night` prints the demo night's plan figures (the setup of PlanQualityBenchmarks) without timing anything.
 if (args.Length > 0 && args[0] == "demo-night")
 {

@@ -119,13 +119,31 @@ public static class CalibrationPipeline
             });
         }
         var degradeTime = sw.Elapsed;
+        // Rows without a redshift get one estimated from their own degraded, noised spectrum, by cross-correlation
+        // with templates built from the spectra of known redshift that train the fold testing them (never from
+        // the held-out objects), at this R (docs/calibration.md, "Redshift from the spectrum").
+        RedshiftTemplates?[]? templates = null;
+        if (run.WithoutRedshift > 0)
+        {
+            templates = new RedshiftTemplates?[settings.Folds];
+            Parallel.For(0, settings.Folds, parallel, k =>
+            {
+                var train = splits[k].Train;
+                if (train.Length > 0)
+                    templates[k] = RedshiftTemplates.Build(train.Select(i => (spectra[i].Subtype, degraded[i].W, degraded[i].F, spectra[i].Redshift!.Value)), r);
+            });
+        }
+        sw.Restart();
         // Noise and features for every S/N level of this R, then every (S/N, fold) training in one
         // parallel loop: 5 folds on 2 cores would leave one core idle for a fifth of each S/N level.
         int levels = settings.SnrLevels.Count;
-        sw.Restart();
         var features = new float[levels][][];
         var snrs = new SpectrumSnr[levels][];
-        for (int si = 0; si < levels; si++) { features[si] = new float[spectra.Count][]; snrs[si] = new SpectrumSnr[spectra.Count]; }
+        var estimated = new double?[levels][];
+        for (int si = 0; si < levels; si++)
+        {
+            features[si] = new float[spectra.Count][]; snrs[si] = new SpectrumSnr[spectra.Count]; estimated[si] = new double?[spectra.Count];
+        }
         Parallel.For(0, levels * spectra.Count, parallel, j =>
         {
             int si = j / spectra.Count, i = j % spectra.Count;
@@ -133,7 +151,8 @@ public static class CalibrationPipeline
             // Only the shortfall over the noise already present is added (docs/calibration.md, "The S/N convention").
             var noised = noise.Apply(f, settings.SnrLevels[si], settings.PixelsPerElement, new Random(DerivedSeed(settings.Seed, i, ri, si)));
             snrs[si][i] = new SpectrumSnr(noised.RealisedSnr ?? double.PositiveInfinity, noised.ReachableSnr);
-            features[si][i] = Preprocessing.Features(w, noised.Flux, spectra[i].Redshift, r, settings.Preprocess);
+            double z = spectra[i].Redshift ?? (estimated[si][i] = EstimateRedshift(templates![run.TestFold[i]], w, noised.Flux, run)).Value;
+            features[si][i] = Preprocessing.Features(w, noised.Flux, z, r, settings.Preprocess);
         });
         var featureTime = sw.Elapsed;
         sw.Restart();
@@ -172,8 +191,12 @@ public static class CalibrationPipeline
             confusions.AddRange(score.Confusions);
             summaries.Add(score.Summary);
         }
-        return (new ResolutionOutcome(r, cells, confusions, summaries, correct), new CalibrationTimings(degradeTime, featureTime, trainTime, total.Elapsed));
+        return (new ResolutionOutcome(r, cells, confusions, summaries, correct) { EstimatedRedshift = estimated }, new CalibrationTimings(degradeTime, featureTime, trainTime, total.Elapsed));
     }
+
+    // The fold's templates' estimate, or their prior when the fold has none (every training row lacks a redshift).
+    private static double EstimateRedshift(RedshiftTemplates? templates, double[] w, double[] flux, CalibrationRun run) =>
+        templates is null ? run.PriorRedshift : RedshiftEstimation.Estimate(w, flux, templates).Redshift;
 
     /// <summary>
     /// The accuracy-model document from the outcomes of every R of <paramref name="run"/>'s grid (one each, in any
@@ -271,7 +294,14 @@ public sealed record ResolutionOutcome(
     IReadOnlyList<CalibrationCell> Cells,
     IReadOnlyList<ConfusionMatrix> Confusions,
     IReadOnlyList<AccuracySummary> Summaries,
-    IReadOnlyList<bool[]> Correct);
+    IReadOnlyList<bool[]> Correct)
+{
+    /// <summary>
+    /// EstimatedRedshift[si][i]: the redshift estimated from spectrum i at S/N level si (null for rows with a given
+    /// redshift, which is used as it is). Empty when not recorded.
+    /// </summary>
+    public IReadOnlyList<double?[]> EstimatedRedshift { get; init; } = [];
+}
 
 /// <summary>
 /// What every R of one calibration shares: the library, subtypes present, the sorted grid, the grouped folds with their
@@ -286,6 +316,12 @@ public sealed class CalibrationRun
         Splits = splits; TrainLabels = trainLabels; TrainWeights = trainWeights; Classifier = classifier;
         // What does not depend on R is computed once per spectrum: its pixel bins and the noise it carries.
         var spectra = library.Spectra;
+        WithoutRedshift = library.WithoutRedshiftCount;
+        TestFold = new int[spectra.Count];
+        for (int k = 0; k < splits.Count; k++)
+            foreach (int i in splits[k].Test) TestFold[i] = k;
+        var known = spectra.Where(s => s.Redshift is not null).Select(s => s.Redshift!.Value).Order().ToArray();
+        PriorRedshift = known.Length == 0 ? 0 : known[known.Length / 2];
         Bins = new PixelBins[spectra.Count];
         InputNoise = new InputNoiseSources[spectra.Count];
         // Spectra sampled at the same wavelengths with the same source R share their bins and, per R, one degradation operator.
@@ -351,6 +387,14 @@ public sealed class CalibrationRun
 
     internal PixelBins[] Bins { get; }
 
+    /// <summary>Spectra of the library without a given redshift (estimated from the spectrum at every R and S/N).</summary>
+    public int WithoutRedshift { get; }
+
+    // TestFold[i]: the fold that tests spectrum i; PriorRedshift: the median given redshift, for a fold without templates.
+    internal int[] TestFold { get; }
+
+    internal double PriorRedshift { get; }
+
     internal InputNoiseSources[] InputNoise { get; }
 
     /// <summary>Checks the library and grid and prepares the folds.</summary>
@@ -370,7 +414,10 @@ public sealed class CalibrationRun
             throw new ArgumentException($"The grid needs R values of at least {CalibrationSettings.MinimumResolution}.", nameof(settings));
         var labelIndex = subtypes.Select((s, i) => (s, i)).ToDictionary(p => p.s, p => p.i, StringComparer.Ordinal);
         int[] labels = spectra.Select(s => labelIndex[s.Subtype]).ToArray();
-        var splits = CalibrationPipeline.Splits(library, settings);
+        // Rows without a redshift are tested (with an estimated one) but never trained on: their features would
+        // depend on templates, and templates must not see the held-out fold.
+        var splits = CalibrationPipeline.Splits(library, settings)
+            .Select(sp => (Train: sp.Train.Where(i => spectra[i].Redshift is not null).ToArray(), sp.Test)).ToArray();
         var trainLabels = splits.Select(sp => sp.Train.Select(i => labels[i]).ToArray()).ToArray();
         var trainWeights = trainLabels.Select(l =>
         {

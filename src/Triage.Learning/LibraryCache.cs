@@ -112,7 +112,7 @@ public static class LibraryCache
         foreach (var s in library.Spectra)
         {
             w.Write(s.File); w.Write(s.ObjectId); w.Write(s.Subtype);
-            w.Write(s.PhaseDays); w.Write(s.Redshift); w.Write(s.SourceResolution ?? double.NaN); w.Write(s.NoiseFree);
+            w.Write(s.PhaseDays); w.Write(s.Redshift ?? double.NaN); w.Write(s.SourceResolution ?? double.NaN); w.Write(s.NoiseFree);
             w.Write(s.Spectrum.Count);
             w.Write(s.Spectrum.FluxError is not null);
             w.Write(MemoryMarshal.AsBytes(s.Spectrum.WavelengthAngstrom.AsSpan()));
@@ -148,7 +148,7 @@ public static class LibraryCache
             var wl = ReadDoubles(r, n);
             var flux = ReadDoubles(r, n);
             var err = hasError ? ReadDoubles(r, n) : null;
-            spectra[i] = new LibrarySpectrum(file, obj, subtype, phase, z, double.IsNaN(sourceR) ? null : sourceR, new Spectrum(wl, flux, err))
+            spectra[i] = new LibrarySpectrum(file, obj, subtype, phase, double.IsNaN(z) ? null : z, double.IsNaN(sourceR) ? null : sourceR, new Spectrum(wl, flux, err))
                 { NoiseFree = noiseFree };
         }
         return new SpectralLibrary(spectra, synthetic) { Warnings = warnings };

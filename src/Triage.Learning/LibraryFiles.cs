@@ -34,7 +34,7 @@ public static class LibraryFiles
             string path = Path.Combine(folder, s.File);
             Directory.CreateDirectory(Path.GetDirectoryName(path)!);
             using var w = new StreamWriter(path, false, new UTF8Encoding(false), 1 << 16);
-            SpectrumText.Write(w, s.Spectrum, [.. comments, $"object {s.ObjectId}, subtype {s.Subtype}, phase {s.PhaseDays} d, z = {s.Redshift}"]);
+            SpectrumText.Write(w, s.Spectrum, [.. comments, $"object {s.ObjectId}, subtype {s.Subtype}, phase {s.PhaseDays} d, {RedshiftText(s.Redshift)}"]);
         });
     }
 
@@ -59,7 +59,7 @@ public static class LibraryFiles
         {
             string path = Path.Combine(folder, s.File);
             Directory.CreateDirectory(Path.GetDirectoryName(path)!);
-            string label = $"object {s.ObjectId}, subtype {s.Subtype}, phase {s.PhaseDays} d, z = {s.Redshift}";
+            string label = $"object {s.ObjectId}, subtype {s.Subtype}, phase {s.PhaseDays} d, {RedshiftText(s.Redshift)}";
             if (format == LibraryFormat.Fits)
             {
                 using var f = new FileStream(path, FileMode.Create, FileAccess.Write, FileShare.None, 1 << 16);
@@ -85,6 +85,9 @@ public static class LibraryFiles
 
     /// <summary>Loads a taxonomy file, or the default when <paramref name="path"/> is null.</summary>
     public static Taxonomy LoadTaxonomy(string? path) => path is null ? Taxonomy.Default : Taxonomy.Parse(File.ReadAllText(path));
+
+    private static string RedshiftText(double? z) =>
+        z is double v ? string.Create(System.Globalization.CultureInfo.InvariantCulture, $"z = {v}") : "redshift not given";
 }
 
 /// <summary>File format of an exported library.</summary>

@@ -30,12 +30,19 @@ internal static class LibraryVerb
             DefaultValueFactory = _ => 400,
         };
         var seed = new Option<int>("--seed") { Description = "Random seed (default 1).", DefaultValueFactory = _ => 1 };
-        var cmd = new Command("synth", "Generate the SYNTHETIC demo library (invented spectra) in the library format.") { outDir, objects, seed };
+        var withoutRedshift = new Option<double>("--without-redshift")
+        {
+            Description = "Share of objects, 0–1, whose manifest rows give no redshift (calibration estimates it from the spectrum; default 0).",
+            DefaultValueFactory = _ => new SynthOptions().WithoutRedshiftShare,
+        };
+        var cmd = new Command("synth", "Generate the SYNTHETIC demo library (invented spectra) in the library format.") { outDir, objects, seed, withoutRedshift };
         cmd.SetAction(parse =>
         {
             int n = parse.GetValue(objects);
             if (n < 1) return CliJson.Fail(Console.Error, "--objects: must be at least 1.");
-            var (lib, _) = SyntheticLibrary.Generate(new SynthOptions { Objects = n, Seed = parse.GetValue(seed) });
+            double share = parse.GetValue(withoutRedshift);
+            if (!(share is >= 0 and <= 1)) return CliJson.Fail(Console.Error, "--without-redshift: must be a share between 0 and 1.");
+            var (lib, _) = SyntheticLibrary.Generate(new SynthOptions { Objects = n, Seed = parse.GetValue(seed), WithoutRedshiftShare = share });
             var dir = parse.GetValue(outDir)!.FullName;
             LibraryFiles.Write(dir, lib, [SyntheticLibrary.Label, $"seed {parse.GetValue(seed)}, {n} objects; see docs/synthetic-library.md"]);
             File.WriteAllText(Path.Combine(dir, "README.md"),
@@ -43,6 +50,8 @@ internal static class LibraryVerb
                 "The physics and the class rates are described in docs/synthetic-library.md of the Triage repository.\n");
             Console.WriteLine(string.Create(CultureInfo.InvariantCulture,
                 $"Wrote {lib.Spectra.Count} synthetic spectra of {lib.ObjectCount} objects to {dir}"));
+            if (lib.WithoutRedshiftCount > 0)
+                Console.WriteLine(string.Create(CultureInfo.InvariantCulture, $"{lib.WithoutRedshiftCount} spectra have no redshift in the manifest."));
             if (lib.ObjectCount != n)
             {
                 Console.WriteLine(string.Create(CultureInfo.InvariantCulture,
@@ -77,6 +86,9 @@ internal static class LibraryVerb
                 foreach (var w in lib.Warnings) Console.Error.WriteLine($"warning: {w}");
                 Console.WriteLine(string.Create(CultureInfo.InvariantCulture,
                     $"OK: {lib.Spectra.Count} spectra of {lib.ObjectCount} objects, fingerprint {lib.Fingerprint()}"));
+                if (lib.WithoutRedshiftCount == 0) Console.WriteLine("Every row gives a redshift.");
+                else Console.WriteLine(string.Create(CultureInfo.InvariantCulture,
+                    $"{lib.WithoutRedshiftCount} of {lib.Spectra.Count} rows give no redshift (objects without one: {lib.Spectra.Where(s => s.Redshift is null).Select(s => s.ObjectId).Distinct(StringComparer.Ordinal).Count()}); calibration estimates it from the spectrum."));
                 return 0;
             }
             catch (LibraryImportException ex)

@@ -13,7 +13,8 @@ public sealed class LibraryImportException(IReadOnlyList<ImportError> errors)
 
 /// <summary>
 /// Reads a labelled library: <c>manifest.csv</c> (header row with the columns <c>file</c>,
-/// <c>object_id</c>, <c>subtype</c>, <c>phase_days</c>, <c>redshift</c> and optionally
+/// <c>object_id</c>, <c>subtype</c>, <c>phase_days</c>, <c>redshift</c> (empty when none is given: calibration then
+/// estimates it from the spectrum) and optionally
 /// <c>source_resolution</c>, <c>hdu</c> and <c>noise_free</c> (true: the flux is a noise-free model and its error column states the native noise), in any order; <c>#</c> comment lines) plus one spectrum
 /// per row: plain text, or FITS when the file name ends in .fits, .fit, .fits.gz or .fit.gz
 /// (<see cref="Fits.FitsSpectrumReader"/>; <c>hdu</c> names the HDU by 0-based index or EXTNAME).
@@ -150,7 +151,7 @@ public static class LibraryImport
         return library is not null;
     }
 
-    private sealed record Row(int Line, string File, string ObjectId, string Subtype, double Phase, double Redshift, double? SourceR, string? Hdu, bool NoiseFree);
+    private sealed record Row(int Line, string File, string ObjectId, string Subtype, double Phase, double? Redshift, double? SourceR, string? Hdu, bool NoiseFree);
 
     private static List<Row> ReadManifest(TextReader reader, Taxonomy taxonomy, List<ImportError> errs, out bool synthetic)
     {
@@ -206,7 +207,8 @@ public static class LibraryImport
             if (!taxonomy.Contains(subtype))
                 errs.Add(new ImportError(ManifestFileName, lineNo, $"unknown subtype label '{subtype}' (not in the taxonomy)"));
             double phase = Number(Get("phase_days"), "phase_days", lineNo, errs, -1000, 5000);
-            double z = Number(Get("redshift"), "redshift", lineNo, errs, 0, 10);
+            // An empty redshift means none is given (calibration estimates it from the spectrum).
+            double? z = Get("redshift").Length == 0 ? null : Number(Get("redshift"), "redshift", lineNo, errs, 0, 10);
             double? sourceR = null;
             if (col.ContainsKey("source_resolution") && Get("source_resolution").Length > 0)
             {
@@ -286,9 +288,9 @@ public static class LibraryImport
         foreach (var s in library.Spectra)
             writer.Write((exact
                 ? string.Create(CultureInfo.InvariantCulture,
-                    $"{Csv(s.File)},{Csv(s.ObjectId)},{Csv(s.Subtype)},{s.PhaseDays:R},{s.Redshift:R},{s.SourceResolution:R}")
+                    $"{Csv(s.File)},{Csv(s.ObjectId)},{Csv(s.Subtype)},{s.PhaseDays:R},{s.Redshift?.ToString("R", CultureInfo.InvariantCulture)},{s.SourceResolution:R}")
                 : string.Create(CultureInfo.InvariantCulture,
-                    $"{s.File},{s.ObjectId},{s.Subtype},{s.PhaseDays:0.##},{s.Redshift:0.#####},{s.SourceResolution}"))
+                    $"{s.File},{s.ObjectId},{s.Subtype},{s.PhaseDays:0.##},{s.Redshift?.ToString("0.#####", CultureInfo.InvariantCulture)},{s.SourceResolution}"))
                 + (noiseColumn ? (s.NoiseFree ? ",true\n" : ",false\n") : "\n"));
     }
 

@@ -148,7 +148,7 @@ public static class Preprocessing
         return v;
     }
 
-    private static (double[] W, double[] F) Finite(ReadOnlySpan<double> w, ReadOnlySpan<double> f)
+    internal static (double[] W, double[] F) Finite(ReadOnlySpan<double> w, ReadOnlySpan<double> f)
     {
         var ww = new List<double>(w.Length);
         var ff = new List<double>(w.Length);

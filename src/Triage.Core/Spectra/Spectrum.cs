@@ -24,14 +24,15 @@ public sealed record Spectrum(double[] WavelengthAngstrom, double[] Flux, double
 /// <param name="ObjectId">Identifier of the transient; spectra of one object never straddle a fold.</param>
 /// <param name="Subtype">Subtype label, one of the taxonomy's labels.</param>
 /// <param name="PhaseDays">Rest-frame days from maximum light (negative before peak).</param>
-/// <param name="Redshift">Redshift z ≥ 0 used to move the spectrum to the rest frame.</param>
+/// <param name="Redshift">Redshift z ≥ 0 used to move the spectrum to the rest frame; null when none is given (calibration
+/// then estimates it from the spectrum, <see cref="RedshiftEstimation"/>).</param>
 /// <param name="SourceResolution">Resolving power of the spectrum as observed, when known.</param>
 public sealed record LibrarySpectrum(
     string File,
     string ObjectId,
     string Subtype,
     double PhaseDays,
-    double Redshift,
+    double? Redshift,
     double? SourceResolution,
     Spectrum Spectrum)
 {
@@ -55,6 +56,9 @@ public sealed record SpectralLibrary(IReadOnlyList<LibrarySpectrum> Spectra, boo
 
     /// <summary>Distinct object ids.</summary>
     public int ObjectCount => Spectra.Select(s => s.ObjectId).Distinct(StringComparer.Ordinal).Count();
+
+    /// <summary>Spectra whose manifest row gives no redshift.</summary>
+    public int WithoutRedshiftCount => Spectra.Count(s => s.Redshift is null);
 
     /// <summary>
     /// The lowest source resolution declared in the library, or null when no spectrum declares one.
@@ -85,7 +89,7 @@ public sealed record SpectralLibrary(IReadOnlyList<LibrarySpectrum> Spectra, boo
             AddString(s.File); AddString(s.ObjectId); AddString(s.Subtype);
             Add(s.NoiseFree ? 1UL : 0UL);
             Add((ulong)BitConverter.DoubleToInt64Bits(s.PhaseDays));
-            Add((ulong)BitConverter.DoubleToInt64Bits(s.Redshift));
+            Add((ulong)BitConverter.DoubleToInt64Bits(s.Redshift ?? double.NaN));
             Add((ulong)BitConverter.DoubleToInt64Bits(s.SourceResolution ?? 0));
             for (int i = 0; i < s.Spectrum.Count; i++)
             {

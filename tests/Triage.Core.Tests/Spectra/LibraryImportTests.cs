@@ -141,4 +141,30 @@ public class LibraryImportTests
         // The writer keeps six significant digits of flux (relative rounding error ≤ 5e-6).
         Assert.All(lib.Spectra[0].Spectrum.Flux.Zip(again.Spectra[0].Spectrum.Flux), p => Assert.Equal(p.First, p.Second, 5e-6 * Math.Abs(p.First)));
     }
+
+    [Fact]
+    public void TryImport_EmptyRedshift_ParsesAsNotGivenAndRoundTrips()
+    {
+        var files = Valid();
+        files["manifest.csv"] = Header + "s/a1.txt,A,Ia,-3.5,,1500\n" + "s/a2.txt,A,Ia,10, ,1500\n" + "s/b1.txt,B,IIn,5,0.01,\n";
+        Assert.True(Import(files, out var lib, out var errors), string.Join("\n", errors));
+        Assert.Equal([null, null, 0.01], lib!.Spectra.Select(s => s.Redshift));
+        Assert.Equal(2, lib.WithoutRedshiftCount);
+        foreach (bool exact in new[] { false, true })
+        {
+            var manifest = new StringWriter();
+            LibraryImport.WriteManifest(manifest, lib, ["round trip"], exact);
+            var again = LibraryImport.Import(new StringReader(manifest.ToString()), f => new StringReader(files[f]), Taxonomy.Default);
+            Assert.Equal(lib.Spectra.Select(s => s.Redshift), again.Spectra.Select(s => s.Redshift));
+        }
+    }
+
+    [Fact]
+    public void TryImport_RedshiftNotANumber_StillRefusedWithItsColumn()
+    {
+        var files = Valid();
+        files["manifest.csv"] = Header + "s/a1.txt,A,Ia,-3.5,abc,1500\n";
+        Assert.False(Import(files, out _, out var errors));
+        Assert.Contains(errors, e => e.Message.Contains("redshift 'abc'"));
+    }
 }

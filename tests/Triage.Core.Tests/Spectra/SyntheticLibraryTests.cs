@@ -126,6 +126,24 @@ public class SyntheticLibraryTests
         Assert.InRange(At(4000) / At(6000), 1.80, 1.88);
     }
 
+    [Fact]
+    public void Generate_WithoutRedshiftShare_OmitsWholeObjectsAndChangesNothingElse()
+    {
+        // Share 0.5 of 28 objects: binomial, 14 ± 2.6 expected; 6–22 is beyond 3σ. Every spectrum of an object agrees,
+        // and apart from the redshift the library equals the one with every redshift given (its own generator).
+        var options = new SynthOptions { Objects = 28, MinObjectsPerSubtype = 2, MeanSpectraPerObject = 2, Seed = 6, NativeResolution = 300 };
+        var all = SyntheticLibrary.Generate(options).Library.Spectra;
+        var (some, truth) = SyntheticLibrary.Generate(options with { WithoutRedshiftShare = 0.5 });
+        var missing = truth.Where(o => o.GivenRedshift is null).Select(o => o.ObjectId).ToHashSet();
+        Assert.InRange(missing.Count, 6, 22);
+        Assert.All(some.Spectra, s => Assert.Equal(missing.Contains(s.ObjectId), s.Redshift is null));
+        Assert.All(all.Zip(some.Spectra), p =>
+        {
+            Assert.Equal(p.First.Spectrum.Flux, p.Second.Spectrum.Flux);
+            Assert.True(p.Second.Redshift is null || p.Second.Redshift == p.First.Redshift);
+        });
+    }
+
     private static string RepoRoot()
     {
         var dir = new DirectoryInfo(AppContext.BaseDirectory);

@@ -11,7 +11,7 @@
 // telluric residuals, degraded to the native R and sampled at 2 pixels per element. It is written
 // noise-free with an error column σ(λ) = √2 f_6000/S (6000/λ)^β stating the native noise (S drawn
 // per spectrum), so calibration draws all of the noise; the manifest redshift carries a broker-like
-// error (spectroscopic or photometric). Every knob is a SynthOptions default (docs/synthetic-library.md).
+// error (spectroscopic or photometric), or no redshift for a chosen share of objects. Every knob is a SynthOptions default (docs/synthetic-library.md).
 // References:
 //  1. Filippenko, A. V., "Optical spectra of supernovae", ARA&A 35, 309 (1997) (features, velocities).
 //  2. Jeffery, D. J. & Branch, D., "Analysis of supernova spectra", in Supernovae, Jerusalem Winter School (1990) (P-Cygni profiles).
@@ -109,6 +109,13 @@ public sealed record SynthOptions
     /// <summary>σ of a photometric redshift, times (1 + z). Default 0.015.</summary>
     public double PhotometricRedshiftSigma { get; init; } = 0.015;
 
+    /// <summary>
+    /// Share of objects whose manifest row gives no redshift (calibration then estimates it from the spectrum). Drawn
+    /// from a generator of its own, so changing it changes nothing else in the library. Default 0 (every object keeps
+    /// its given redshift, as the measured figures of docs/calibration.md assume).
+    /// </summary>
+    public double WithoutRedshiftShare { get; init; } = 0;
+
     /// <summary>Write noise-free model flux with an error column stating the native noise (true), or add that noise to the flux (false). Default true.</summary>
     public bool NoiseFree { get; init; } = true;
 
@@ -127,8 +134,8 @@ public sealed record SyntheticObject(string ObjectId, string Subtype, double Red
     /// <summary>Host-galaxy reddening E(B−V) in magnitudes (0: none).</summary>
     public double ReddeningMag { get; init; }
 
-    /// <summary>The redshift written to the manifest (the truth plus a broker-like error).</summary>
-    public double GivenRedshift { get; init; }
+    /// <summary>The redshift written to the manifest (the truth plus a broker-like error); null when the row gives none.</summary>
+    public double? GivenRedshift { get; init; }
 }
 
 /// <summary>Generates the synthetic demo library.</summary>
@@ -170,13 +177,16 @@ public static class SyntheticLibrary
         Parallel.For(0, order.Length, i =>
         {
             var rng = new Random(unchecked(options.Seed * 1_000_003 + i * 7919 + 17));
-            perObject[i] = MakeObject(order[i], string.Create(System.Globalization.CultureInfo.InvariantCulture, $"SYN-{i + 1:0000}"), rng, options);
+            bool withoutRedshift = new Random(unchecked(options.Seed * 1_000_033 + i * 7927 + 29)).NextDouble() < options.WithoutRedshiftShare;
+            perObject[i] = MakeObject(order[i], string.Create(System.Globalization.CultureInfo.InvariantCulture, $"SYN-{i + 1:0000}"), rng, options,
+                withoutRedshift);
         });
         var lib = new SpectralLibrary(perObject.SelectMany(p => p.Spectra).ToArray(), Synthetic: true);
         return (lib, perObject.Select(p => p.Truth).ToArray());
     }
 
-    private static (SyntheticObject, List<LibrarySpectrum>) MakeObject(SubtypeModel m, string id, Random rng, SynthOptions o)
+    private static (SyntheticObject, List<LibrarySpectrum>) MakeObject(SubtypeModel m, string id, Random rng, SynthOptions o,
+        bool withoutRedshift)
     {
         double z = o.MinRedshift + (o.MaxRedshift - o.MinRedshift) * Math.Sqrt(rng.NextDouble()); // more volume at larger z
         double v0 = m.VelocityKmPerS * Math.Exp(o.VelocitySpreadLn * SpectrumNoise.StandardNormal(rng));
@@ -197,7 +207,7 @@ public static class SyntheticLibrary
             phases.Add(Math.Round(m.PhaseFromDays + (m.PhaseToDays - m.PhaseFromDays) * Math.Pow(rng.NextDouble(), 1.3), 2));
 
         var truth = new SyntheticObject(id, m.Subtype, z, v0, tScale, hostAtPeak, starForming, 0, strengths)
-            { ReddeningMag = reddening, GivenRedshift = zGiven };
+            { ReddeningMag = reddening, GivenRedshift = withoutRedshift ? null : Math.Round(zGiven, 5) };
         var fine = LogWavelengthGrid.ForResolution(o.FromAngstrom, o.ToAngstrom, o.NativeResolution, 6);
         var obs = fine.Centres();
         var spectra = new List<LibrarySpectrum>();
@@ -223,7 +233,7 @@ public static class SyntheticLibrary
             var sp = new Spectrum(keep.Select(i => Math.Round(w[i], 3)).ToArray(), keep.Select(i => written[i]).ToArray(),
                 keep.Select(i => error[i]).ToArray());
             string file = string.Create(System.Globalization.CultureInfo.InvariantCulture, $"spectra/{id}_{e:00}.txt");
-            spectra.Add(new LibrarySpectrum(file, id, m.Subtype, phase, Math.Round(zGiven, 5), o.NativeResolution, sp) { NoiseFree = o.NoiseFree });
+            spectra.Add(new LibrarySpectrum(file, id, m.Subtype, phase, truth.GivenRedshift, o.NativeResolution, sp) { NoiseFree = o.NoiseFree });
         }
         return (truth, spectra);
     }
