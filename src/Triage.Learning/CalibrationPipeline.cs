@@ -103,16 +103,18 @@ public static class CalibrationPipeline
             var first = spectra[group.Members[0]];
             var op = DegradationOperator.Build(first.Spectrum.WavelengthAngstrom, run.Bins[group.Members[0]], r, first.SourceResolution, degradeOptions);
             var centres = op.Grid.Centres();
+            var shapeBinning = NoiseShapeBinning.Build(first.Spectrum.WavelengthAngstrom, op.Grid);
             const int chunk = 64;
             Parallel.For(0, (group.Members.Length + chunk - 1) / chunk, parallel, c =>
             {
                 var members = group.Members.AsSpan(c * chunk, Math.Min(chunk, group.Members.Length - c * chunk)).ToArray();
                 var fluxes = op.Apply(members.Select(i => spectra[i].Spectrum.Flux).ToArray());
+                var shapes = SpectrumNoise.NoiseShapes(members.Select(i => spectra[i].Spectrum).ToArray(), shapeBinning);
                 for (int t = 0; t < members.Length; t++)
                 {
                     int i = members[t];
-                    var s = spectra[i];
-                    degraded[i] = (op.Grid, centres, fluxes[t], DegradedNoise.Account(s.Spectrum, run.InputNoise[i], s.SourceResolution, op.Grid, fluxes[t], r));
+                    degraded[i] = (op.Grid, centres, fluxes[t],
+                        DegradedNoise.Account(run.InputNoise[i], spectra[i].SourceResolution, op.Grid, fluxes[t], r, shapes[t]));
                 }
             });
         }

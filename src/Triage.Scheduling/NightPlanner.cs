@@ -114,6 +114,15 @@ public static class NightPlanner
         var found = GreedyPlanner.SolveBest(full, prices);
         var firstValue = full.ObjectiveOf(found);
         found = ImproveLocally(full, found, prices, settings, clock, cancellationToken);
+        if (problem.ChurnBudget is { } churnBudget && full.ChangesOf(found) is var wanted && wanted > churnBudget)
+        {
+            // The searched plan changes more of the previous version than a replan may: start instead from the
+            // previous version kept whole, filled within the budget; CP-SAT then searches inside the budget.
+            found = GreedyPlanner.SolveKeepingAnchors(full, churnBudget);
+            notes.Add(string.Create(CultureInfo.InvariantCulture,
+                $"Churn budget: the search wanted {wanted} changes to the previous version, {churnBudget} are allowed; the plan keeps within them."));
+        }
+
         IReadOnlyList<PlacedChoice> greedy;
         (model, greedy) = model.WithChoicesOf(full, found);
         var greedyValue = model.ObjectiveOf(greedy);
@@ -248,6 +257,17 @@ public static class NightPlanner
         if (problem.NetworkCostCap is { } cap)
         {
             cp.Add(LinearExpr.WeightedSum(present, choices.Select(c => (long)Math.Ceiling(c.Cost * CostScale))) <= (long)Math.Floor(cap * CostScale));
+        }
+
+        if (problem.ChurnBudget is { } churnBudget)
+        {
+            // Anchors not kept + candidates added ≤ budget, i.e. Σ added − Σ anchors kept ≤ budget − |anchors|.
+            var anchored = model.AnchoredCandidates;
+            var anchorSet = model.AnchorChoices.ToHashSet();
+            var terms = Enumerable.Range(0, choices.Count)
+                .Select(j => (j, w: anchorSet.Contains(j) ? -1L : anchored[choices[j].Candidate] ? 0L : 1L))
+                .Where(t => t.w != 0).ToArray();
+            cp.Add(LinearExpr.WeightedSum(terms.Select(t => present[t.j]), terms.Select(t => t.w)) <= churnBudget - model.AnchorChoices.Count);
         }
 
         cp.Maximize(LinearExpr.WeightedSum(present, choices.Select(c => (long)Math.Round(c.NetValue * ValueScale))));

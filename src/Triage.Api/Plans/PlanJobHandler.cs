@@ -101,6 +101,7 @@ public sealed class PlanJobHandler(
             BusyUntilUtc = start.BusyUntilUtc,
             RemainingBudgetSeconds = NightReplan.RemainingBudget(previous, from, NightReplan.DefaultFreeze),
             Previous = start.Anchors,
+            ChurnBudget = NightReplan.ChurnBudget(start),
             Closures = NightOperationsStore.ForPlanner(closures),
             Conditions = NightOperationsStore.ForPlanner(conditions),
             Sequential = sequential,

@@ -26,13 +26,14 @@ internal static class RehearseVerb
         var lost = new Option<int>("--lost") { Description = "Observations lost to weather per replan, drawn from those that ended since the last one (default 1).", DefaultValueFactory = _ => 1 };
         var arrivals = new Option<int>("--arrivals") { Description = "Candidates held back from the file and arriving per replan (default 2).", DefaultValueFactory = _ => 2 };
         var stability = new Option<double>("--stability") { Description = "Stability share σ: an assignment of the previous version is worth (1 + σ) × its value to the solver (default 0.1, as the service).", DefaultValueFactory = _ => new NightBuildSettings().StabilityShare };
+        var maxChurn = new Option<double>("--max-churn") { Description = "Most share of the entries ahead a replan may change, beyond what closures force (default 0.1, as the service; 1: no limit).", DefaultValueFactory = _ => NightReplan.DefaultMaxChurnShare };
         var seed = new Option<int>("--seed") { Description = "Seed of the simulated reports (default 1).", DefaultValueFactory = _ => 1 };
         var output = new Option<FileInfo?>("--out") { Description = "Optional: write the per-replan churn as JSON." };
         var command = new Command("rehearse", "Replan a night every N minutes with simulated reports and print the churn of each replan.")
-            { roster, candidates, calibration, night, every, lost, arrivals, stability, seed, output };
+            { roster, candidates, calibration, night, every, lost, arrivals, stability, maxChurn, seed, output };
         command.SetAction((parse, cancellationToken) => Task.FromResult(Run(
             parse.GetValue(roster)!, parse.GetValue(candidates)!, parse.GetValue(calibration)!, parse.GetValue(night)!, parse.GetValue(every),
-            parse.GetValue(lost), parse.GetValue(arrivals), parse.GetValue(stability), parse.GetValue(seed), parse.GetValue(output), cancellationToken)));
+            parse.GetValue(lost), parse.GetValue(arrivals), parse.GetValue(stability), parse.GetValue(maxChurn), parse.GetValue(seed), parse.GetValue(output), cancellationToken)));
         return command;
     }
 
@@ -44,14 +45,15 @@ internal static class RehearseVerb
     /// <param name="Assigned">Entries of the new version.</param>
     /// <param name="Churn">Changes against the previous version's entries still ahead.</param>
     /// <param name="NewsAdded">Of the added entries, those of candidates lost or arrived since the last replan (changes the news asks for).</param>
-    public sealed record Step(DateTimeOffset FromUtc, int Observed, int Lost, int Arrived, int Assigned, PlanChurn Churn, int NewsAdded = 0)
+    /// <param name="ObservedValue">Sum of the planned values of the observations done (not lost) since the last replan.</param>
+    public sealed record Step(DateTimeOffset FromUtc, int Observed, int Lost, int Arrived, int Assigned, PlanChurn Churn, int NewsAdded = 0, double ObservedValue = 0)
     {
         /// <summary>Churn without the additions the news asked for: what was reshuffled, / compared entries.</summary>
         public double ReshuffleShare => (Churn.Moved + Churn.Retimed + Churn.Added - NewsAdded + Churn.Removed) / (double)Math.Max(1, Churn.ComparedEntries);
     }
 
     private static int Run(FileInfo rosterFile, FileInfo candidatesFile, FileInfo calibrationFile, string nightText, double everyMinutes,
-        int lostPerStep, int arrivalsPerStep, double stability, int seed, FileInfo? outFile, CancellationToken ct)
+        int lostPerStep, int arrivalsPerStep, double stability, double maxChurn, int seed, FileInfo? outFile, CancellationToken ct)
     {
         if (!DateOnly.TryParseExact(nightText, "yyyy-MM-dd", CultureInfo.InvariantCulture, DateTimeStyles.None, out var night))
         {
@@ -59,9 +61,9 @@ internal static class RehearseVerb
             return 2;
         }
 
-        if (!(everyMinutes >= 5 && everyMinutes <= 600) || lostPerStep < 0 || arrivalsPerStep < 0 || !(stability is >= 0 and <= 1))
+        if (!(everyMinutes >= 5 && everyMinutes <= 600) || lostPerStep < 0 || arrivalsPerStep < 0 || !(stability is >= 0 and <= 1) || !(maxChurn is > 0 and <= 1))
         {
-            Console.Error.WriteLine("--every must be in [5, 600] minutes; --lost and --arrivals ≥ 0; --stability in [0, 1].");
+            Console.Error.WriteLine("--every must be in [5, 600] minutes; --lost and --arrivals ≥ 0; --stability in [0, 1]; --max-churn in (0, 1].");
             return 2;
         }
 
@@ -82,7 +84,7 @@ internal static class RehearseVerb
             var all = batch.Candidates.AsParallel().AsOrdered()
                 .Select(c => (ITargetForecast)new AssessedTargetForecast(CandidateAssessment.Assess(c, labelList), document.SnrReferenceWavelengthAngstrom))
                 .ToList();
-            var steps = Rehearse(sites, spectrographs, all, surface, night, TimeSpan.FromMinutes(everyMinutes), lostPerStep, arrivalsPerStep, seed, ct, stability);
+            var steps = Rehearse(sites, spectrographs, all, surface, night, TimeSpan.FromMinutes(everyMinutes), lostPerStep, arrivalsPerStep, seed, ct, stability, maxChurn);
             var inv = CultureInfo.InvariantCulture;
             Console.WriteLine("from_utc              observed lost arrived assigned compared moved retimed added removed  churn  (of which news) reshuffle");
             foreach (var s in steps)
@@ -99,7 +101,7 @@ internal static class RehearseVerb
             {
                 var shares = replans.Select(s => s.Churn.Share).Order().ToList();
                 Console.WriteLine(string.Create(inv,
-                    $"{replans.Count} replans: churn mean {shares.Average():P1}, median {shares[shares.Count / 2]:P1}, max {shares[^1]:P1}, below 10 % in {shares.Count(x => x < 0.1)}; reshuffle mean {replans.Average(s => s.ReshuffleShare):P1}, max {replans.Max(s => s.ReshuffleShare):P1}; moved in all {replans.Sum(s => s.Churn.Moved)}."));
+                    $"{replans.Count} replans: churn mean {shares.Average():P1}, median {shares[shares.Count / 2]:P1}, max {shares[^1]:P1}, below 10 % in {shares.Count(x => x < 0.1)}; reshuffle mean {replans.Average(s => s.ReshuffleShare):P1}, max {replans.Max(s => s.ReshuffleShare):P1}; moved in all {replans.Sum(s => s.Churn.Moved)}; value of the observations done {steps.Sum(s => s.ObservedValue):F2}."));
             }
 
             if (outFile is not null)
@@ -119,7 +121,7 @@ internal static class RehearseVerb
     /// <summary>The rehearsal itself (the first step is the initial plan, with no churn).</summary>
     public static IReadOnlyList<Step> Rehearse(
         IReadOnlyList<Site> sites, IReadOnlyList<Spectrograph> spectrographs, IReadOnlyList<ITargetForecast> all, AccuracySurface surface,
-        DateOnly night, TimeSpan every, int lostPerStep, int arrivalsPerStep, int seed, CancellationToken ct, double stability = 0.1)
+        DateOnly night, TimeSpan every, int lostPerStep, int arrivalsPerStep, int seed, CancellationToken ct, double stability = 0.1, double maxChurn = NightReplan.DefaultMaxChurnShare)
     {
         var random = new Random(seed);
         var heldBack = new Queue<ITargetForecast>(all.Skip(Math.Max(0, all.Count - 10 * arrivalsPerStep)));
@@ -157,11 +159,13 @@ internal static class RehearseVerb
                 RemainingBudgetSeconds = NightReplan.RemainingBudget(plan, t, NightReplan.DefaultFreeze),
                 Previous = split.Anchors,
                 StabilityShare = stability,
+                ChurnBudget = maxChurn < 1 ? NightReplan.ChurnBudget(split, maxChurn) : null,
             });
             var next2 = NightReplan.WithKept(NightPlanning.Plan(built, solver, ct), split.Kept);
             var (changes, churn) = PlanChurn.Between(plan, next2, t);
             var news = changes.Count(c => c.Kind == PlanChangeKind.Added && (lost.Contains(c.CandidateId) || arrivedIds.Contains(c.CandidateId)));
-            steps.Add(new Step(t, ended.Count - lost.Count, lost.Count, arrived, next2.Summary.Assigned, churn, news));
+            steps.Add(new Step(t, ended.Count - lost.Count, lost.Count, arrived, next2.Summary.Assigned, churn, news,
+                ended.Where(e => !lost.Contains(e.CandidateId)).Sum(e => e.Value)));
             plan = next2;
         }
 

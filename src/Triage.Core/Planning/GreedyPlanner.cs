@@ -73,19 +73,34 @@ public static class GreedyPlanner
         return runs.MaxBy(model.ObjectiveOf)!;
     }
 
-    /// <summary>Places every anchored choice that still fits (in start order), then the rest by value density.</summary>
-    public static IReadOnlyList<PlacedChoice> SolveKeepingAnchors(PlanningModel model)
+    /// <summary>
+    /// Places every anchored choice that still fits (in start order), then the rest by value density. With
+    /// <paramref name="churnBudget"/>, candidates without an anchor are added only while the changes (anchors not
+    /// placed plus additions) stay within it; candidates whose anchor no longer fits are placed again freely.
+    /// </summary>
+    public static IReadOnlyList<PlacedChoice> SolveKeepingAnchors(PlanningModel model, int? churnBudget = null)
     {
         ArgumentNullException.ThrowIfNull(model);
         var state = new PlacementState(model);
+        var changes = 0;
         foreach (var i in model.AnchorChoices.OrderBy(i => model.Choices[i].EarliestTick).ThenBy(i => i))
         {
-            state.TryPlace(i);
+            changes += state.TryPlace(i) ? 0 : 1;
         }
 
+        var anchored = model.AnchoredCandidates;
         foreach (var i in Enumerable.Range(0, model.Choices.Count).OrderByDescending(i => model.Choices[i].NetValue / model.Choices[i].DurationTicks).ThenBy(i => i))
         {
-            state.TryPlace(i);
+            var addition = !anchored[model.Choices[i].Candidate];
+            if (addition && churnBudget is { } budget && changes >= budget)
+            {
+                continue;
+            }
+
+            if (state.TryPlace(i) && addition)
+            {
+                changes++;
+            }
         }
 
         return state.Placed;

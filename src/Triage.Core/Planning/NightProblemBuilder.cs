@@ -68,6 +68,13 @@ public sealed record NightBuildSettings
     /// </summary>
     public double StabilityShare { get; init; } = 0.1;
 
+    /// <summary>
+    /// Replanning: the most changes the new version may make to the previous one's assignments that still fit (see
+    /// <see cref="PlanningProblem.ChurnBudget"/>; <see cref="NightReplan.ChurnBudget"/> derives it from the entries
+    /// ahead). Null: no limit. Default none.
+    /// </summary>
+    public int? ChurnBudget { get; init; }
+
     /// <summary>Settings of <see cref="PlanObjective.Identification"/> (ignored by the other objectives). Default: τ = 0.9, escalation on.</summary>
     public SequentialPlanSettings Sequential { get; init; } = new();
 }
@@ -514,6 +521,7 @@ public static class NightProblemBuilder
         {
             Anchors = anchors,
             StabilityShare = settings.StabilityShare,
+            ChurnBudget = anchors.Length == 0 ? null : settings.ChurnBudget,
         };
         return new PlanningNight(problem, nights, unitRoster.ToArray(), targets.ToArray(), notes, closedSpans.ToArray());
     }

@@ -25,6 +25,28 @@ public static class NightReplan
     /// <summary>Default freeze time: entries starting within 5 minutes of the replan instant are kept as they are.</summary>
     public static readonly TimeSpan DefaultFreeze = TimeSpan.FromMinutes(5);
 
+    /// <summary>Default most share of the entries ahead a replan may change (see <see cref="ChurnBudget"/>): 0.1.</summary>
+    public const double DefaultMaxChurnShare = 0.1;
+
+    /// <summary>
+    /// The churn budget of a replan: the most changes (moved, retimed, dropped or added entries) it may make to the
+    /// previous version, so that fewer than <paramref name="maxShare"/> of the N entries still ahead (kept and
+    /// anchored) change: ⌈share·N⌉ − 1, but at least one, so that a valuable arrival or a lost observation can
+    /// always enter (with fewer than 1/share entries ahead one change is then more than the share). Changes a
+    /// closure forces (entries that no longer fit) are not counted against it.
+    /// </summary>
+    /// <param name="start">The split of the previous version.</param>
+    /// <param name="maxShare">Share in (0, 1].</param>
+    /// <exception cref="ArgumentOutOfRangeException"><paramref name="maxShare"/> outside (0, 1].</exception>
+    public static int ChurnBudget(ReplanStart start, double maxShare = DefaultMaxChurnShare)
+    {
+        ArgumentNullException.ThrowIfNull(start);
+        ArgumentOutOfRangeException.ThrowIfLessThanOrEqual(maxShare, 0);
+        ArgumentOutOfRangeException.ThrowIfGreaterThan(maxShare, 1);
+        var ahead = start.Kept.Count + start.Anchors.Count;
+        return Math.Max(1, (int)Math.Ceiling(maxShare * ahead - 1e-9) - 1);
+    }
+
     /// <summary>Splits the previous version at <paramref name="fromUtc"/>.</summary>
     /// <param name="previous">The night's latest version (null for a first plan).</param>
     /// <param name="fromUtc">The replan instant.</param>

@@ -241,6 +241,54 @@ public sealed class PlanningModel
         return (new PlanningModel(Problem, Settings, choices.ToArray(), BudgetTicks.ToArray(), ChoicesBeforePruning, AnchorChoices.ToArray()), mapped);
     }
 
+    /// <summary>
+    /// Changes a plan makes to the previous version in the sense of <see cref="PlanningProblem.ChurnBudget"/>: anchor
+    /// choices not placed plus placed choices of candidates without an anchor. 0 for a first plan.
+    /// </summary>
+    public int ChangesOf(IEnumerable<PlacedChoice> placed)
+    {
+        ArgumentNullException.ThrowIfNull(placed);
+        if (Problem.Anchors.Count == 0)
+        {
+            return 0;
+        }
+
+        var anchored = AnchoredCandidates;
+        var kept = 0;
+        var added = 0;
+        var anchorSet = _anchorSet ??= AnchorChoices.ToHashSet();
+        foreach (var p in placed)
+        {
+            if (anchorSet.Contains(p.ChoiceIndex))
+            {
+                kept++;
+            }
+            else if (!anchored[Choices[p.ChoiceIndex].Candidate])
+            {
+                added++;
+            }
+        }
+
+        return AnchorChoices.Count - kept + added;
+    }
+
+    /// <summary>True for each candidate that has an assignment in the previous version (replanning).</summary>
+    public IReadOnlyList<bool> AnchoredCandidates => _anchored ??= Anchored(Problem);
+
+    private bool[]? _anchored;
+    private HashSet<int>? _anchorSet;
+
+    private static bool[] Anchored(PlanningProblem problem)
+    {
+        var result = new bool[problem.Candidates.Count];
+        foreach (var a in problem.Anchors)
+        {
+            result[a.Candidate] = true;
+        }
+
+        return result;
+    }
+
     /// <summary>Net value of a set of placed choices.</summary>
     public double ObjectiveOf(IEnumerable<PlacedChoice> placed) => placed.Sum(p => Choices[p.ChoiceIndex].NetValue);
 

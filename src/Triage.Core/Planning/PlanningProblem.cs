@@ -133,6 +133,14 @@ public sealed record PlanningProblem(
     /// <summary>An anchored assignment is worth (1 + this) × its net value to the solver, 0…1. Default 0.1.</summary>
     public double StabilityShare { get; init; } = 0.1;
 
+    /// <summary>
+    /// Replanning: the most changes the plan may make to the previous version, counted as anchored assignments that
+    /// still fit but are not kept (moved, retimed or dropped) plus candidates placed that had no previous assignment
+    /// (added). Anchors that no longer fit (a closure, a window gone) are forced and not counted. Null: no limit
+    /// (a first plan). ≥ 0.
+    /// </summary>
+    public int? ChurnBudget { get; init; }
+
     /// <summary>Cost of keeping <paramref name="unit"/> busy for <paramref name="seconds"/>.</summary>
     public double Cost(int unit, double seconds) => Units[unit].CostPerHour * seconds / 3600.0;
 

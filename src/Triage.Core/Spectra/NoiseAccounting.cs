@@ -29,13 +29,19 @@ public sealed record DegradedNoise(NoiseBudget Budget, double NativeElementNoise
 
     /// <summary>As above with the input's noise measured once by <see cref="InputNoiseSources.Of"/> (it does not depend on R).</summary>
     public static DegradedNoise Account(Spectrum spectrum, InputNoiseSources input, double? sourceResolution, LogWavelengthGrid grid,
-        ReadOnlySpan<double> flux, double resolution)
+        ReadOnlySpan<double> flux, double resolution) =>
+        Account(input, sourceResolution, grid, flux, resolution, SpectrumNoise.NoiseShape(spectrum, grid));
+
+    /// <summary>As above with the noise shape on <paramref name="grid"/> already found (see <see cref="SpectrumNoise.NoiseShapes"/>).</summary>
+    /// <param name="shape">The spectrum's <see cref="SpectrumNoise.NoiseShape"/> on <paramref name="grid"/>.</param>
+    public static DegradedNoise Account(InputNoiseSources input, double? sourceResolution, LogWavelengthGrid grid,
+        ReadOnlySpan<double> flux, double resolution, double[]? shape)
     {
         double sigmaK = Degradation.KernelSigmaLn(resolution, sourceResolution);
         double level = SpectrumNoise.ReferenceLevel(grid, flux);
         double present = SpectrumNoise.PropagatedElementNoise(input.Present, resolution, sigmaK);
         double native = SpectrumNoise.PropagatedElementNoise(input.Native, resolution, sigmaK);
-        return new DegradedNoise(new NoiseBudget(level, present), native, SpectrumNoise.NoiseShape(spectrum, grid));
+        return new DegradedNoise(new NoiseBudget(level, present), native, shape);
     }
 
     /// <summary>Realised S/N per element with <paramref name="addedElementNoise"/> added; null when it is infinite (no noise at all).</summary>

@@ -24,6 +24,8 @@
 //  3. Papoulis, A., "Probability, Random Variables and Stochastic Processes", 3rd ed., §9-2 (linear systems
 //     with stochastic inputs: output variance = input density × ∫ h²).
 //  4. Box, G. E. P. & Muller, M. E., "A note on the generation of random normal deviates", Ann. Math. Stat. 29, 610 (1958).
+using System.Runtime.Intrinsics;
+
 namespace Triage.Core.Spectra;
 
 /// <summary>
@@ -172,24 +174,74 @@ public static class SpectrumNoise
     /// Relative noise shape on <paramref name="grid"/> from an error column: √(mean σ²Δλ over each output bin / Δλ_bin),
     /// normalised to 1 at the reference wavelength; null when <paramref name="spectrum"/> has no error column.
     /// </summary>
-    public static double[]? NoiseShape(Spectrum spectrum, LogWavelengthGrid grid, double referenceAngstrom = ReferenceWavelengthAngstrom)
+    public static double[]? NoiseShape(Spectrum spectrum, LogWavelengthGrid grid, double referenceAngstrom = ReferenceWavelengthAngstrom) =>
+        ErrorDensity(spectrum) is { } density
+            ? ShapeOf(grid, FluxRebinning.ToGrid(spectrum.WavelengthAngstrom, density, grid), InverseWidths(grid), referenceAngstrom)
+            : null;
+
+    /// <summary>
+    /// <see cref="NoiseShape"/> of many spectra sampled at the wavelengths <paramref name="binning"/> was built for, binned
+    /// by its shared weights (equal to the one-by-one shapes to rounding).
+    /// </summary>
+    /// <exception cref="ArgumentException">A spectrum of another length than the binning's wavelength array.</exception>
+    public static double[]?[] NoiseShapes(IReadOnlyList<Spectrum> spectra, NoiseShapeBinning binning, double referenceAngstrom = ReferenceWavelengthAngstrom)
+    {
+        ArgumentNullException.ThrowIfNull(spectra);
+        ArgumentNullException.ThrowIfNull(binning);
+        var withError = Enumerable.Range(0, spectra.Count).Where(i => spectra[i].FluxError is not null).ToArray();
+        var binned = binning.Binning.Apply(withError.Select(i => Squares(spectra[i].FluxError!)).ToArray());
+        var shapes = new double[]?[spectra.Count];
+        for (int t = 0; t < withError.Length; t++) shapes[withError[t]] = ShapeOf(binning.Binning.Grid, binned[t], binning.InverseWidths, referenceAngstrom);
+        return shapes;
+    }
+
+    private static double[] Squares(double[] values)
+    {
+        var squares = new double[values.Length];
+        int i = 0;
+        if (Vector512.IsHardwareAccelerated)
+            for (; i <= values.Length - 8; i += 8)
+            {
+                var v = Vector512.Create(values, i);
+                (v * v).CopyTo(squares, i);
+            }
+        for (; i < values.Length; i++) squares[i] = values[i] * values[i];
+        return squares;
+    }
+
+    // σ² per Å times the pixel's width: its running integral is the variance a bin collects.
+    private static double[]? ErrorDensity(Spectrum spectrum)
     {
         if (spectrum.FluxError is not { } err) return null;
-        var w = spectrum.WavelengthAngstrom;
-        var density = new double[w.Length];
-        for (int i = 0; i < w.Length; i++)
-        {
-            double width = i == 0 ? w[1] - w[0] : i == w.Length - 1 ? w[^1] - w[^2] : 0.5 * (w[i + 1] - w[i - 1]);
-            density[i] = err[i] * err[i] * width;
-        }
-        var binned = FluxRebinning.ToGrid(w, density, grid);
+        var density = PixelWidths(spectrum.WavelengthAngstrom);
+        for (int i = 0; i < density.Length; i++) density[i] *= err[i] * err[i];
+        return density;
+    }
+
+    /// <summary>Width (Å) each sample stands for: half the distance to each neighbour, the outer ones their one gap.</summary>
+    internal static double[] PixelWidths(double[] w)
+    {
+        var width = new double[w.Length];
+        for (int i = 0; i < w.Length; i++) width[i] = i == 0 ? w[1] - w[0] : i == w.Length - 1 ? w[^1] - w[^2] : 0.5 * (w[i + 1] - w[i - 1]);
+        return width;
+    }
+
+    internal static double[] InverseWidths(LogWavelengthGrid grid)
+    {
         var edges = grid.Edges();
-        var shape = new double[grid.Count];
-        for (int k = 0; k < grid.Count; k++)
-            shape[k] = Math.Sqrt(Math.Max(0, binned[k]) / (edges[k + 1] - edges[k]));
+        var inverse = new double[grid.Count];
+        for (int k = 0; k < grid.Count; k++) inverse[k] = 1 / (edges[k + 1] - edges[k]);
+        return inverse;
+    }
+
+    private static double[]? ShapeOf(LogWavelengthGrid grid, double[] binned, double[] inverseWidths, double referenceAngstrom)
+    {
+        var shape = binned;
+        for (int k = 0; k < shape.Length; k++) shape[k] = Math.Sqrt(Math.Max(0, binned[k]) * inverseWidths[k]);
         double atRef = ReferenceLevel(grid, shape, referenceAngstrom);
         if (!(atRef > 0)) return null;
-        for (int k = 0; k < shape.Length; k++) shape[k] = double.IsNaN(shape[k]) ? 1 : shape[k] / atRef;
+        double scale = 1 / atRef;
+        for (int k = 0; k < shape.Length; k++) shape[k] = double.IsNaN(shape[k]) ? 1 : shape[k] * scale;
         return shape;
     }
 
@@ -241,5 +293,32 @@ public static class SpectrumNoise
     {
         int i = Array.BinarySearch(a, x);
         return i >= 0 ? i : ~i;
+    }
+}
+
+/// <summary>
+/// The shared weights of <see cref="SpectrumNoise.NoiseShapes"/> for spectra sampled at one wavelength array and one
+/// output grid: the binning of σ² with each sample's width folded in, and the bins' inverse widths.
+/// </summary>
+public sealed class NoiseShapeBinning
+{
+    private NoiseShapeBinning(GridBinning binning, double[] inverseWidths)
+    {
+        Binning = binning; InverseWidths = inverseWidths;
+    }
+
+    internal GridBinning Binning { get; }
+
+    internal double[] InverseWidths { get; }
+
+    /// <summary>The grid the shapes are on.</summary>
+    public LogWavelengthGrid Grid => Binning.Grid;
+
+    /// <summary>The weights for spectra sampled at <paramref name="wavelengthAngstrom"/> (increasing, at least two) onto <paramref name="grid"/>.</summary>
+    public static NoiseShapeBinning Build(double[] wavelengthAngstrom, LogWavelengthGrid grid)
+    {
+        ArgumentNullException.ThrowIfNull(wavelengthAngstrom);
+        return new NoiseShapeBinning(GridBinning.Build(wavelengthAngstrom, grid, SpectrumNoise.PixelWidths(wavelengthAngstrom)),
+            SpectrumNoise.InverseWidths(grid));
     }
 }

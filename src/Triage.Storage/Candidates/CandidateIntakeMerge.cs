@@ -1,7 +1,6 @@
 using System.Text.Json;
 using Dapper;
 using Npgsql;
-using NpgsqlTypes;
 using Triage.Core.Candidates;
 
 namespace Triage.Storage.Candidates;
@@ -11,13 +10,14 @@ namespace Triage.Storage.Candidates;
 // instead of 50,000 point rows.
 //
 // Large batches: one probe reads which of the batch's broker ids are stored and the hash of
-// their last submission. Candidates never sent before go straight into candidates,
-// candidate_events and candidate_light_curves with three binary COPYs (PostgreSQL writes COPY
-// rows in buffered groups). Candidates sent with the same content are left alone (unchanged).
+// their last submission. Candidates never sent before go straight into candidates and
+// candidate_light_curves with two binary COPYs (PostgreSQL writes COPY rows in buffered groups;
+// the rows are encoded in memory by PgCopyRows). Their 'created' history event is read from the
+// candidate row itself (migration 0080), so nothing else is written for them. Candidates sent with the same content are left alone (unchanged).
 // Only those sent before with other content are merged: one COPY into a transaction-scoped
 // staging table, then one round trip of two statements:
 //   A. the candidate merge (INSERT … ON CONFLICT on the broker's id, which also re-checks the
-//      hash and the older-snapshot rule under the row lock), their events, and the light curves
+//      hash and the older-snapshot rule under the row lock), the updated ones' events, and the light curves
 //      of any candidates it created; the candidates it updated are noted in a second staging table;
 //   C. the stored light curves of those updated candidates.
 // The client merges those curves with the incoming points (StoredLightCurve.Merge) and writes them
@@ -53,7 +53,7 @@ public sealed partial class CandidateStore
         """;
 
     // Inserts new candidates and updates changed ones (content hash differs and the submission is
-    // not an older snapshot: its newest point is not earlier than the stored newest), writes their events,
+    // not an older snapshot: its newest point is not earlier than the stored newest), writes the updated ones' events,
     // and yields the candidates it touched: their ordinal n in the batch (via the staging rows),
     // stored id, and whether this statement created them. Rows are taken in broker-id order so
     // concurrent batches lock candidates in the same order.
@@ -77,8 +77,8 @@ public sealed partial class CandidateStore
               AND (candidates.newest_observed_at IS NULL OR EXCLUDED.newest_observed_at >= candidates.newest_observed_at)
             RETURNING id, broker_candidate_id, (xmax = 0) AS inserted
         ), events AS (
-            INSERT INTO candidate_events (candidate_id, at, kind, actor)
-            SELECT id, @now, CASE WHEN inserted THEN 'created' ELSE 'updated' END, @broker FROM up
+            INSERT INTO candidate_event_log (candidate_id, at, kind, actor)
+            SELECT id, @now, 'updated', @broker FROM up WHERE NOT inserted
         ), changed AS (
             SELECT up.id, up.inserted, s.n FROM up JOIN stage_candidates s ON s.broker_candidate_id = up.broker_candidate_id
         )
@@ -188,10 +188,21 @@ public sealed partial class CandidateStore
         }
     }
 
-    // Which of the batch's candidates the broker has sent before, and the hash of what it sent last.
+    // Which of the batch's candidates the broker has sent before, and the hash of what it sent last:
+    // one look-up in the broker-id key per candidate. Written as a loop over the ids (the OFFSET 0
+    // keeps the subquery from being flattened into a join) because the equivalent
+    // "broker_candidate_id = ANY(@cids)" was planned as a parallel sequential scan of the whole
+    // table once it held ~100,000 candidates: 30–50 ms at 170,000 and growing with the table,
+    // against 5–13 ms for 5,000 index look-ups at any size (docs/operations.md, "Batch intake at scale").
     private const string ProbeSql = """
-        SELECT broker_candidate_id, content_hash FROM candidates WHERE broker = @broker AND broker_candidate_id = ANY(@cids)
+        SELECT k.cid, c.content_hash
+        FROM unnest(@cids::text[]) AS k(cid)
+        CROSS JOIN LATERAL (
+            SELECT content_hash FROM candidates WHERE broker = @broker AND broker_candidate_id = k.cid OFFSET 0) c
         """;
+
+    // The number of columns in CandidateCopyColumns.
+    private const short CandidateCopyFields = 17;
 
     private const string CandidateCopyColumns =
         "id, broker_candidate_id, ra_deg, dec_deg, ux, uy, uz, discovered_at, redshift, redshift_error, " +
@@ -215,8 +226,8 @@ public sealed partial class CandidateStore
     }
 
     /// <summary>
-    /// Candidates the probe found absent: binary COPY straight into candidates, candidate_events
-    /// and candidate_light_curves (PostgreSQL inserts COPY rows in buffered groups, much cheaper
+    /// Candidates the probe found absent: binary COPY straight into candidates and
+    /// candidate_light_curves (PostgreSQL inserts COPY rows in buffered groups, much cheaper
     /// than row-by-row INSERT … ON CONFLICT). A concurrent batch that creates one of them first
     /// makes the unique broker-id key refuse this COPY (after waiting for its commit): the whole
     /// transaction rolls back and the batch is retried, now finding them present. Rows go in
@@ -226,68 +237,51 @@ public sealed partial class CandidateStore
     {
         var ids = NewIds(fresh.Count, now);
         var at = now.UtcDateTime;
-        await using (var copy = await conn.BeginBinaryImportAsync(
-            $"COPY candidates ({CandidateCopyColumns}, broker, created_at, updated_at) FROM STDIN (FORMAT BINARY)", ct))
+        var candidates = new PgCopyRows(fresh.Count * 256);
+        for (int n = 0; n < fresh.Count; n++)
         {
-            for (int n = 0; n < fresh.Count; n++)
-            {
-                copy.StartRow();
-                WriteCandidate(copy, ids[n], fresh[n]);
-                copy.Write(broker, NpgsqlDbType.Text);
-                copy.Write(at, NpgsqlDbType.TimestampTz);
-                copy.Write(at, NpgsqlDbType.TimestampTz);
-            }
-            await copy.CompleteAsync(ct);
+            candidates.StartRow(CandidateCopyFields + 3);
+            WriteCandidate(candidates, ids[n], fresh[n]);
+            candidates.Text(broker);
+            candidates.TimestampTz(at);
+            candidates.TimestampTz(at);
         }
-        await using (var copy = await conn.BeginBinaryImportAsync("COPY candidate_events (candidate_id, at, kind, actor) FROM STDIN (FORMAT BINARY)", ct))
-        {
-            foreach (var id in ids)
-            {
-                copy.StartRow();
-                copy.Write(id, NpgsqlDbType.Uuid);
-                copy.Write(at, NpgsqlDbType.TimestampTz);
-                copy.Write("created", NpgsqlDbType.Text);
-                copy.Write(broker, NpgsqlDbType.Text);
-            }
-            await copy.CompleteAsync(ct);
-        }
+        await candidates.SendAsync(conn, $"COPY candidates ({CandidateCopyColumns}, broker, created_at, updated_at) FROM STDIN (FORMAT BINARY)", ct);
         int points = 0;
-        await using (var copy = await conn.BeginBinaryImportAsync($"COPY candidate_light_curves (candidate_id, {LightCurveColumns}) FROM STDIN (FORMAT BINARY)", ct))
+        var curves = new PgCopyRows(fresh.Count * 1024);
+        for (int n = 0; n < fresh.Count; n++)
         {
-            for (int n = 0; n < fresh.Count; n++)
-            {
-                copy.StartRow();
-                copy.Write(ids[n], NpgsqlDbType.Uuid);
-                StoredLightCurve.Of(fresh[n].Candidate.Photometry).WriteTo(copy);
-                points += fresh[n].Candidate.Photometry.Count;
-            }
-            await copy.CompleteAsync(ct);
+            curves.StartRow(8);
+            curves.Uuid(ids[n]);
+            StoredLightCurve.Of(fresh[n].Candidate.Photometry).WriteTo(curves);
+            points += fresh[n].Candidate.Photometry.Count;
         }
+        await curves.SendAsync(conn, $"COPY candidate_light_curves (candidate_id, {LightCurveColumns}) FROM STDIN (FORMAT BINARY)", ct);
         return points;
     }
 
     /// <summary>The candidate columns of <see cref="CandidateCopyColumns"/>, in that order.</summary>
-    private static void WriteCandidate(NpgsqlBinaryImporter copy, Guid id, CandidateIntake intake)
+    private static void WriteCandidate(PgCopyRows copy, Guid id, CandidateIntake intake)
     {
         var (c, hash) = intake;
         var (x, y, z) = UnitVector(c.RaDeg, c.DecDeg);
-        copy.Write(id, NpgsqlDbType.Uuid);
-        copy.Write(c.Id, NpgsqlDbType.Text);
-        copy.Write(c.RaDeg, NpgsqlDbType.Double);
-        copy.Write(c.DecDeg, NpgsqlDbType.Double);
-        copy.Write(x, NpgsqlDbType.Double);
-        copy.Write(y, NpgsqlDbType.Double);
-        copy.Write(z, NpgsqlDbType.Double);
-        copy.Write(c.DiscoveredUtc.UtcDateTime, NpgsqlDbType.TimestampTz);
-        WriteNullable(copy, c.Redshift);
-        WriteNullable(copy, c.RedshiftError);
-        WriteNullable(copy, c.SubtypeProbabilities is null ? null : JsonSerializer.Serialize(c.SubtypeProbabilities), NpgsqlDbType.Jsonb);
-        copy.Write(c.ScienceWeight, NpgsqlDbType.Double);
-        WriteNullable(copy, c.Notes, NpgsqlDbType.Text);
-        WriteNullable(copy, c.BrokerState is null ? null : JsonSerializer.Serialize(c.BrokerState, BrokerBatchJson.Options), NpgsqlDbType.Jsonb);
-        copy.Write(hash, NpgsqlDbType.Bytea);
-        WriteNullable(copy, PeakFlux(c));
-        copy.Write(NewestObservation(c), NpgsqlDbType.TimestampTz);
+        copy.Uuid(id);
+        copy.Text(c.Id);
+        copy.Float8(c.RaDeg);
+        copy.Float8(c.DecDeg);
+        copy.Float8(x);
+        copy.Float8(y);
+        copy.Float8(z);
+        copy.TimestampTz(c.DiscoveredUtc.UtcDateTime);
+        copy.Float8(c.Redshift);
+        copy.Float8(c.RedshiftError);
+        copy.Jsonb(c.SubtypeProbabilities is null ? null : JsonSerializer.Serialize(c.SubtypeProbabilities));
+        copy.Float8(c.ScienceWeight);
+        copy.TextOrNull(c.Notes);
+        copy.Jsonb(c.BrokerState is null ? null : JsonSerializer.Serialize(c.BrokerState, BrokerBatchJson.Options));
+        copy.Bytea(hash);
+        copy.Float8(PeakFlux(c));
+        copy.TimestampTz(NewestObservation(c));
     }
 
     /// <summary>
@@ -299,19 +293,16 @@ public sealed partial class CandidateStore
         NpgsqlConnection conn, NpgsqlTransaction tx, string broker, IReadOnlyList<CandidateIntake> batch, DateTimeOffset now, CancellationToken ct)
     {
         await conn.ExecuteAsync(new CommandDefinition(CreateStagingSql, transaction: tx, cancellationToken: ct));
-        await using (var copy = await conn.BeginBinaryImportAsync(
-            $"COPY stage_candidates (n, {CandidateCopyColumns}, {LightCurveColumns}) FROM STDIN (FORMAT BINARY)", ct))
+        var staged = new PgCopyRows(batch.Count * 1280);
+        var ids = NewIds(batch.Count, now);
+        for (int n = 0; n < batch.Count; n++)
         {
-            var ids = NewIds(batch.Count, now);
-            for (int n = 0; n < batch.Count; n++)
-            {
-                copy.StartRow();
-                copy.Write(n, NpgsqlDbType.Integer);
-                WriteCandidate(copy, ids[n], batch[n]);
-                StoredLightCurve.Of(batch[n].Candidate.Photometry).WriteTo(copy);
-            }
-            await copy.CompleteAsync(ct);
+            staged.StartRow(1 + CandidateCopyFields + 7);
+            staged.Int4(n);
+            WriteCandidate(staged, ids[n], batch[n]);
+            StoredLightCurve.Of(batch[n].Candidate.Photometry).WriteTo(staged);
         }
+        await staged.SendAsync(conn, $"COPY stage_candidates (n, {CandidateCopyColumns}, {LightCurveColumns}) FROM STDIN (FORMAT BINARY)", ct);
 
         // A and C in one round trip, as two statements: C's snapshot is taken after A holds its locks.
         await using var merge = new NpgsqlBatch(conn, tx)
@@ -344,17 +335,14 @@ public sealed partial class CandidateStore
         if (merged.Count > 0)
         {
             // D: the merged curves of the updated candidates, in id order.
-            await using (var copy = await conn.BeginBinaryImportAsync(
-                $"COPY stage_merged (candidate_id, {LightCurveColumns}) FROM STDIN (FORMAT BINARY)", ct))
+            var rows = new PgCopyRows(merged.Count * 1024);
+            foreach (var (id, curve) in merged)
             {
-                foreach (var (id, curve) in merged)
-                {
-                    copy.StartRow();
-                    copy.Write(id, NpgsqlDbType.Uuid);
-                    curve.WriteTo(copy);
-                }
-                await copy.CompleteAsync(ct);
+                rows.StartRow(8);
+                rows.Uuid(id);
+                curve.WriteTo(rows);
             }
+            await rows.SendAsync(conn, $"COPY stage_merged (candidate_id, {LightCurveColumns}) FROM STDIN (FORMAT BINARY)", ct);
             await conn.ExecuteAsync(new CommandDefinition(StoreMergedCurvesSql, transaction: tx, cancellationToken: ct));
         }
         return (created, updated, written);
@@ -457,30 +445,6 @@ public sealed partial class CandidateStore
         }
         Array.Sort(ids, static (a, b) => a.CompareTo(b));
         return ids;
-    }
-
-    private static void WriteNullable(NpgsqlBinaryImporter copy, double? value)
-    {
-        if (value is { } v)
-        {
-            copy.Write(v, NpgsqlDbType.Double);
-        }
-        else
-        {
-            copy.WriteNull();
-        }
-    }
-
-    private static void WriteNullable(NpgsqlBinaryImporter copy, string? value, NpgsqlDbType type)
-    {
-        if (value is null)
-        {
-            copy.WriteNull();
-        }
-        else
-        {
-            copy.Write(value, type);
-        }
     }
 
     /// <summary>

@@ -253,7 +253,7 @@ public sealed partial class CandidateStore(NpgsqlDataSource dataSource)
         await using var tx = await conn.BeginTransactionAsync(ct);
         await conn.ExecuteAsync(new CommandDefinition("""
             DELETE FROM candidate_light_curves WHERE candidate_id IN (SELECT id FROM candidates WHERE broker = @broker);
-            DELETE FROM candidate_events WHERE candidate_id IN (SELECT id FROM candidates WHERE broker = @broker);
+            DELETE FROM candidate_event_log WHERE candidate_id IN (SELECT id FROM candidates WHERE broker = @broker);
             """, new { broker }, tx, cancellationToken: ct));
         var count = await conn.ExecuteAsync(new CommandDefinition("DELETE FROM candidates WHERE broker = @broker", new { broker }, tx, cancellationToken: ct));
         await tx.CommitAsync(ct);
@@ -360,7 +360,7 @@ public sealed partial class CandidateStore(NpgsqlDataSource dataSource)
         """;
 
     private const string EventSql = """
-        INSERT INTO candidate_events (candidate_id, at, kind, from_state, to_state, actor, detail)
+        INSERT INTO candidate_event_log (candidate_id, at, kind, from_state, to_state, actor, detail)
         VALUES (@id, @now, @kind, @from, @to, @actor, @detail)
         """;
 
@@ -393,7 +393,7 @@ public sealed partial class CandidateStore(NpgsqlDataSource dataSource)
             FROM old WHERE c.id = old.id
             RETURNING c.id
         )
-        INSERT INTO candidate_events (candidate_id, at, kind, from_state, to_state, actor, detail)
+        INSERT INTO candidate_event_log (candidate_id, at, kind, from_state, to_state, actor, detail)
         SELECT id, @now, 'transition', @from, @to, @actor, @detail FROM moved
         """;
 

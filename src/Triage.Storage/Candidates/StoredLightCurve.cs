@@ -67,22 +67,16 @@ internal sealed record StoredLightCurve(
             reader.GetFieldValue<double?[]>(first + 5),
             reader.GetFieldValue<double?[]>(first + 6));
 
-    /// <summary>
-    /// Writes the seven arrays as the next columns of a binary COPY row. Each array goes out as
-    /// its PostgreSQL binary representation, encoded here in one buffer per column (the field of
-    /// a binary COPY row is a length and the bytes the column type's receive function reads, see
-    /// <see cref="PgBinaryArray"/>): Npgsql's general array writer cost about as much client time
-    /// as the whole database work of a batch.
-    /// </summary>
-    public void WriteTo(NpgsqlBinaryImporter copy)
+    /// <summary>Writes the seven arrays as the next fields of a binary COPY row.</summary>
+    public void WriteTo(PgCopyRows copy)
     {
-        copy.Write(PgBinaryArray.Text(Band), NpgsqlDbType.Bytea);
-        copy.Write(PgBinaryArray.TimestampTz(ObservedAt), NpgsqlDbType.Bytea);
-        copy.Write(PgBinaryArray.Float8(FluxMicroJy), NpgsqlDbType.Bytea);
-        copy.Write(PgBinaryArray.Float8(FluxErrorMicroJy), NpgsqlDbType.Bytea);
-        copy.Write(PgBinaryArray.Bool(UpperLimit), NpgsqlDbType.Bytea);
-        copy.Write(PgBinaryArray.Float8(MagAb), NpgsqlDbType.Bytea);
-        copy.Write(PgBinaryArray.Float8(MagAbError), NpgsqlDbType.Bytea);
+        copy.TextArray(Band);
+        copy.TimestampTzArray(ObservedAt);
+        copy.Float8Array(FluxMicroJy);
+        copy.Float8Array(FluxErrorMicroJy);
+        copy.BoolArray(UpperLimit);
+        copy.Float8Array(MagAb);
+        copy.Float8Array(MagAbError);
     }
 
     /// <summary>The seven arrays as command parameters named band … mag_ab_error.</summary>

@@ -92,7 +92,7 @@ public sealed partial class PlanStore(NpgsqlDataSource dataSource)
             FOR UPDATE OF c),
         before AS (
             SELECT DISTINCT ON (e.candidate_id) e.candidate_id, e.from_state
-            FROM candidate_events e JOIN dropped d ON d.id = e.candidate_id
+            FROM candidate_event_log e JOIN dropped d ON d.id = e.candidate_id
             WHERE e.to_state = 'planned' AND e.from_state IS NOT NULL AND e.from_state <> 'planned'
             ORDER BY e.candidate_id, e.id DESC),
         moved AS (
@@ -100,7 +100,7 @@ public sealed partial class PlanStore(NpgsqlDataSource dataSource)
             FROM dropped d LEFT JOIN before b ON b.candidate_id = d.id
             WHERE c.id = d.id
             RETURNING c.id, c.state)
-        INSERT INTO candidate_events (candidate_id, at, kind, from_state, to_state, actor, detail)
+        INSERT INTO candidate_event_log (candidate_id, at, kind, from_state, to_state, actor, detail)
         SELECT id, @now, 'transition', 'planned', state, 'planner', 'left out of plan version ' || @version || ' of ' || @night::text FROM moved
         """;
 
@@ -111,7 +111,7 @@ public sealed partial class PlanStore(NpgsqlDataSource dataSource)
             UPDATE candidates c SET state = 'planned', version = c.version + 1, updated_at = @now
             FROM waiting w WHERE c.id = w.id
             RETURNING c.id, w.state AS from_state)
-        INSERT INTO candidate_events (candidate_id, at, kind, from_state, to_state, actor, detail)
+        INSERT INTO candidate_event_log (candidate_id, at, kind, from_state, to_state, actor, detail)
         SELECT id, @now, 'transition', from_state, 'planned', 'planner', 'in plan version ' || @version || ' of ' || @night::text FROM moved
         """;
 
