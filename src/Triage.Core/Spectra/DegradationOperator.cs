@@ -138,38 +138,34 @@ public sealed class DegradationOperator
         int n = InputCount, b = 0;
         if (Vector512.IsHardwareAccelerated && !StepByStep && _toOutput is not null && fluxes.Count >= SparseRows.Block)
         {
-            var x = new double[SparseRows.Block * n];
-            var g = _toWork is null ? null : new double[SparseRows.Block * _toWork.Rows];
-            var y = new double[SparseRows.Block * Grid.Count];
+            // Each buffer is written in full before it is read.
+            var x = GC.AllocateUninitializedArray<double>(SparseRows.Block * n);
+            var g = _toWork is null ? null : GC.AllocateUninitializedArray<double>(SparseRows.Block * _toWork.Rows);
+            var y = GC.AllocateUninitializedArray<double>(SparseRows.Block * Grid.Count);
             for (; b + SparseRows.Block <= fluxes.Count; b += SparseRows.Block)
             {
-                bool clean = true;
-                for (int s = 0; s < SparseRows.Block && clean; s++)
+                for (int s = 0; s < SparseRows.Block; s++)
                 {
                     var f = fluxes[b + s] ?? throw new ArgumentException("A flux is null.", nameof(fluxes));
                     if (f.Length != n) throw new ArgumentException($"A flux has {f.Length} values; the operator takes {n}.", nameof(fluxes));
-                    clean = !SparseRows.HasNaN(f);
                 }
+                // Long binning rows (low R) are cheaper one spectrum at a time than interleaving the input.
+                bool direct = g is not null && _toWork!.MeanRowLength >= 12;
+                bool clean = true;
+                if (direct)
+                    for (int s = 0; s < SparseRows.Block && clean; s++) clean = !SparseRows.HasNaN(fluxes[b + s]);
+                else clean = SparseRows.Interleave(fluxes, b, x);
                 if (!clean)
                 {
                     for (int s = 0; s < SparseRows.Block; s++) results[b + s] = Apply(fluxes[b + s]);
                     continue;
                 }
-                if (g is null)
-                {
-                    SparseRows.Interleave(fluxes, b, x);
-                    _toOutput.ApplyInterleaved8(x, y);
-                }
+                if (g is null) _toOutput.ApplyInterleaved8(x, y);
                 else
                 {
-                    // Long binning rows (low R) are cheaper one spectrum at a time than interleaving the input.
-                    if (_toWork!.MeanRowLength >= 12)
-                        for (int s = 0; s < SparseRows.Block; s++) _toWork.Apply(fluxes[b + s], g, false, SparseRows.Block, s);
-                    else
-                    {
-                        SparseRows.Interleave(fluxes, b, x);
-                        _toWork.ApplyInterleaved8(x, g);
-                    }
+                    if (direct)
+                        for (int s = 0; s < SparseRows.Block; s++) _toWork!.Apply(fluxes[b + s], g, false, SparseRows.Block, s);
+                    else _toWork!.ApplyInterleaved8(x, g);
                     _toOutput.ApplyInterleaved8(g, y);
                 }
                 SparseRows.Deinterleave(y, results, b, Grid.Count);
@@ -270,11 +266,27 @@ public sealed class DegradationOperator
                 int j = j0 + q;
                 double coef = beta[q] * scale[j];
                 if (coef == 0) continue;
-                for (int t = Math.Max(-h, -j); t <= Math.Min(h, nw - 1 - j); t++)
-                    row[j + t - lo] += coef * kernel[t + h] * centres[j + t];
+                int t0 = Math.Max(-h, -j), t1 = Math.Min(h, nw - 1 - j);
+                AddScaledProduct(row.Slice(j + t0 - lo, t1 - t0 + 1), coef, kernel.AsSpan(t0 + h, t1 - t0 + 1), centres.AsSpan(j + t0, t1 - t0 + 1));
             }
         }
         return rows.Build();
+    }
+
+    /// <summary>destination[t] += coef · a[t] · b[t], vectorised (the same products and sums as the plain loop).</summary>
+    private static void AddScaledProduct(Span<double> destination, double coef, ReadOnlySpan<double> a, ReadOnlySpan<double> b)
+    {
+        int i = 0;
+        if (Vector512.IsHardwareAccelerated)
+        {
+            var c = Vector512.Create(coef);
+            for (; i <= destination.Length - 8; i += 8)
+            {
+                var d = Vector512.Create<double>(destination[i..]) + c * Vector512.Create(a[i..]) * Vector512.Create(b[i..]);
+                d.CopyTo(destination[i..]);
+            }
+        }
+        for (; i < destination.Length; i++) destination[i] += coef * a[i] * b[i];
     }
 
     /// <summary>The product <paramref name="a"/> · <paramref name="b"/> (b's rows over <paramref name="columns"/> columns).</summary>

@@ -169,18 +169,17 @@ internal sealed class SparseRows(int[] start, int[] offset, int[] lead, int[] le
         int b = 0;
         if (Vector512.IsHardwareAccelerated && xs.Count >= Block)
         {
-            var x = new double[Block * columns];
-            var y = new double[Block * Rows];
+            var x = GC.AllocateUninitializedArray<double>(Block * columns);
+            var y = GC.AllocateUninitializedArray<double>(Block * Rows);
             for (; b + Block <= xs.Count; b += Block)
             {
                 bool clean = true;
-                for (int s = 0; s < Block && clean; s++) clean = xs[b + s].Length == columns && !HasNaN(xs[b + s]);
-                if (!clean)
+                for (int s = 0; s < Block; s++) clean &= xs[b + s].Length == columns;
+                if (!clean || !Interleave(xs, b, x))
                 {
                     for (int s = 0; s < Block; s++) results[b + s] = one(xs[b + s]);
                     continue;
                 }
-                Interleave(xs, b, x);
                 ApplyInterleaved8(x, y);
                 Deinterleave(y, results, b, Rows);
             }
@@ -206,7 +205,11 @@ internal sealed class SparseRows(int[] start, int[] offset, int[] lead, int[] le
     internal static readonly int Lanes = Vector512.IsHardwareAccelerated ? 8 : Vector256.IsHardwareAccelerated ? 4 : 1;
 
 
-    internal static void Interleave(IReadOnlyList<double[]> fluxes, int from, double[] x)
+    /// <summary>
+    /// x[8 i + s] = fluxes[from + s][i] for the eight fluxes of a block, by 8 × 8 transposes; false when a value is NaN
+    /// (seen on the way, so the fluxes are read once).
+    /// </summary>
+    internal static bool Interleave(IReadOnlyList<double[]> fluxes, int from, double[] x)
     {
         var f0 = fluxes[from]; var f1 = fluxes[from + 1]; var f2 = fluxes[from + 2]; var f3 = fluxes[from + 3];
         var f4 = fluxes[from + 4]; var f5 = fluxes[from + 5]; var f6 = fluxes[from + 6]; var f7 = fluxes[from + 7];
@@ -215,30 +218,42 @@ internal sealed class SparseRows(int[] start, int[] offset, int[] lead, int[] le
             || x.Length < Block * n)
             throw new ArgumentException("The fluxes of a block differ in length.", nameof(fluxes));
         int i = 0;
+        bool clean = true;
         if (Avx512F.IsSupported)
         {
             ref double xr = ref MemoryMarshal.GetArrayDataReference(x);
+            var same = Vector512<double>.AllBitsSet;
             for (; i <= n - Block; i += Block)
             {
                 var r0 = Vector512.Create(f0, i); var r1 = Vector512.Create(f1, i); var r2 = Vector512.Create(f2, i); var r3 = Vector512.Create(f3, i);
                 var r4 = Vector512.Create(f4, i); var r5 = Vector512.Create(f5, i); var r6 = Vector512.Create(f6, i); var r7 = Vector512.Create(f7, i);
+                // NaN is the one value unequal to itself.
+                same &= Vector512.Equals(r0, r0) & Vector512.Equals(r1, r1) & Vector512.Equals(r2, r2) & Vector512.Equals(r3, r3)
+                        & Vector512.Equals(r4, r4) & Vector512.Equals(r5, r5) & Vector512.Equals(r6, r6) & Vector512.Equals(r7, r7);
                 Transpose8(ref r0, ref r1, ref r2, ref r3, ref r4, ref r5, ref r6, ref r7);
                 ref double d = ref Unsafe.Add(ref xr, Block * i);
                 r0.StoreUnsafe(ref d, 0); r1.StoreUnsafe(ref d, 8); r2.StoreUnsafe(ref d, 16); r3.StoreUnsafe(ref d, 24);
                 r4.StoreUnsafe(ref d, 32); r5.StoreUnsafe(ref d, 40); r6.StoreUnsafe(ref d, 48); r7.StoreUnsafe(ref d, 56);
             }
+            clean = Vector512.EqualsAll(same.AsUInt64(), Vector512<ulong>.AllBitsSet);
         }
         for (; i < n; i++)
-            Vector512.Create(f0[i], f1[i], f2[i], f3[i], f4[i], f5[i], f6[i], f7[i]).CopyTo(x, Block * i);
+        {
+            var v = Vector512.Create(f0[i], f1[i], f2[i], f3[i], f4[i], f5[i], f6[i], f7[i]);
+            clean &= Vector512.EqualsAll(v, v);
+            v.CopyTo(x, Block * i);
+        }
+        return clean;
     }
 
     /// <summary>The inverse of <see cref="Interleave"/>: y[8 k + s] into results[from + s][k].</summary>
     internal static void Deinterleave(double[] y, double[][] results, int from, int count)
     {
-        var d0 = results[from] = new double[count]; var d1 = results[from + 1] = new double[count];
-        var d2 = results[from + 2] = new double[count]; var d3 = results[from + 3] = new double[count];
-        var d4 = results[from + 4] = new double[count]; var d5 = results[from + 5] = new double[count];
-        var d6 = results[from + 6] = new double[count]; var d7 = results[from + 7] = new double[count];
+        // Every value is written below, so the arrays need no zeroing.
+        var d0 = results[from] = GC.AllocateUninitializedArray<double>(count); var d1 = results[from + 1] = GC.AllocateUninitializedArray<double>(count);
+        var d2 = results[from + 2] = GC.AllocateUninitializedArray<double>(count); var d3 = results[from + 3] = GC.AllocateUninitializedArray<double>(count);
+        var d4 = results[from + 4] = GC.AllocateUninitializedArray<double>(count); var d5 = results[from + 5] = GC.AllocateUninitializedArray<double>(count);
+        var d6 = results[from + 6] = GC.AllocateUninitializedArray<double>(count); var d7 = results[from + 7] = GC.AllocateUninitializedArray<double>(count);
         int k = 0;
         if (Avx512F.IsSupported)
         {
