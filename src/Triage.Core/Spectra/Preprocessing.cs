@@ -123,10 +123,9 @@ public static class Preprocessing
             for (int i = 0; i < bins; i++) features[i] = (float)Math.Log(Math.Max(LogFloor, rest[i]));
             return features;
         }
-        var t = new double[bins];
-        for (int i = 0; i < bins; i++) t[i] = bins == 1 ? 0 : -1 + 2.0 * i / (bins - 1);
+        var t = ScaledAxis(bins);
         int degree = Math.Min(o.ContinuumDegree, bins - 1);
-        var coeffs = MathNet.Numerics.Fit.Polynomial(t, rest, degree);
+        var coeffs = ContinuumCoefficients(rest, degree);
         double floor = 0.05;
         for (int i = 0; i < bins; i++)
             features[i] = (float)(rest[i] / Math.Max(floor, Poly(coeffs, t[i])) - 1.0);
@@ -136,6 +135,37 @@ public static class Preprocessing
             features[bins + k] = (float)Math.Log(Math.Max(floor, Poly(coeffs, tk)));
         }
         return features;
+    }
+
+    /// <summary>
+    /// Least-squares coefficients c₀…c_d (constant first) of the polynomial of degree <paramref name="degree"/> through
+    /// <paramref name="values"/> at t uniformly spaced on [−1, 1] (t = 0 for one value): the result of MathNet's
+    /// <c>Fit.Polynomial</c> (Householder QR of the Vandermonde matrix) bit for bit, with the factorisation kept per
+    /// (length, degree) on each thread, since every spectrum at one R shares the axis.
+    /// </summary>
+    /// <exception cref="ArgumentException">Fewer values than coefficients.</exception>
+    public static double[] ContinuumCoefficients(double[] values, int degree)
+    {
+        ArgumentNullException.ThrowIfNull(values);
+        if (degree < 0 || values.Length < degree + 1) throw new ArgumentException($"{values.Length} values cannot fit degree {degree}.", nameof(values));
+        var fits = _continuumFits ??= [];
+        if (!fits.TryGetValue((values.Length, degree), out var qr))
+        {
+            var t = ScaledAxis(values.Length);
+            fits[(values.Length, degree)] = qr = MathNet.Numerics.LinearAlgebra.Matrix<double>.Build.Dense(values.Length, degree + 1, (i, j) => Math.Pow(t[i], j)).QR();
+        }
+        return qr.Solve(MathNet.Numerics.LinearAlgebra.Vector<double>.Build.Dense(values)).ToArray();
+    }
+
+    // The factorisations are immutable once made; one table per thread keeps them free of locks.
+    [ThreadStatic]
+    private static Dictionary<(int Length, int Degree), MathNet.Numerics.LinearAlgebra.Factorization.QR<double>>? _continuumFits;
+
+    private static double[] ScaledAxis(int bins)
+    {
+        var t = new double[bins];
+        for (int i = 0; i < bins; i++) t[i] = bins == 1 ? 0 : -1 + 2.0 * i / (bins - 1);
+        return t;
     }
 
     // Flux below 1 % of the mean (noise at a blue edge) is clipped before the logarithm.
