@@ -120,7 +120,7 @@ public static class CalibrationPipeline
         }
         var degradeTime = sw.Elapsed;
         // Rows without a redshift get one estimated from their own degraded, noised spectrum, by cross-correlation
-        // with templates built from the spectra of known redshift that train the fold testing them (never from
+        // with templates (per subtype and phase bin) built from the spectra of known redshift that train the fold testing them (never from
         // the held-out objects), at this R (docs/calibration.md, "Redshift from the spectrum").
         RedshiftTemplates?[]? templates = null;
         if (run.WithoutRedshift > 0)
@@ -130,7 +130,7 @@ public static class CalibrationPipeline
             {
                 var train = splits[k].Train;
                 if (train.Length > 0)
-                    templates[k] = RedshiftTemplates.Build(train.Select(i => (spectra[i].Subtype, degraded[i].W, degraded[i].F, spectra[i].Redshift!.Value)), r);
+                    templates[k] = RedshiftTemplates.Build(train.Select(i => (TemplateLabel(spectra[i], settings.PhaseBins), degraded[i].W, degraded[i].F, spectra[i].Redshift!.Value)), r);
             });
         }
         sw.Restart();
@@ -193,6 +193,11 @@ public static class CalibrationPipeline
         }
         return (new ResolutionOutcome(r, cells, confusions, summaries, correct) { EstimatedRedshift = estimated }, new CalibrationTimings(degradeTime, featureTime, trainTime, total.Elapsed));
     }
+
+    // One redshift template per subtype and phase bin: features and velocities change with phase, and a template
+    // mixing phases is smeared (measured in docs/calibration.md, "Redshift from the spectrum").
+    private static string TemplateLabel(LibrarySpectrum s, IReadOnlyList<PhaseBin> bins) =>
+        s.Subtype + " " + (bins.FirstOrDefault(b => s.PhaseDays >= b.FromDays && s.PhaseDays < b.ToDays)?.Name ?? "other");
 
     // The fold's templates' estimate, or their prior when the fold has none (every training row lacks a redshift).
     private static double EstimateRedshift(RedshiftTemplates? templates, double[] w, double[] flux, CalibrationRun run) =>

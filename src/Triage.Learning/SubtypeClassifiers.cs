@@ -126,7 +126,10 @@ public static class SubtypeClassifiers
             var train = ml.Data.LoadFromEnumerable(
                 trainFeatures.Select((x, i) => new Row { Label = (uint)trainLabels[i], Weight = trainWeights[i], Features = x }), schema);
             var test = ml.Data.LoadFromEnumerable(testFeatures.Select(x => new Row { Label = 0, Weight = 1, Features = x }), schema);
-            IEstimator<ITransformer> pipeline = ml.Transforms.NormalizeMeanVariance("Features");
+            // Standardised to mean 0 and unit variance on the training fold. ML.NET's default (fixZero) only scales:
+            // features with a large common offset (mean-normalised flux ≈ 1, log colours) then leave the problem badly
+            // conditioned and the regularisation acting on the offset (docs/calibration.md, "Centred standardisation").
+            IEstimator<ITransformer> pipeline = ml.Transforms.NormalizeMeanVariance("Features", fixZero: false);
             if (pcaRank > 0 && dim > pcaRank)
                 pipeline = pipeline.Append(ml.Transforms.ProjectToPrincipalComponents("Features", rank: pcaRank, seed: seed));
             // The trainers pass over the data many times: cache the normalised rows once instead of

@@ -23,7 +23,7 @@ internal static class CalibrateVerb
         var seed = new Option<int>("--seed") { Description = "Seed of folds and noise (default 1).", DefaultValueFactory = _ => 1 };
         var model = new Option<string>("--model") { Description = $"Classifier: {string.Join(", ", SubtypeClassifiers.Names)} (default linear).", DefaultValueFactory = _ => "linear" };
         var continuum = new Option<ContinuumHandling>("--continuum") { Description = "Continuum handling (default DivideKeepColour).", DefaultValueFactory = _ => ContinuumHandling.DivideKeepColour };
-        var maxBins = new Option<int>("--max-bins") { Description = "Upper bound on flux bins of the feature vector (default 200).", DefaultValueFactory = _ => new PreprocessOptions().MaxBins };
+        var maxBins = new Option<int>("--max-bins") { Description = string.Create(System.Globalization.CultureInfo.InvariantCulture, $"Upper bound on flux bins of the feature vector (default {new PreprocessOptions().MaxBins})."), DefaultValueFactory = _ => new PreprocessOptions().MaxBins };
         var defaults = new PreprocessOptions();
         var lowBelow = new Option<double?>("--low-r-below") { Description = $"Below this R use the low-R feature choice (default {defaults.LowResolutionBelow.ToString(CultureInfo.InvariantCulture)}; 0: one choice for every R)." };
         var lowContinuum = new Option<ContinuumHandling?>("--low-r-continuum") { Description = $"Continuum handling below --low-r-below (default {defaults.LowResolution?.Continuum.ToString() ?? "none"})." };

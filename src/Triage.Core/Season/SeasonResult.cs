@@ -19,16 +19,25 @@ public sealed record NightLoad(int Pool, int WorthObserving, double DemandHours,
     public double Oversubscription => CapacityHours > 0 ? DemandHours / CapacityHours : double.PositiveInfinity;
 }
 
+/// <summary>Final labels of one kind.</summary>
+/// <param name="Correct">Labels equal to the true subtype.</param>
+/// <param name="Wrong">Labels that differ from it.</param>
+/// <param name="MeanProbability">Mean posterior probability of the labelled subtype when the label was given (NaN: none).</param>
+public sealed record LabelCount(int Correct, int Wrong, double MeanProbability);
+
 /// <summary>One strategy's season.</summary>
 /// <param name="Name">Strategy name.</param>
-/// <param name="CorrectIdentifications">Final labels equal to the true subtype.</param>
+/// <param name="CorrectIdentifications">Final labels equal to the true subtype (sequential strategies: identified at τ plus closed with the best label).</param>
 /// <param name="WrongIdentifications">Final labels that differ from the true subtype.</param>
+/// <param name="IdentifiedAtConfidence">Sequential strategies: labels given when the posterior reached τ (null for one-shot strategies).</param>
+/// <param name="ClosedWithBestLabel">Sequential strategies: unsettled candidates given their most probable subtype when they left the pool for good or at the end of the season (null for one-shot strategies).</param>
+/// <param name="ClosedAtSeasonEnd">The part of <paramref name="ClosedWithBestLabel"/> closed at the end of the season, still in the pool (null for one-shot strategies).</param>
 /// <param name="Observations">Spectra taken (weather losses excluded).</param>
 /// <param name="WeatherLosses">Planned spectra lost to weather.</param>
 /// <param name="HoursPerUnit">Hours (exposure plus overhead) per spectrograph name.</param>
 /// <param name="HighResolutionHours">Hours on units with R at or above the high-R threshold.</param>
 /// <param name="IdentificationsPerHighResolutionHour">Correct identifications per high-R hour.</param>
-/// <param name="MedianDaysToIdentification">Median days from discovery (or the season's first evening, if later) to a correct identification (NaN: none).</param>
+/// <param name="MedianDaysToIdentification">Median days from discovery (or the season's first evening, if later) to a correct final label: the spectrum that gave it, or, for a closed label, the moment it was closed (NaN: none).</param>
 /// <param name="RareSubtypeIdentifications">Correct identifications of subtypes with base rate below the rare threshold.</param>
 /// <param name="HighResolutionHoursOnAmbiguous">High-R hours on objects a low-R spectrum had left unsettled.</param>
 /// <param name="AmbiguousHighResolutionShare">That as a share of all high-R hours.</param>
@@ -44,6 +53,9 @@ public sealed record StrategyResult(
     string Name,
     int CorrectIdentifications,
     int WrongIdentifications,
+    LabelCount? IdentifiedAtConfidence,
+    LabelCount? ClosedWithBestLabel,
+    LabelCount? ClosedAtSeasonEnd,
     int Observations,
     int WeatherLosses,
     IReadOnlyDictionary<string, double> HoursPerUnit,

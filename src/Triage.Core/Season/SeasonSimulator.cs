@@ -8,6 +8,8 @@
 //   answer j  ~ C_truth(·|s) at (R, S/N, true phase), C_truth = (1 − d_u) C + d_u/K for a degraded unit u
 //   update    = one-shot strategies take j as the final label; sequential ones apply Bayes' rule
 //               through the planner's (or the learned) channel and identify at p ≥ τ
+//   closing   = a sequential strategy's candidate with a spectrum but p < τ gets argmax_k p(k) as final label
+//               when it leaves the pool for good (phase > 60 d or m > m_lim + 1) and at the end of the season
 //   q(d+1)    = min(1, H_high / (t_high (U + f N_new)))  share of unsettled results the high-R units can take
 // Random draws are keyed by (seed, purpose, object, night, unit), so strategies see the same outcome
 // for the same observation (common random numbers [1]).
@@ -145,22 +147,40 @@ public static class SeasonSimulator
         IProgress<SeasonProgress>? progress = null,
         CancellationToken cancellationToken = default)
     {
-        ArgumentNullException.ThrowIfNull(sites);
-        ArgumentNullException.ThrowIfNull(spectrographs);
-        ArgumentNullException.ThrowIfNull(planner);
-        ArgumentNullException.ThrowIfNull(truth);
-        ArgumentNullException.ThrowIfNull(settings);
-        if (settings.Nights < 1 || !(settings.ClearFraction is >= 0 and <= 1))
-        {
-            throw new ArgumentException("Nights must be ≥ 1 and ClearFraction in [0, 1].", nameof(settings));
-        }
-
-        if (!truth.Subtypes.SequenceEqual(planner.Subtypes))
-        {
-            throw new ArgumentException("The truth and planner models must list the same subtypes in the same order.", nameof(truth));
-        }
-
+        Validate(sites, spectrographs, planner, truth, settings);
         var sky = SeasonSky.Draw(planner.Subtypes, settings.FirstNight, settings.Nights, settings.Seed, settings.Sky);
+        return RunOnSky(sites, spectrographs, planner, truth, settings, sky, progress, cancellationToken);
+    }
+
+    /// <summary>
+    /// Runs the season on a given sky (for example a small crafted one) instead of one drawn from the settings;
+    /// outcomes and weather are still drawn from <see cref="SeasonSettings.Seed"/>.
+    /// </summary>
+    /// <param name="sites">Sites.</param>
+    /// <param name="spectrographs">Spectrographs.</param>
+    /// <param name="planner">The planner's accuracy model.</param>
+    /// <param name="truth">The truth's accuracy model.</param>
+    /// <param name="settings">Settings (the sky settings are used for the survey limit and the forecast errors only).</param>
+    /// <param name="sky">The transients, with <see cref="Transient.Index"/> equal to their position in the list and subtypes indexing the planner's.</param>
+    /// <param name="progress">Optional progress.</param>
+    /// <param name="cancellationToken">Stops after the current night.</param>
+    public static SeasonResult RunOnSky(
+        IReadOnlyList<Site> sites,
+        IReadOnlyList<Spectrograph> spectrographs,
+        AccuracySurface planner,
+        AccuracySurface truth,
+        SeasonSettings settings,
+        IReadOnlyList<Transient> sky,
+        IProgress<SeasonProgress>? progress = null,
+        CancellationToken cancellationToken = default)
+    {
+        Validate(sites, spectrographs, planner, truth, settings);
+        ArgumentNullException.ThrowIfNull(sky);
+        if (sky.Select((t, i) => t.Index != i || t.Subtype < 0 || t.Subtype >= planner.Subtypes.Count || t.BrokerProbabilities.Length != planner.Subtypes.Count).Any(bad => bad))
+        {
+            throw new ArgumentException("Each transient's index must be its position, its subtype and broker probabilities those of the planner's model.", nameof(sky));
+        }
+
         var done = 0;
         var total = settings.Nights * settings.Strategies.Count;
         var results = new StrategyResult[settings.Strategies.Count];
@@ -179,6 +199,24 @@ public static class SeasonSimulator
 
         var discovered = sky.Count(t => t.DiscoveredUtc < Evening(settings.FirstNight.AddDays(settings.Nights - 1)));
         return new SeasonResult(settings.Seed, settings.Nights, settings.FirstNight, sky.Count, discovered, results);
+    }
+
+    private static void Validate(IReadOnlyList<Site> sites, IReadOnlyList<Spectrograph> spectrographs, AccuracySurface planner, AccuracySurface truth, SeasonSettings settings)
+    {
+        ArgumentNullException.ThrowIfNull(sites);
+        ArgumentNullException.ThrowIfNull(spectrographs);
+        ArgumentNullException.ThrowIfNull(planner);
+        ArgumentNullException.ThrowIfNull(truth);
+        ArgumentNullException.ThrowIfNull(settings);
+        if (settings.Nights < 1 || !(settings.ClearFraction is >= 0 and <= 1))
+        {
+            throw new ArgumentException("Nights must be ≥ 1 and ClearFraction in [0, 1].", nameof(settings));
+        }
+
+        if (!truth.Subtypes.SequenceEqual(planner.Subtypes))
+        {
+            throw new ArgumentException("The truth and planner models must list the same subtypes in the same order.", nameof(truth));
+        }
     }
 
     internal static DateTimeOffset Evening(DateOnly night) => new(night.ToDateTime(new TimeOnly(12, 0)), TimeSpan.Zero);
@@ -202,6 +240,11 @@ internal sealed class StrategyRun
     private readonly double[][] _belief;
     private readonly Status[] _status;
     private readonly int[] _label;
+    private readonly bool[] _closed;
+    private readonly LabelTally _atConfidence = new();
+    private readonly LabelTally _closing = new();
+    private readonly LabelTally _closingAtEnd = new();
+    private bool _booksClosed;
     private readonly double[] _identifiedDays;
     private readonly bool[] _leftAmbiguousByLowR;
     private readonly List<Report>[] _reports;
@@ -240,6 +283,7 @@ internal sealed class StrategyRun
         _belief = sky.Select(t => (double[])t.BrokerProbabilities.Clone()).ToArray();
         _status = new Status[sky.Count];
         _label = Enumerable.Repeat(-1, sky.Count).ToArray();
+        _closed = new bool[sky.Count];
         _identifiedDays = new double[sky.Count];
         _leftAmbiguousByLowR = new bool[sky.Count];
         _reports = sky.Select(_ => new List<Report>()).ToArray();
@@ -266,8 +310,19 @@ internal sealed class StrategyRun
         var byId = new Dictionary<string, SimulatedTarget>(StringComparer.Ordinal);
         foreach (var t in _sky)
         {
-            if (_status[t.Index] == Status.Identified || t.DiscoveredUtc >= now || t.PhaseAt(now) > 60 || t.MagnitudeAt(now) > limit)
+            if (_status[t.Index] == Status.Identified || _closed[t.Index] || t.DiscoveredUtc >= now)
             {
+                continue;
+            }
+
+            if (t.PhaseAt(now) > 60 || t.MagnitudeAt(now) > limit)
+            {
+                // Gone for good: an unsettled candidate is closed with its best label (docs §5 "Final labels").
+                if (_status[t.Index] == Status.Unsettled)
+                {
+                    Close(t, index, now);
+                }
+
                 continue;
             }
 
@@ -444,7 +499,7 @@ internal sealed class StrategyRun
 
         if (!_sequential)
         {
-            Identify(i, answer, night, at, transient);
+            Identify(i, answer, night, at, transient, null);
             return;
         }
 
@@ -475,7 +530,7 @@ internal sealed class StrategyRun
         if (top >= _settings.Confidence - 1e-12)
         {
             var label = Array.IndexOf(_belief[i], top);
-            Identify(i, label, night, at, transient);
+            Identify(i, label, night, at, transient, _atConfidence, top);
             foreach (var r in _reports[i])
             {
                 _outcomes?.Add(new UnitTrial(r.UnitId, r.ResolvingPower, r.Snr, r.Phase, label, r.Answer));
@@ -492,9 +547,33 @@ internal sealed class StrategyRun
         }
     }
 
-    private void Identify(int i, int label, int night, DateTimeOffset at, Transient transient)
+    private void Identify(int i, int label, int night, DateTimeOffset at, Transient transient, LabelTally? tally, double probability = double.NaN)
     {
         _status[i] = Status.Identified;
+        Label(i, label, night, at, transient);
+        tally?.Add(label == transient.Subtype, probability);
+    }
+
+    /// <summary>
+    /// Closes an unsettled candidate's books: its final label is the most probable subtype (first in order on a tie).
+    /// Bookkeeping only: the status (and so the capacity share), the pool and the outcome learning are untouched.
+    /// </summary>
+    private void Close(Transient transient, int night, DateTimeOffset at, bool seasonEnd = false)
+    {
+        var i = transient.Index;
+        var top = SequentialValuation.Max(_belief[i]);
+        var label = Array.IndexOf(_belief[i], top);
+        _closed[i] = true;
+        Label(i, label, night, at, transient);
+        _closing.Add(label == transient.Subtype, top);
+        if (seasonEnd)
+        {
+            _closingAtEnd.Add(label == transient.Subtype, top);
+        }
+    }
+
+    private void Label(int i, int label, int night, DateTimeOffset at, Transient transient)
+    {
         _label[i] = label;
         // Objects discovered before the season count from its first evening.
         var entered = transient.DiscoveredUtc > _seasonStart ? transient.DiscoveredUtc : _seasonStart;
@@ -506,6 +585,22 @@ internal sealed class StrategyRun
         else
         {
             _wrongByNight[night]++;
+        }
+    }
+
+    /// <summary>End of the season: every candidate still unsettled is closed on the last night.</summary>
+    private void CloseBooks()
+    {
+        if (_booksClosed)
+        {
+            return;
+        }
+
+        _booksClosed = true;
+        var end = SeasonSimulator.Evening(_settings.FirstNight.AddDays(_settings.Nights));
+        foreach (var t in _sky.Where(t => _status[t.Index] == Status.Unsettled && !_closed[t.Index]))
+        {
+            Close(t, _settings.Nights - 1, end, seasonEnd: true);
         }
     }
 
@@ -525,12 +620,17 @@ internal sealed class StrategyRun
 
     internal StrategyResult Result()
     {
+        if (_sequential)
+        {
+            CloseBooks();
+        }
+
         var correct = _correctByNight.Sum();
         var wrong = _wrongByNight.Sum();
-        var days = Enumerable.Range(0, _sky.Count).Where(i => _status[i] == Status.Identified && _label[i] == _sky[i].Subtype)
+        var days = Enumerable.Range(0, _sky.Count).Where(i => _label[i] == _sky[i].Subtype)
             .Select(i => _identifiedDays[i]).Order().ToArray();
         var baseRates = Candidates.SubtypePriors.BaseRates(_planner.Subtypes.ToArray());
-        var rare = Enumerable.Range(0, _sky.Count).Count(i => _status[i] == Status.Identified && _label[i] == _sky[i].Subtype
+        var rare = Enumerable.Range(0, _sky.Count).Count(i => _label[i] == _sky[i].Subtype
             && baseRates[_planner.Subtypes[_sky[i].Subtype]] < _settings.RareBaseRate);
         var cumulative = new int[_settings.Nights];
         for (var n = 0; n < cumulative.Length; n++)
@@ -543,6 +643,9 @@ internal sealed class StrategyRun
             SeasonSimulator.Name(_strategy),
             correct,
             wrong,
+            _sequential ? _atConfidence.Result() : null,
+            _sequential ? _closing.Result() : null,
+            _sequential ? _closingAtEnd.Result() : null,
             _observations,
             _weatherLosses,
             _hoursByNight.ToDictionary(h => h.Key, h => Math.Round(h.Value.Sum(), 3)),
@@ -566,4 +669,29 @@ internal sealed class StrategyRun
             Rounded(_plannedValue),
             Rounded(_plannedHours));
     }
+}
+
+/// <summary>Counts final labels of one kind with their mean top probability.</summary>
+internal sealed class LabelTally
+{
+    private int _correct;
+    private int _wrong;
+    private double _probability;
+
+    internal void Add(bool correct, double probability)
+    {
+        if (correct)
+        {
+            _correct++;
+        }
+        else
+        {
+            _wrong++;
+        }
+
+        _probability += probability;
+    }
+
+    internal LabelCount Result() =>
+        new(_correct, _wrong, _correct + _wrong > 0 ? Math.Round(_probability / (_correct + _wrong), 4) : double.NaN);
 }

@@ -55,11 +55,40 @@ public sealed record SeasonLoad(double Pool, double WorthObserving, double Deman
     }
 }
 
+/// <summary>Final labels of one kind over seeds.</summary>
+/// <param name="Correct">Correct labels per seed.</param>
+/// <param name="Wrong">Wrong labels per seed.</param>
+/// <param name="MeanProbability">Mean over seeds of the mean top probability of the labels (NaN: no labels).</param>
+public sealed record LabelCountSummary(Spread Correct, Spread Wrong, double MeanProbability)
+{
+    /// <summary>Summarises one kind of label over runs; null when the runs do not report it (one-shot strategies).</summary>
+    public static LabelCountSummary? Of(IReadOnlyList<LabelCount?> runs)
+    {
+        ArgumentNullException.ThrowIfNull(runs);
+        if (runs.Count == 0 || runs.Any(r => r is null))
+        {
+            return null;
+        }
+
+        var counts = runs.Select(r => r!).ToList();
+        return new LabelCountSummary(Spread.Of(counts.Select(c => (double)c.Correct).ToList()), Spread.Of(counts.Select(c => (double)c.Wrong).ToList()),
+            counts.Select(c => c.MeanProbability).Where(double.IsFinite).DefaultIfEmpty(double.NaN).Average());
+    }
+}
+
 /// <summary>One strategy's figures over seeds (means), with the spread of the main ones.</summary>
+/// <remarks>
+/// <see cref="IdentifiedAtConfidence"/> and <see cref="ClosedWithBestLabel"/> split a sequential strategy's final labels
+/// (docs/sequential-triage.md §5 "Final labels"), <see cref="ClosedAtSeasonEnd"/> is the part of the closed ones given at
+/// the end of the season; null for one-shot strategies.
+/// </remarks>
 public sealed record StrategySummary(
     string Name,
     double CorrectIdentifications,
     double WrongIdentifications,
+    LabelCountSummary? IdentifiedAtConfidence,
+    LabelCountSummary? ClosedWithBestLabel,
+    LabelCountSummary? ClosedAtSeasonEnd,
     double Observations,
     double HighResolutionHours,
     double IdentificationsPerHighResolutionHour,
@@ -78,13 +107,24 @@ public sealed record StrategySummary(
 /// <param name="Ratio">Correct identifications of <paramref name="Strategy"/> divided by those of <paramref name="Against"/>, per seed.</param>
 /// <param name="Difference">Their difference, per seed.</param>
 /// <param name="SeedsWhereBetter">Seeds where <paramref name="Strategy"/> identified more.</param>
-public sealed record PairedComparison(string Strategy, string Against, Spread Ratio, Spread Difference, int SeedsWhereBetter);
+/// <param name="Count">
+/// What is counted: <see cref="SeasonSummary.FinalLabels"/> (correct final labels of both strategies) or
+/// <see cref="SeasonSummary.AtConfidence"/> (sequential strategies' correct identifications at τ only; a one-shot
+/// strategy's labels are all final when reported and are counted whole).
+/// </param>
+public sealed record PairedComparison(string Strategy, string Against, Spread Ratio, Spread Difference, int SeedsWhereBetter, string Count);
 
 /// <summary>Summary of several seeds of the same season.</summary>
 public sealed record SeasonSummary(IReadOnlyList<int> Seeds, int Nights, IReadOnlyList<StrategySummary> Strategies, IReadOnlyList<PairedComparison> Comparisons)
 {
     /// <summary>Name of the comparison target that picks, per seed, the rule baseline with more correct identifications.</summary>
     public const string BetterRuleBaseline = "better rule baseline";
+
+    /// <summary>Comparison count: correct final labels.</summary>
+    public const string FinalLabels = "final-labels";
+
+    /// <summary>Comparison count: correct identifications at τ for sequential strategies, all labels for one-shot ones.</summary>
+    public const string AtConfidence = "identified-at-confidence";
 
     /// <summary>Summarises seasons that ran the same strategies.</summary>
     /// <exception cref="ArgumentException">No seasons, or seasons with different strategies.</exception>
@@ -108,7 +148,10 @@ public sealed record SeasonSummary(IReadOnlyList<int> Seeds, int Nights, IReadOn
             double Mean(Func<StrategyResult, double> f) => runs.Select(f).Where(double.IsFinite).DefaultIfEmpty(double.NaN).Average();
             var units = runs.SelectMany(r => r.HoursPerUnit.Keys).Distinct(StringComparer.Ordinal)
                 .ToDictionary(u => u, u => runs.Average(r => r.HoursPerUnit.GetValueOrDefault(u)), StringComparer.Ordinal);
-            return new StrategySummary(name, Mean(r => r.CorrectIdentifications), Mean(r => r.WrongIdentifications), Mean(r => r.Observations),
+            return new StrategySummary(name, Mean(r => r.CorrectIdentifications), Mean(r => r.WrongIdentifications),
+                LabelCountSummary.Of(runs.Select(r => r.IdentifiedAtConfidence).ToList()), LabelCountSummary.Of(runs.Select(r => r.ClosedWithBestLabel).ToList()),
+                LabelCountSummary.Of(runs.Select(r => r.ClosedAtSeasonEnd).ToList()),
+                Mean(r => r.Observations),
                 Mean(r => r.HighResolutionHours), Mean(r => r.IdentificationsPerHighResolutionHour), Mean(r => r.MedianDaysToIdentification),
                 Mean(r => r.RareSubtypeIdentifications), Mean(r => r.HighResolutionHoursOnAmbiguous), Mean(r => r.AmbiguousHighResolutionShare),
                 units, Spread.Of(runs.Select(r => (double)r.CorrectIdentifications).ToList()), Spread.Of(runs.Select(r => (double)r.WrongIdentifications).ToList()),
@@ -120,30 +163,37 @@ public sealed record SeasonSummary(IReadOnlyList<int> Seeds, int Nights, IReadOn
         var rules = new[] { SeasonSimulator.Name(SeasonStrategy.BrightestFirstLargestTelescope), SeasonSimulator.Name(SeasonStrategy.PriorityHighestResolutionFirst) };
         if (names.Contains(escalation))
         {
-            foreach (var other in names.Where(n => n != escalation))
+            foreach (var count in new[] { FinalLabels, AtConfidence })
             {
-                comparisons.Add(Compare(seasons, escalation, other, s => Correct(s, other)));
-            }
+                foreach (var other in names.Where(n => n != escalation))
+                {
+                    comparisons.Add(Compare(seasons, escalation, other, s => Correct(s, other, count), count));
+                }
 
-            if (rules.All(names.Contains))
-            {
-                comparisons.Add(Compare(seasons, escalation, BetterRuleBaseline, s => rules.Max(r => Correct(s, r))));
+                if (rules.All(names.Contains))
+                {
+                    comparisons.Add(Compare(seasons, escalation, BetterRuleBaseline, s => rules.Max(r => Correct(s, r, count)), count));
+                }
             }
         }
 
         return new SeasonSummary(seasons.Select(s => s.Seed).ToList(), seasons[0].Nights, strategies, comparisons);
     }
 
-    private static double Correct(SeasonResult season, string strategy) => season.Strategies.First(s => s.Name == strategy).CorrectIdentifications;
-
-    private static PairedComparison Compare(IReadOnlyList<SeasonResult> seasons, string strategy, string against, Func<SeasonResult, double> reference)
+    private static double Correct(SeasonResult season, string strategy, string count)
     {
-        var mine = seasons.Select(s => Correct(s, strategy)).ToList();
+        var run = season.Strategies.First(s => s.Name == strategy);
+        return count == AtConfidence && run.IdentifiedAtConfidence is { } atConfidence ? atConfidence.Correct : run.CorrectIdentifications;
+    }
+
+    private static PairedComparison Compare(IReadOnlyList<SeasonResult> seasons, string strategy, string against, Func<SeasonResult, double> reference, string count)
+    {
+        var mine = seasons.Select(s => Correct(s, strategy, count)).ToList();
         var theirs = seasons.Select(reference).ToList();
         var ratios = mine.Zip(theirs, (a, b) => b > 0 ? a / b : double.NaN).Where(double.IsFinite).ToList();
         var differences = mine.Zip(theirs, (a, b) => a - b).ToList();
         return new PairedComparison(strategy, against, ratios.Count > 0 ? Spread.Of(ratios) : new Spread(double.NaN, double.NaN, double.NaN, double.NaN),
-            Spread.Of(differences), differences.Count(d => d > 0));
+            Spread.Of(differences), differences.Count(d => d > 0), count);
     }
 }
 

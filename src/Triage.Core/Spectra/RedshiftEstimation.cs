@@ -32,11 +32,11 @@ public sealed record RedshiftSearchOptions
     public double GridToAngstrom { get; init; } = 11000;
 
     /// <summary>
-    /// Finest grid step in ln λ. Default 0.001 (300 km/s; the calibration's feature bins are never finer than
-    /// 0.0044 in ln λ, and the parabolic peak refines to a fraction of a step). At R below 500 the step is
-    /// 1/(2R), two pixels per resolution element.
+    /// Grid step in ln λ, at every R. Default 0.001 (300 km/s; the calibration's feature bins are never finer than
+    /// 0.0087 in ln λ, and the parabolic peak refines to a fraction of a step). A step of 1/(2R) at low R was
+    /// measured worse (the lags became coarser than the redshift range searched allows).
     /// </summary>
-    public double MinStepLn { get; init; } = 0.001;
+    public double StepLn { get; init; } = 0.001;
 
     /// <summary>Full width (in ln λ) of the running mean taken as the continuum. Default 0.1 (≈ 600 Å at 6000 Å: wider than the broad features, as the spline of ref. 2 with knots every ≈ 0.1 in ln λ).</summary>
     public double ContinuumWidthLn { get; init; } = 0.1;
@@ -49,9 +49,6 @@ public sealed record RedshiftSearchOptions
     /// is returned. Default 3 (common practice: peaks with r below about 3 are mostly noise).
     /// </summary>
     public double MinimumSignificance { get; init; } = 3;
-
-    /// <summary>The grid step (ln λ) at resolving power <paramref name="resolution"/>: max(<see cref="MinStepLn"/>, 1/(2R)).</summary>
-    public double StepLn(double resolution) => MinStepLn;
 }
 
 /// <summary>A redshift estimated from a spectrum.</summary>
@@ -195,7 +192,7 @@ public static class RedshiftEstimation
     internal static LogWavelengthGrid GridAt(double resolution, RedshiftSearchOptions o)
     {
         if (!(resolution > 0)) throw new ArgumentOutOfRangeException(nameof(resolution), "R must be positive.");
-        double step = o.StepLn(resolution);
+        double step = o.StepLn;
         int n = (int)Math.Floor(Math.Log(o.GridToAngstrom / o.GridFromAngstrom) / step);
         return new LogWavelengthGrid(o.GridFromAngstrom, step, n);
     }

@@ -15,7 +15,7 @@ public class SeasonSimulatorTests
 {
     private static readonly Lazy<SeasonResult> Short = new(() => Run(seed: 3));
 
-    private static (IReadOnlyList<Site>, IReadOnlyList<Spectrograph>) DemoRoster()
+    internal static (IReadOnlyList<Site>, IReadOnlyList<Spectrograph>) DemoRoster()
     {
         var dir = new DirectoryInfo(AppContext.BaseDirectory);
         while (!File.Exists(Path.Combine(dir!.FullName, "Triage.sln")))
@@ -82,6 +82,41 @@ public class SeasonSimulatorTests
                 Assert.True(hours.Sum() <= s.PlannedHoursByNight[unit].Sum() + 0.01, unit);
             }
         }
+    }
+
+    [Fact]
+    public void Run_SequentialFinalLabels_AreIdentificationsAtConfidencePlusClosedLabels()
+    {
+        foreach (var s in Short.Value.Strategies.Where(s => s.IdentifiedAtConfidence is not null))
+        {
+            var closed = s.ClosedWithBestLabel!;
+            Assert.Equal(s.CorrectIdentifications, s.IdentifiedAtConfidence!.Correct + closed.Correct);
+            Assert.Equal(s.WrongIdentifications, s.IdentifiedAtConfidence.Wrong + closed.Wrong);
+            // At τ the top probability is at least 0.9; a closed label's is below it and at least 1/K.
+            if (s.IdentifiedAtConfidence.Correct + s.IdentifiedAtConfidence.Wrong > 0)
+            {
+                Assert.InRange(s.IdentifiedAtConfidence.MeanProbability, 0.9 - 1e-9, 1);
+            }
+
+            if (closed.Correct + closed.Wrong > 0)
+            {
+                Assert.InRange(closed.MeanProbability, 1.0 / 3, 0.9);
+            }
+        }
+    }
+
+    [Fact]
+    public void Summary_ComparesFinalLabelsAndIdentificationsAtConfidence()
+    {
+        var season = Short.Value;
+        var summary = SeasonSummary.Of([season]);
+        var escalation = season.Strategies.First(s => s.Name == "triage-with-escalation");
+        var rule = season.Strategies.First(s => s.Name == "rule-brightest-first-largest-telescope");
+
+        var final = summary.Comparisons.Single(c => c.Against == rule.Name && c.Count == SeasonSummary.FinalLabels);
+        var atTau = summary.Comparisons.Single(c => c.Against == rule.Name && c.Count == SeasonSummary.AtConfidence);
+        Assert.Equal(escalation.CorrectIdentifications - rule.CorrectIdentifications, final.Difference.Mean);
+        Assert.Equal(escalation.IdentifiedAtConfidence!.Correct - rule.CorrectIdentifications, atTau.Difference.Mean);
     }
 
     [Fact]

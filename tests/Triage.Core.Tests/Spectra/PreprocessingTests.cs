@@ -79,4 +79,23 @@ public class PreprocessingTests
         Assert.Null(s.FluxError);
         Assert.Equal(2, s.Flux[1]);
     }
+
+    [Theory]
+    // Oracle test (style guide): the continuum fit keeps one QR factorisation per (length, degree) instead of
+    // refactorising for every spectrum; it must give MathNet's Fit.Polynomial (the general library routine) bit for
+    // bit, on the first call and on later calls that reuse the factorisation.
+    [InlineData(40, 3)]
+    [InlineData(200, 3)]
+    [InlineData(7, 2)]
+    [InlineData(1, 0)]
+    public void ContinuumCoefficients_AnyValues_EqualFitPolynomialExactly(int length, int degree)
+    {
+        var rng = new Random(length);
+        var t = Enumerable.Range(0, length).Select(i => length == 1 ? 0 : -1 + 2.0 * i / (length - 1)).ToArray();
+        for (int trial = 0; trial < 5; trial++)
+        {
+            var y = t.Select(_ => 0.5 + rng.NextDouble()).ToArray();
+            Assert.Equal(MathNet.Numerics.Fit.Polynomial(t, y, degree), Preprocessing.ContinuumCoefficients(y, degree));
+        }
+    }
 }
