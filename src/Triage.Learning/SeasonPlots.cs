@@ -8,7 +8,7 @@ public static class SeasonPlots
 {
     private const string FontName = "DejaVu Sans";
 
-    /// <summary>Correct identifications accumulated night by night, one line per strategy.</summary>
+    /// <summary>Correct final labels accumulated night by night, one line per strategy (closed labels on the night they are given).</summary>
     public static string IdentificationsSvg(SeasonResult season, int width = 900, int height = 560)
     {
         ArgumentNullException.ThrowIfNull(season);
@@ -24,9 +24,9 @@ public static class SeasonPlots
             line.LegendText = s.Name;
         }
 
-        plt.Title($"Correct subtype identifications over the season (seed {season.Seed}, SIMULATED)");
-        plt.XLabel("night");
-        plt.YLabel("correct identifications (cumulative)");
+        plt.Title($"Correct final labels over the season (seed {season.Seed}, SIMULATED)");
+        plt.XLabel("night (sequential strategies: candidates still unsettled are closed on the last night)");
+        plt.YLabel("correct final labels (cumulative)");
         plt.ShowLegend(Alignment.UpperLeft);
         return plt.GetSvgXml(width, height);
     }

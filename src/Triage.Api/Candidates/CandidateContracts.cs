@@ -73,6 +73,40 @@ public sealed record CandidateDetailResponse(
 {
     /// <summary>Subtype probabilities after the labelled reports (null: none weighed yet).</summary>
     public IReadOnlyDictionary<string, double>? Posterior { get; init; }
+
+    /// <summary>
+    /// The posterior's most probable subtype and its probability (null: no posterior): the label the candidate would
+    /// get if its books were closed now, for example when an unsettled candidate leaves observability before a
+    /// sharper spectrum is taken. Nothing changes state: an unsettled candidate stays unsettled.
+    /// </summary>
+    public BestLabelResponse? BestLabel { get; init; }
+}
+
+/// <summary>The most probable subtype of a posterior (the first in the posterior's order on a tie).</summary>
+/// <param name="Label">Subtype.</param>
+/// <param name="Probability">Its posterior probability.</param>
+/// <param name="AtConfidence">True when the probability reaches the identification confidence τ (the candidate is identified by it).</param>
+public sealed record BestLabelResponse(string Label, double Probability, bool AtConfidence)
+{
+    /// <summary>The best label of <paramref name="posterior"/>, or null when there is none.</summary>
+    public static BestLabelResponse? Of(IReadOnlyDictionary<string, double>? posterior, double confidence)
+    {
+        if (posterior is null || posterior.Count == 0)
+        {
+            return null;
+        }
+
+        var best = posterior.First();
+        foreach (var kv in posterior)
+        {
+            if (kv.Value > best.Value)
+            {
+                best = kv;
+            }
+        }
+
+        return new BestLabelResponse(best.Key, best.Value, best.Value >= confidence - 1e-12);
+    }
 }
 
 /// <summary>A subtype prior.</summary>

@@ -214,7 +214,7 @@ public static class CandidateEndpoints
     }
 
     public static async Task<Results<Ok<CandidateDetailResponse>, ProblemHttpResult>> GetCandidate(
-        Guid id, CandidateStore store, CandidateFitting fitting, TimeProvider clock, DateTimeOffset? at, CancellationToken ct)
+        Guid id, CandidateStore store, CandidateFitting fitting, IOptions<CandidateOptions> options, TimeProvider clock, DateTimeOffset? at, CancellationToken ct)
     {
         if (at is { } atValue && !Ranges.Contains(atValue))
         {
@@ -237,7 +237,11 @@ public static class CandidateEndpoints
             SubtypePriorResponse.From(assessment.Prior),
             c.SubtypeProbabilities,
             detail.History,
-            detail.Observations) { Posterior = detail.Posterior });
+            detail.Observations)
+        {
+            Posterior = detail.Posterior,
+            BestLabel = BestLabelResponse.Of(detail.Posterior, options.Value.IdentificationConfidence),
+        });
     }
 
     /// <summary>
@@ -245,7 +249,7 @@ public static class CandidateEndpoints
     /// 404 when none, 409 naming the brokers when several brokers use the same id.
     /// </summary>
     public static async Task<Results<Ok<CandidateDetailResponse>, ProblemHttpResult>> GetCandidateByBrokerId(
-        string brokerId, string? broker, CandidateStore store, CandidateFitting fitting, TimeProvider clock, DateTimeOffset? at, CancellationToken ct)
+        string brokerId, string? broker, CandidateStore store, CandidateFitting fitting, IOptions<CandidateOptions> options, TimeProvider clock, DateTimeOffset? at, CancellationToken ct)
     {
         var rows = await store.ListAsync(new CandidateQuery(null, null, null, null, null, clock.GetUtcNow(), null, null, 10)
         {
@@ -255,7 +259,7 @@ public static class CandidateEndpoints
         return rows.Count switch
         {
             0 => Problems.NotFound("brokerId", $"No candidate with broker id '{brokerId}'{(broker is null ? "" : $" from broker '{broker}'")}."),
-            1 => await GetCandidate(rows[0].Id, store, fitting, clock, at, ct),
+            1 => await GetCandidate(rows[0].Id, store, fitting, options, clock, at, ct),
             _ => Problems.Conflict("brokerId", $"Several brokers use the id '{brokerId}' ({string.Join(", ", rows.Select(r => r.Broker).Distinct())}); add ?broker= to choose."),
         };
     }

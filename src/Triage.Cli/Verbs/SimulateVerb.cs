@@ -142,14 +142,16 @@ internal static class SimulateVerb
     {
         var whatIf = summary.WhatIf;
         var inv = CultureInfo.InvariantCulture;
-        var table = new Table().AddColumns("strategy", "correct", "wrong", "at τ correct / wrong", "closed correct / wrong (mean p)", "spectra", "high-R h", "correct per high-R h", "high-R share on ambiguous");
+        var table = new Table().AddColumns("strategy", "correct", "wrong", "at τ correct / wrong", "closed correct / wrong (mean p; at season end)", "spectra", "high-R h", "correct per high-R h", "high-R share on ambiguous");
         foreach (var s in summary.Strategies)
         {
             table.AddRow(s.Name,
                 string.Create(inv, $"{s.CorrectIdentifications:0.#} ± {s.CorrectIdentificationsSpread.StandardDeviation:0.#}"),
                 string.Create(inv, $"{s.WrongIdentifications:0.#}"),
                 s.IdentifiedAtConfidence is { } tau ? string.Create(inv, $"{tau.Correct.Mean:0.#} / {tau.Wrong.Mean:0.#}") : "—",
-                s.ClosedWithBestLabel is { } closed ? string.Create(inv, $"{closed.Correct.Mean:0.#} / {closed.Wrong.Mean:0.#} ({closed.MeanProbability:0.00})") : "—",
+                s.ClosedWithBestLabel is { } closed && s.ClosedAtSeasonEnd is { } end
+                    ? string.Create(inv, $"{closed.Correct.Mean:0.#} / {closed.Wrong.Mean:0.#} ({closed.MeanProbability:0.00}; {end.Correct.Mean:0.#} / {end.Wrong.Mean:0.#})")
+                    : "—",
                 string.Create(inv, $"{s.Observations:0.#}"),
                 string.Create(inv, $"{s.HighResolutionHours:0.#}"), string.Create(inv, $"{s.IdentificationsPerHighResolutionHour:0.00}"),
                 string.Create(inv, $"{s.AmbiguousHighResolutionShare:P0}"));

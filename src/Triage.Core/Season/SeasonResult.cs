@@ -31,6 +31,7 @@ public sealed record LabelCount(int Correct, int Wrong, double MeanProbability);
 /// <param name="WrongIdentifications">Final labels that differ from the true subtype.</param>
 /// <param name="IdentifiedAtConfidence">Sequential strategies: labels given when the posterior reached τ (null for one-shot strategies).</param>
 /// <param name="ClosedWithBestLabel">Sequential strategies: unsettled candidates given their most probable subtype when they left the pool for good or at the end of the season (null for one-shot strategies).</param>
+/// <param name="ClosedAtSeasonEnd">The part of <paramref name="ClosedWithBestLabel"/> closed at the end of the season, still in the pool (null for one-shot strategies).</param>
 /// <param name="Observations">Spectra taken (weather losses excluded).</param>
 /// <param name="WeatherLosses">Planned spectra lost to weather.</param>
 /// <param name="HoursPerUnit">Hours (exposure plus overhead) per spectrograph name.</param>
@@ -54,6 +55,7 @@ public sealed record StrategyResult(
     int WrongIdentifications,
     LabelCount? IdentifiedAtConfidence,
     LabelCount? ClosedWithBestLabel,
+    LabelCount? ClosedAtSeasonEnd,
     int Observations,
     int WeatherLosses,
     IReadOnlyDictionary<string, double> HoursPerUnit,

@@ -243,6 +243,7 @@ internal sealed class StrategyRun
     private readonly bool[] _closed;
     private readonly LabelTally _atConfidence = new();
     private readonly LabelTally _closing = new();
+    private readonly LabelTally _closingAtEnd = new();
     private bool _booksClosed;
     private readonly double[] _identifiedDays;
     private readonly bool[] _leftAmbiguousByLowR;
@@ -557,7 +558,7 @@ internal sealed class StrategyRun
     /// Closes an unsettled candidate's books: its final label is the most probable subtype (first in order on a tie).
     /// Bookkeeping only: the status (and so the capacity share), the pool and the outcome learning are untouched.
     /// </summary>
-    private void Close(Transient transient, int night, DateTimeOffset at)
+    private void Close(Transient transient, int night, DateTimeOffset at, bool seasonEnd = false)
     {
         var i = transient.Index;
         var top = SequentialValuation.Max(_belief[i]);
@@ -565,6 +566,10 @@ internal sealed class StrategyRun
         _closed[i] = true;
         Label(i, label, night, at, transient);
         _closing.Add(label == transient.Subtype, top);
+        if (seasonEnd)
+        {
+            _closingAtEnd.Add(label == transient.Subtype, top);
+        }
     }
 
     private void Label(int i, int label, int night, DateTimeOffset at, Transient transient)
@@ -595,7 +600,7 @@ internal sealed class StrategyRun
         var end = SeasonSimulator.Evening(_settings.FirstNight.AddDays(_settings.Nights));
         foreach (var t in _sky.Where(t => _status[t.Index] == Status.Unsettled && !_closed[t.Index]))
         {
-            Close(t, _settings.Nights - 1, end);
+            Close(t, _settings.Nights - 1, end, seasonEnd: true);
         }
     }
 
@@ -640,6 +645,7 @@ internal sealed class StrategyRun
             wrong,
             _sequential ? _atConfidence.Result() : null,
             _sequential ? _closing.Result() : null,
+            _sequential ? _closingAtEnd.Result() : null,
             _observations,
             _weatherLosses,
             _hoursByNight.ToDictionary(h => h.Key, h => Math.Round(h.Value.Sum(), 3)),

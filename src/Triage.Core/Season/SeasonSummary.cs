@@ -79,7 +79,8 @@ public sealed record LabelCountSummary(Spread Correct, Spread Wrong, double Mean
 /// <summary>One strategy's figures over seeds (means), with the spread of the main ones.</summary>
 /// <remarks>
 /// <see cref="IdentifiedAtConfidence"/> and <see cref="ClosedWithBestLabel"/> split a sequential strategy's final labels
-/// (docs/sequential-triage.md §5 "Final labels"); null for one-shot strategies.
+/// (docs/sequential-triage.md §5 "Final labels"), <see cref="ClosedAtSeasonEnd"/> is the part of the closed ones given at
+/// the end of the season; null for one-shot strategies.
 /// </remarks>
 public sealed record StrategySummary(
     string Name,
@@ -87,6 +88,7 @@ public sealed record StrategySummary(
     double WrongIdentifications,
     LabelCountSummary? IdentifiedAtConfidence,
     LabelCountSummary? ClosedWithBestLabel,
+    LabelCountSummary? ClosedAtSeasonEnd,
     double Observations,
     double HighResolutionHours,
     double IdentificationsPerHighResolutionHour,
@@ -148,6 +150,7 @@ public sealed record SeasonSummary(IReadOnlyList<int> Seeds, int Nights, IReadOn
                 .ToDictionary(u => u, u => runs.Average(r => r.HoursPerUnit.GetValueOrDefault(u)), StringComparer.Ordinal);
             return new StrategySummary(name, Mean(r => r.CorrectIdentifications), Mean(r => r.WrongIdentifications),
                 LabelCountSummary.Of(runs.Select(r => r.IdentifiedAtConfidence).ToList()), LabelCountSummary.Of(runs.Select(r => r.ClosedWithBestLabel).ToList()),
+                LabelCountSummary.Of(runs.Select(r => r.ClosedAtSeasonEnd).ToList()),
                 Mean(r => r.Observations),
                 Mean(r => r.HighResolutionHours), Mean(r => r.IdentificationsPerHighResolutionHour), Mean(r => r.MedianDaysToIdentification),
                 Mean(r => r.RareSubtypeIdentifications), Mean(r => r.HighResolutionHoursOnAmbiguous), Mean(r => r.AmbiguousHighResolutionShare),

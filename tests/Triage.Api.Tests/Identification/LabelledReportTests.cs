@@ -91,6 +91,10 @@ public sealed class LabelledReportTests(IsolatedDatabaseFactory api) : IClassFix
 
         var detail = await (await reader.GetAsync($"/api/candidates/{id}")).ReadObjectAsync();
         Assert.Equal("unsettled", (string)detail["candidate"]!["state"]!);
+        // The label its books would be closed with now: Ia at 8/9, below τ = 0.9.
+        Assert.Equal("Ia", (string)detail["bestLabel"]!["label"]!);
+        Assert.Equal(8.0 / 9, (double)detail["bestLabel"]!["probability"]!, 9);
+        Assert.False((bool)detail["bestLabel"]!["atConfidence"]!);
         var history = detail["history"]!.AsArray().Last()!;
         Assert.Equal("unsettled", (string)history["toState"]!);
         var line = (string)history["detail"]!;
@@ -105,6 +109,7 @@ public sealed class LabelledReportTests(IsolatedDatabaseFactory api) : IClassFix
         var after = await (await reader.GetAsync($"/api/candidates/{id}")).ReadObjectAsync();
         Assert.Equal("Ia", (string)after["candidate"]!["classifiedLabel"]!);
         Assert.Equal(0.448 / 0.475, (double)after["posterior"]!["Ia"]!, 9);
+        Assert.True((bool)after["bestLabel"]!["atConfidence"]!);
     }
 
     [Fact]

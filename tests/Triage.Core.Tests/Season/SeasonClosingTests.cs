@@ -95,6 +95,8 @@ public class SeasonClosingTests
         Assert.Equal(2, closed.Correct);
         Assert.Equal(1, closed.Wrong);
         Assert.Equal((0.8 + 0.8 + 0.7) / 3, closed.MeanProbability, 4);
+        // Of these, transient 2 alone was closed at the end of the season.
+        Assert.Equal(new LabelCount(1, 0, 0.7), sequential.ClosedAtSeasonEnd);
         // Final labels count both kinds; transients 3 and 4 (no spectrum) get none.
         Assert.Equal(2, sequential.CorrectIdentifications);
         Assert.Equal(1, sequential.WrongIdentifications);
@@ -112,6 +114,7 @@ public class SeasonClosingTests
         Assert.Equal("triage-without-escalation", oneShot.Name);
         Assert.Null(oneShot.IdentifiedAtConfidence);
         Assert.Null(oneShot.ClosedWithBestLabel);
+        Assert.Null(oneShot.ClosedAtSeasonEnd);
         // Its reported labels are final at once: at most one per observed transient (0, 1, 2).
         Assert.InRange(oneShot.CorrectIdentifications + oneShot.WrongIdentifications, 1, 3);
     }
