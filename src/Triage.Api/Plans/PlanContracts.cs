@@ -6,9 +6,10 @@ namespace Triage.Api.Plans;
 
 /// <summary>
 /// Body of a plan request. <c>fromUtc</c> replans from that instant (default: the later of now and the night's start);
-/// <c>deterministic</c> (default true) gives the same plan for the same inputs; false uses <c>timeLimitSeconds</c> of wall time on every core.
+/// <c>deterministic</c> (default true) gives the same plan for the same inputs; false uses <c>timeLimitSeconds</c> of wall time on every core;
+/// <c>maxChurnShare</c> (default 0.1, in (0, 1]) is the share of the entries ahead a replan may change; 1 replans freely.
 /// </summary>
-public sealed record PlanRequest(string? Night, string? Objective, double? TimeLimitSeconds, DateTimeOffset? FromUtc, bool? Deterministic = null);
+public sealed record PlanRequest(string? Night, string? Objective, double? TimeLimitSeconds, DateTimeOffset? FromUtc, bool? Deterministic = null, double? MaxChurnShare = null);
 
 /// <summary>A started planning job.</summary>
 public sealed record PlanJobResponse(Guid JobId, string JobUrl, string PlanUrl);

@@ -58,11 +58,12 @@ public static class PlanEndpoints
         }
         var objective = checks.Choice("objective", request.Objective, Objectives, PlanObjective.Accuracy);
         var limit = request.TimeLimitSeconds is null ? 5 : checks.Number("timeLimitSeconds", request.TimeLimitSeconds, 0, 300, minExclusive: true);
+        var churn = request.MaxChurnShare is null ? NightReplan.DefaultMaxChurnShare : checks.Number("maxChurnShare", request.MaxChurnShare, 0, 1, minExclusive: true);
         if (!checks.IsValid)
         {
             return TypedResults.ValidationProblem(checks.ToDictionary());
         }
-        var input = new PlanJobInput(night, objective, limit, request.FromUtc?.ToUniversalTime(), request.Deterministic ?? true);
+        var input = new PlanJobInput(night, objective, limit, request.FromUtc?.ToUniversalTime(), request.Deterministic ?? true) { MaxChurnShare = churn };
         var id = await jobs.EnqueueAsync(PlanJobKind, JsonSerializer.Serialize(input, OperationsSetup.JobJson), Caller.From(user).KeyId, clock.GetUtcNow(), ct);
         var body = new PlanJobResponse(id, $"/api/jobs/{id}", $"/api/plans/{night:yyyy-MM-dd}");
         return TypedResults.Accepted($"/api/jobs/{id}", body);
@@ -190,4 +191,8 @@ public static class PlanEndpoints
 /// <param name="TriggerKind">What asked for the version: manual, closure, report, candidate, schedule.</param>
 /// <param name="TriggerDetail">One sentence on the trigger.</param>
 public sealed record PlanJobInput(DateOnly Night, PlanObjective Objective, double TimeLimitSeconds, DateTimeOffset? FromUtc,
-    bool Deterministic = true, string TriggerKind = "manual", string? TriggerDetail = null);
+    bool Deterministic = true, string TriggerKind = "manual", string? TriggerDetail = null)
+{
+    /// <summary>Share of the entries ahead a replan may change, (0, 1]; 1: no limit. Default 0.1 (also for jobs stored before it existed).</summary>
+    public double MaxChurnShare { get; init; } = NightReplan.DefaultMaxChurnShare;
+}

@@ -101,7 +101,7 @@ public sealed class PlanJobHandler(
             BusyUntilUtc = start.BusyUntilUtc,
             RemainingBudgetSeconds = NightReplan.RemainingBudget(previous, from, NightReplan.DefaultFreeze),
             Previous = start.Anchors,
-            ChurnBudget = NightReplan.ChurnBudget(start),
+            ChurnBudget = input.MaxChurnShare < 1 ? NightReplan.ChurnBudget(start, input.MaxChurnShare) : null,
             Closures = NightOperationsStore.ForPlanner(closures),
             Conditions = NightOperationsStore.ForPlanner(conditions),
             Sequential = sequential,

@@ -125,6 +125,8 @@ public sealed class PlanVersionTests(TriageApiFactory api)
     [InlineData("{\"night\":\"2026-12-03\",\"objective\":\"fame\"}", "objective")]
     [InlineData("{\"night\":\"2026-12-03\",\"timeLimitSeconds\":0}", "timeLimitSeconds")]
     [InlineData("{\"night\":\"2026-12-03\",\"timeLimitSeconds\":9999}", "timeLimitSeconds")]
+    [InlineData("{\"night\":\"2026-12-03\",\"maxChurnShare\":0}", "maxChurnShare")]
+    [InlineData("{\"night\":\"2026-12-03\",\"maxChurnShare\":1.5}", "maxChurnShare")]
     [InlineData("{\"night\":\"2026-12-03\",\"fromUtc\":\"yesterday\"}", "fromUtc")]
     public async Task PlanRequest_BadInput_IsProblemNamingTheField(string body, string field)
     {
