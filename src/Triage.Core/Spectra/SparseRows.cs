@@ -75,29 +75,73 @@ internal sealed class SparseRows(int[] start, int[] offset, int[] lead, int[] le
         ref double xr = ref MemoryMarshal.GetReference(x);
         ref double yr = ref MemoryMarshal.GetReference(y);
         if (y.Length < Rows * 8) throw new ArgumentException("The output is too short.", nameof(y));
-        for (int k = 0; k < Rows; k++)
+        int k = 0;
+        for (; k + 1 < Rows; k += 2)
         {
-            if (nanRows is not null && nanRows[k]) { Vector512.Create(double.NaN).StoreUnsafe(ref yr, (nuint)(8 * k)); continue; }
-            int len = length[k], first = start[k] + lead[k];
-            if ((first + len) * 8 > x.Length) throw new ArgumentException("The row runs past the input.", nameof(x));
-            ref double wk = ref Unsafe.Add(ref w, offset[k] + lead[k]);
-            ref double xk = ref Unsafe.Add(ref xr, 8 * first);
-            var a0 = Vector512<double>.Zero;
-            var a1 = Vector512<double>.Zero;
-            var a2 = Vector512<double>.Zero;
-            var a3 = Vector512<double>.Zero;
-            int j = 0;
-            for (; j <= len - 4; j += 4)
+            // Two neighbouring rows overlap in most of their columns: each input vector there is loaded once for both.
+            int f0 = start[k] + lead[k], e0 = f0 + length[k], f1 = start[k + 1] + lead[k + 1], e1 = f1 + length[k + 1];
+            if ((nanRows is not null && (nanRows[k] || nanRows[k + 1])) || f1 < f0 || e1 < e0 || f1 > e0)
             {
-                a0 = Vector512.FusedMultiplyAdd(Vector512.Create(Unsafe.Add(ref wk, j)), Vector512.LoadUnsafe(ref xk, (nuint)(8 * j)), a0);
-                a1 = Vector512.FusedMultiplyAdd(Vector512.Create(Unsafe.Add(ref wk, j + 1)), Vector512.LoadUnsafe(ref xk, (nuint)(8 * j + 8)), a1);
-                a2 = Vector512.FusedMultiplyAdd(Vector512.Create(Unsafe.Add(ref wk, j + 2)), Vector512.LoadUnsafe(ref xk, (nuint)(8 * j + 16)), a2);
-                a3 = Vector512.FusedMultiplyAdd(Vector512.Create(Unsafe.Add(ref wk, j + 3)), Vector512.LoadUnsafe(ref xk, (nuint)(8 * j + 24)), a3);
+                ApplyRow8(ref w, ref xr, x.Length, ref yr, k);
+                ApplyRow8(ref w, ref xr, x.Length, ref yr, k + 1);
+                continue;
             }
-            for (; j < len; j++)
-                a0 = Vector512.FusedMultiplyAdd(Vector512.Create(Unsafe.Add(ref wk, j)), Vector512.LoadUnsafe(ref xk, (nuint)(8 * j)), a0);
-            ((a0 + a1) + (a2 + a3)).StoreUnsafe(ref yr, (nuint)(8 * k));
+            if (e1 * 8 > x.Length) throw new ArgumentException("The row runs past the input.", nameof(x));
+            // w0[c] and w1[c]: the weights of rows k and k + 1 at column c.
+            ref double w0 = ref Unsafe.Subtract(ref Unsafe.Add(ref w, offset[k] + lead[k]), f0);
+            ref double w1 = ref Unsafe.Subtract(ref Unsafe.Add(ref w, offset[k + 1] + lead[k + 1]), f1);
+            var a0 = Vector512<double>.Zero; var a1 = Vector512<double>.Zero;
+            var b0 = Vector512<double>.Zero; var b1 = Vector512<double>.Zero;
+            int c = f0;
+            for (; c < f1; c++)
+                a0 = Vector512.FusedMultiplyAdd(Vector512.Create(Unsafe.Add(ref w0, c)), Vector512.LoadUnsafe(ref xr, (nuint)(8 * c)), a0);
+            for (; c + 1 < e0; c += 2)
+            {
+                var x0 = Vector512.LoadUnsafe(ref xr, (nuint)(8 * c));
+                var x1 = Vector512.LoadUnsafe(ref xr, (nuint)(8 * c + 8));
+                a0 = Vector512.FusedMultiplyAdd(Vector512.Create(Unsafe.Add(ref w0, c)), x0, a0);
+                b0 = Vector512.FusedMultiplyAdd(Vector512.Create(Unsafe.Add(ref w1, c)), x0, b0);
+                a1 = Vector512.FusedMultiplyAdd(Vector512.Create(Unsafe.Add(ref w0, c + 1)), x1, a1);
+                b1 = Vector512.FusedMultiplyAdd(Vector512.Create(Unsafe.Add(ref w1, c + 1)), x1, b1);
+            }
+            if (c < e0)
+            {
+                var x0 = Vector512.LoadUnsafe(ref xr, (nuint)(8 * c));
+                a0 = Vector512.FusedMultiplyAdd(Vector512.Create(Unsafe.Add(ref w0, c)), x0, a0);
+                b0 = Vector512.FusedMultiplyAdd(Vector512.Create(Unsafe.Add(ref w1, c)), x0, b0);
+                c++;
+            }
+            for (; c < e1; c++)
+                b1 = Vector512.FusedMultiplyAdd(Vector512.Create(Unsafe.Add(ref w1, c)), Vector512.LoadUnsafe(ref xr, (nuint)(8 * c)), b1);
+            (a0 + a1).StoreUnsafe(ref yr, (nuint)(8 * k));
+            (b0 + b1).StoreUnsafe(ref yr, (nuint)(8 * k + 8));
         }
+        for (; k < Rows; k++) ApplyRow8(ref w, ref xr, x.Length, ref yr, k);
+    }
+
+    /// <summary>Row k of <see cref="ApplyInterleaved8"/> on its own.</summary>
+    private void ApplyRow8(ref double w, ref double xr, int xLength, ref double yr, int k)
+    {
+        if (nanRows is not null && nanRows[k]) { Vector512.Create(double.NaN).StoreUnsafe(ref yr, (nuint)(8 * k)); return; }
+        int len = length[k], first = start[k] + lead[k];
+        if ((first + len) * 8 > xLength) throw new ArgumentException("The row runs past the input.", "x");
+        ref double wk = ref Unsafe.Add(ref w, offset[k] + lead[k]);
+        ref double xk = ref Unsafe.Add(ref xr, 8 * first);
+        var a0 = Vector512<double>.Zero;
+        var a1 = Vector512<double>.Zero;
+        var a2 = Vector512<double>.Zero;
+        var a3 = Vector512<double>.Zero;
+        int j = 0;
+        for (; j <= len - 4; j += 4)
+        {
+            a0 = Vector512.FusedMultiplyAdd(Vector512.Create(Unsafe.Add(ref wk, j)), Vector512.LoadUnsafe(ref xk, (nuint)(8 * j)), a0);
+            a1 = Vector512.FusedMultiplyAdd(Vector512.Create(Unsafe.Add(ref wk, j + 1)), Vector512.LoadUnsafe(ref xk, (nuint)(8 * j + 8)), a1);
+            a2 = Vector512.FusedMultiplyAdd(Vector512.Create(Unsafe.Add(ref wk, j + 2)), Vector512.LoadUnsafe(ref xk, (nuint)(8 * j + 16)), a2);
+            a3 = Vector512.FusedMultiplyAdd(Vector512.Create(Unsafe.Add(ref wk, j + 3)), Vector512.LoadUnsafe(ref xk, (nuint)(8 * j + 24)), a3);
+        }
+        for (; j < len; j++)
+            a0 = Vector512.FusedMultiplyAdd(Vector512.Create(Unsafe.Add(ref wk, j)), Vector512.LoadUnsafe(ref xk, (nuint)(8 * j)), a0);
+        ((a0 + a1) + (a2 + a3)).StoreUnsafe(ref yr, (nuint)(8 * k));
     }
 
     /// <summary>Mean number of weights per row without the padding.</summary>
