@@ -253,7 +253,8 @@ public sealed class DegradationOperator
             }
             scale[j] = norm / centres[j];
         }
-        var rows = new SparseRowsBuilder(binning.Rows, nw);
+        // Each row grows by the kernel's width, plus up to a vector of padding.
+        var rows = new SparseRowsBuilder(binning.Rows, nw, binning.Weights.Length + binning.Rows * (2 * h + SparseRows.Lanes));
         for (int k = 0; k < binning.Rows; k++)
         {
             if (binning.IsNaNRow(k)) { rows.NaNRow(k); continue; }

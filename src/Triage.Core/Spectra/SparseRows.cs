@@ -12,14 +12,15 @@ using System.Runtime.Intrinsics.X86;
 namespace Triage.Core.Spectra;
 
 /// <summary>Rows of contiguous columns, each padded with zero weights to whole vectors when the input is long enough.</summary>
-internal sealed class SparseRowsBuilder(int rows, int columns)
+internal sealed class SparseRowsBuilder(int rows, int columns, int capacity = 0)
 {
     private readonly int[] _start = new int[rows];
     private readonly int[] _offset = new int[rows + 1];
     private readonly int[] _lead = new int[rows];
     private readonly int[] _length = new int[rows];
     private bool[]? _nan;
-    private double[] _weights = new double[Math.Max(16, rows * 8)];
+    // capacity: the weights expected with the padding, when the caller knows them (no regrowing).
+    private double[] _weights = new double[Math.Max(16, Math.Max(capacity, rows * 8))];
     private int _used;
 
     public void NaNRow(int k)
