@@ -262,11 +262,7 @@ public static class NightPlanner
         if (problem.ChurnBudget is { } churnBudget)
         {
             // Anchors not kept + candidates added ≤ budget, i.e. Σ added − Σ anchors kept ≤ budget − |anchors|.
-            var anchored = model.AnchoredCandidates;
-            var anchorSet = model.AnchorChoices.ToHashSet();
-            var terms = Enumerable.Range(0, choices.Count)
-                .Select(j => (j, w: anchorSet.Contains(j) ? -1L : anchored[choices[j].Candidate] ? 0L : 1L))
-                .Where(t => t.w != 0).ToArray();
+            var terms = Enumerable.Range(0, choices.Count).Select(j => (j, w: (long)model.ChurnWeight(j))).Where(t => t.w != 0).ToArray();
             cp.Add(LinearExpr.WeightedSum(terms.Select(t => present[t.j]), terms.Select(t => t.w)) <= churnBudget - model.AnchorChoices.Count);
         }
 

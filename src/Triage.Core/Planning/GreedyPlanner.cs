@@ -88,10 +88,9 @@ public static class GreedyPlanner
             changes += state.TryPlace(i) ? 0 : 1;
         }
 
-        var anchored = model.AnchoredCandidates;
         foreach (var i in Enumerable.Range(0, model.Choices.Count).OrderByDescending(i => model.Choices[i].NetValue / model.Choices[i].DurationTicks).ThenBy(i => i))
         {
-            var addition = !anchored[model.Choices[i].Candidate];
+            var addition = model.ChurnWeight(i) == 1;
             if (addition && churnBudget is { } budget && changes >= budget)
             {
                 continue;

@@ -243,50 +243,43 @@ public sealed class PlanningModel
 
     /// <summary>
     /// Changes a plan makes to the previous version in the sense of <see cref="PlanningProblem.ChurnBudget"/>: anchor
-    /// choices not placed plus placed choices of candidates without an anchor. 0 for a first plan.
+    /// choices not placed plus placed choices of candidates without an anchor, i.e. |anchor choices| + Σ
+    /// <see cref="ChurnWeight"/> over the placed choices. 0 for a first plan.
     /// </summary>
     public int ChangesOf(IEnumerable<PlacedChoice> placed)
     {
         ArgumentNullException.ThrowIfNull(placed);
-        if (Problem.Anchors.Count == 0)
-        {
-            return 0;
-        }
-
-        var anchored = AnchoredCandidates;
-        var kept = 0;
-        var added = 0;
-        var anchorSet = _anchorSet ??= AnchorChoices.ToHashSet();
-        foreach (var p in placed)
-        {
-            if (anchorSet.Contains(p.ChoiceIndex))
-            {
-                kept++;
-            }
-            else if (!anchored[Choices[p.ChoiceIndex].Candidate])
-            {
-                added++;
-            }
-        }
-
-        return AnchorChoices.Count - kept + added;
+        return Problem.Anchors.Count == 0 ? 0 : AnchorChoices.Count + placed.Sum(p => ChurnWeight(p.ChoiceIndex));
     }
 
-    /// <summary>True for each candidate that has an assignment in the previous version (replanning).</summary>
-    public IReadOnlyList<bool> AnchoredCandidates => _anchored ??= Anchored(Problem);
-
-    private bool[]? _anchored;
-    private HashSet<int>? _anchorSet;
-
-    private static bool[] Anchored(PlanningProblem problem)
+    /// <summary>
+    /// What placing choice <paramref name="index"/> does to the count of changes: −1 for an anchor choice (an anchor
+    /// kept), +1 for a choice of a candidate without an anchor (an addition), 0 otherwise (another place for an
+    /// anchored candidate, whose change the missing anchor already counts).
+    /// </summary>
+    public int ChurnWeight(int index)
     {
-        var result = new bool[problem.Candidates.Count];
-        foreach (var a in problem.Anchors)
+        _churnWeights ??= ChurnWeights();
+        return _churnWeights[index];
+    }
+
+    private int[]? _churnWeights;
+
+    private int[] ChurnWeights()
+    {
+        var anchored = new bool[Problem.Candidates.Count];
+        foreach (var a in Problem.Anchors)
         {
-            result[a.Candidate] = true;
+            anchored[a.Candidate] = true;
         }
 
-        return result;
+        var weights = Choices.Select(c => anchored[c.Candidate] ? 0 : 1).ToArray();
+        foreach (var a in AnchorChoices)
+        {
+            weights[a] = -1;
+        }
+
+        return weights;
     }
 
     /// <summary>Net value of a set of placed choices.</summary>
