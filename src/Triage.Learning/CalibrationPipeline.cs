@@ -10,7 +10,10 @@ namespace Triage.Learning;
 /// <param name="Remaining">Estimated time left (linear in work done); null before the first unit finishes.</param>
 public sealed record CalibrationProgress(double Percent, string Stage, TimeSpan Elapsed, TimeSpan? Remaining);
 
-/// <summary>Wall-clock split of a run, for the benchmark and the docs.</summary>
+/// <summary>
+/// Where the time of a run went, for the benchmark and the docs: each stage's wall-clock time summed over the R values of
+/// the grid. R values overlap in <see cref="CalibrationPipeline.Run"/>, so the stages can add up to more than <see cref="Total"/>.
+/// </summary>
 public sealed record CalibrationTimings(TimeSpan Degrade, TimeSpan Features, TimeSpan Train, TimeSpan Total);
 
 /// <summary>
@@ -24,6 +27,11 @@ public static class CalibrationPipeline
 {
     /// <summary>Spectra on one wavelength array (and source R) from which the degradation goes through a shared operator.</summary>
     private const int MinSharedGrid = 8;
+
+    /// <summary>R values of the grid computed at once by <see cref="Run"/> (their inner loops share the cores).</summary>
+    private const int ResolutionsInFlight = 2;
+
+    private static TimeSpan Sum(IEnumerable<TimeSpan> spans) => spans.Aggregate(TimeSpan.Zero, (a, b) => a + b);
 
     /// <summary>Runs the calibration and returns the accuracy-model document.</summary>
     /// <param name="codeVersion">Version string of the calling build, recorded in the provenance.</param>
@@ -48,14 +56,19 @@ public static class CalibrationPipeline
                 done == 0 ? null : TimeSpan.FromTicks((long)(total.Elapsed.Ticks * (1 - f) / f))));
         }
         Report("starting");
-        var outcomes = new List<ResolutionOutcome>();
-        var degradeTime = TimeSpan.Zero; var featureTime = TimeSpan.Zero; var trainTime = TimeSpan.Zero;
-        for (int ri = 0; ri < run.Resolutions.Count; ri++)
-        {
-            var (outcome, timings) = RunResolutionTimed(run, ri, stage => { done++; Report(stage); }, cancellationToken);
-            outcomes.Add(outcome);
-            degradeTime += timings.Degrade; featureTime += timings.Features; trainTime += timings.Train;
-        }
+        var gate = new object();
+        var results = new (ResolutionOutcome Outcome, CalibrationTimings Timings)[run.Resolutions.Count];
+        // Two R values in flight: each R's own loops leave cores idle at their ends (the last folds of a training
+        // round, the operator build, the scoring), which the other R fills. The seeds depend on the R's index, not on
+        // the order, so the document is the one a sequential run gives (CalibrationPipelineTests). Highest R first:
+        // its degradation is the longest, and the cheap low-R values fill the end.
+        var order = Enumerable.Range(0, run.Resolutions.Count).OrderByDescending(i => run.Resolutions[i]).ToArray();
+        Parallel.ForEach(order, new ParallelOptions { CancellationToken = cancellationToken, MaxDegreeOfParallelism = ResolutionsInFlight }, ri =>
+            results[ri] = RunResolutionTimed(run, ri, stage => { lock (gate) { done++; Report(stage); } }, cancellationToken));
+        var outcomes = results.Select(x => x.Outcome).ToList();
+        var degradeTime = Sum(results.Select(x => x.Timings.Degrade));
+        var featureTime = Sum(results.Select(x => x.Timings.Features));
+        var trainTime = Sum(results.Select(x => x.Timings.Train));
         var document = Assemble(run, outcomes, codeVersion);
         Report("done");
         return (document, new CalibrationTimings(degradeTime, featureTime, trainTime, total.Elapsed));
@@ -144,16 +157,19 @@ public static class CalibrationPipeline
         {
             features[si] = new float[spectra.Count][]; snrs[si] = new SpectrumSnr[spectra.Count]; estimated[si] = new double?[spectra.Count];
         }
-        Parallel.For(0, levels * spectra.Count, parallel, j =>
+        // The noised flux only lives until its features are taken: one buffer per worker, not one array per spectrum and level.
+        Parallel.For(0, levels * spectra.Count, parallel, () => Array.Empty<double>(), (j, _, buffer) =>
         {
             int si = j / spectra.Count, i = j % spectra.Count;
             var (_, w, f, noise) = degraded[i];
+            if (buffer.Length != f.Length) buffer = new double[f.Length];
             // Only the shortfall over the noise already present is added (docs/calibration.md, "The S/N convention").
-            var noised = noise.Apply(f, settings.SnrLevels[si], settings.PixelsPerElement, new Random(DerivedSeed(settings.Seed, i, ri, si)));
+            var noised = noise.Apply(f, settings.SnrLevels[si], settings.PixelsPerElement, new Random(DerivedSeed(settings.Seed, i, ri, si)), buffer);
             snrs[si][i] = new SpectrumSnr(noised.RealisedSnr ?? double.PositiveInfinity, noised.ReachableSnr);
             double z = spectra[i].Redshift ?? (estimated[si][i] = EstimateRedshift(templates![run.TestFold[i]], w, noised.Flux, run)).Value;
             features[si][i] = Preprocessing.Features(w, noised.Flux, z, r, settings.Preprocess);
-        });
+            return buffer;
+        }, _ => { });
         var featureTime = sw.Elapsed;
         sw.Restart();
         var predicted = new int[levels][];

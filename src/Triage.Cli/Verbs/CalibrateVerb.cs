@@ -166,7 +166,7 @@ internal static class CalibrateVerb
             Console.WriteLine(string.Create(CultureInfo.InvariantCulture,
                 $"Baselines: uniform guess {b.UniformGuess:0.000}, majority ({b.MajoritySubtype}) {b.MajorityClass:0.000}"));
         Console.WriteLine(string.Create(CultureInfo.InvariantCulture,
-            $"Time: degrade {t.Degrade.TotalSeconds:0.0} s, noise+features {t.Features.TotalSeconds:0.0} s, train+predict {t.Train.TotalSeconds:0.0} s, total {t.Total.TotalSeconds:0.0} s"));
+            $"Time (stages summed over R, which overlap): degrade {t.Degrade.TotalSeconds:0.0} s, noise+features {t.Features.TotalSeconds:0.0} s, train+predict {t.Train.TotalSeconds:0.0} s, total {t.Total.TotalSeconds:0.0} s"));
     }
 
     /// <summary>Progress callback invoked synchronously on the reporting thread.</summary>

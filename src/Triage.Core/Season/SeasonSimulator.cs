@@ -254,6 +254,7 @@ internal sealed class StrategyRun
     private readonly Dictionary<string, double[]> _plannedValue = new(StringComparer.Ordinal);
     private readonly Dictionary<string, double[]> _plannedHours = new(StringComparer.Ordinal);
     private readonly Dictionary<string, int> _flaggedNight = new(StringComparer.Ordinal);
+    private readonly double[] _capacityShareByNight;
     private readonly int[] _correctByNight;
     private readonly int[] _wrongByNight;
     private readonly double[] _highBySettled = new double[4];
@@ -292,6 +293,7 @@ internal sealed class StrategyRun
         _outcomes = _sequential && settings.LearnUnitAccuracy ? new UnitOutcomes(planner, settings.Outcomes) : null;
         _seasonStart = SeasonSimulator.Evening(settings.FirstNight);
         _correctByNight = new int[settings.Nights];
+        _capacityShareByNight = new double[settings.Nights];
         _wrongByNight = new int[settings.Nights];
         foreach (var sg in spectrographs)
         {
@@ -305,7 +307,7 @@ internal sealed class StrategyRun
     {
         var date = _settings.FirstNight.AddDays(index);
         var now = SeasonSimulator.Evening(date);
-        var limit = _settings.Sky.SurveyLimitMag + 1;
+        _capacityShareByNight[index] = _capacityShare;
         var pool = new List<SimulatedTarget>();
         var byId = new Dictionary<string, SimulatedTarget>(StringComparer.Ordinal);
         foreach (var t in _sky)
@@ -315,7 +317,7 @@ internal sealed class StrategyRun
                 continue;
             }
 
-            if (t.PhaseAt(now) > 60 || t.MagnitudeAt(now) > limit)
+            if (LeftForGood(t, now))
             {
                 // Gone for good: an unsettled candidate is closed with its best label (docs §5 "Final labels").
                 if (_status[t.Index] == Status.Unsettled)
@@ -405,8 +407,15 @@ internal sealed class StrategyRun
             }
         }
 
-        UpdateCapacityShare(pool.Count);
+        UpdateCapacityShare(pool.Count, SeasonSimulator.Evening(date.AddDays(1)));
     }
+
+    /// <summary>
+    /// Out of the pool for good at <paramref name="evening"/>: past 60 rest-frame days or fainter than m_lim + 1. Both are
+    /// permanent in the simulated sky (the light curve declines monotonically after peak).
+    /// </summary>
+    private bool LeftForGood(Transient t, DateTimeOffset evening) =>
+        t.PhaseAt(evening) > 60 || t.MagnitudeAt(evening) > _settings.Sky.SurveyLimitMag + 1;
 
     /// <summary>
     /// Demand against capacity. Candidates left out by the bounded pool are counted as worth observing when the
@@ -604,11 +613,15 @@ internal sealed class StrategyRun
         }
     }
 
-    private void UpdateCapacityShare(int poolSize)
+    /// <summary>
+    /// q for the next night. U counts the unsettled candidates that can still be in its pool: not closed, and not
+    /// gone for good by <paramref name="nextEvening"/> (a candidate that has left can never take a follow-up).
+    /// </summary>
+    private void UpdateCapacityShare(int poolSize, DateTimeOffset nextEvening)
     {
         var capacity = _spectrographs.Where(s => s.ResolvingPower >= _settings.HighResolutionThreshold)
             .Sum(s => s.NightlyBudgetHours) * _settings.ClearFraction;
-        var unsettled = _sky.Count(t => _status[t.Index] == Status.Unsettled);
+        var unsettled = _sky.Count(t => _status[t.Index] == Status.Unsettled && !_closed[t.Index] && !LeftForGood(t, nextEvening));
         var fresh = Math.Max(0, poolSize - unsettled);
         var f = _lowLabelled > 0 ? (double)_lowUnsettled / _lowLabelled : 0.5;
         var demand = _meanHighHours * (unsettled + f * fresh);
@@ -667,7 +680,8 @@ internal sealed class StrategyRun
             _flaggedNight,
             _load,
             Rounded(_plannedValue),
-            Rounded(_plannedHours));
+            Rounded(_plannedHours),
+            _capacityShareByNight.Select(q => Math.Round(q, 4)).ToArray());
     }
 }
 

@@ -37,12 +37,19 @@ public sealed class QuietOutageTests(AttackFactory api) : IClassFixture<AttackFa
     private List<LogEvent> RelayLines(int from) => api.Log.Events.Skip(from).Where(e => e.Properties.TryGetValue("SourceContext", out var c)
         && c.ToString().Trim('"') == "Triage.Api.Events.PlanEventRelay").ToList();
 
+    // A statement in flight when the relay is cut can take up to the connection's own limits to fail (Npgsql defaults:
+    // 15 s to connect, 30 s per command), and a loaded test machine stretches both: wait well past their sum.
+    private static readonly TimeSpan Patience = TimeSpan.FromSeconds(120);
+
     private async Task WaitForAsync(int from, Func<List<LogEvent>, bool> condition)
     {
-        for (var i = 0; i < 600 && !condition(RelayLines(from)); i++)
+        var until = DateTime.UtcNow + Patience;
+        while (DateTime.UtcNow < until && !condition(RelayLines(from)))
         {
             await Task.Delay(100);
         }
-        Assert.True(condition(RelayLines(from)), $"relay lines so far: {string.Join(" | ", RelayLines(from).Select(e => $"{e.Level} {e.MessageTemplate.Text}"))}");
+        var recent = api.Log.Events.Skip(from).TakeLast(8).Select(e => $"{e.Level} {e.MessageTemplate.Text}");
+        Assert.True(condition(RelayLines(from)),
+            $"relay lines so far: {string.Join(" | ", RelayLines(from).Select(e => $"{e.Level} {e.MessageTemplate.Text}"))}; last log lines: {string.Join(" | ", recent)}");
     }
 }

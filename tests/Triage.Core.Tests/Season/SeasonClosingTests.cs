@@ -18,7 +18,7 @@ public class SeasonClosingTests
     private static readonly DateTimeOffset SeasonStart = new(2026, 12, 2, 12, 0, 0, TimeSpan.Zero);
 
     /// <summary>The fixture's grid with recall 1/3 and every confusion row uniform (40 spectra per answer).</summary>
-    private static AccuracySurface Uninformative()
+    internal static AccuracySurface Uninformative()
     {
         var subtypes = CalibrationFixtures.Subtypes;
         var cells = new List<CalibrationCell>();
@@ -46,7 +46,7 @@ public class SeasonClosingTests
     /// peak 15 mag declining 0.01 mag/day (15.6 mag at 60 d, far above m_lim + 1 = 20.5), discovered 80 days
     /// before the season: whether it is in the pool is decided by its phase alone.
     /// </summary>
-    private static Transient Crafted(int index, int subtype, double phaseAtSeasonStart, double[] broker, double raDeg = 70) =>
+    internal static Transient Crafted(int index, int subtype, double phaseAtSeasonStart, double[] broker, double raDeg = 70) =>
         new(index, $"crafted-{index}", new SkyTarget(raDeg, -25), subtype, 0.01,
             SeasonStart.AddDays(-phaseAtSeasonStart * 1.01), 15, 15, 0.01, SeasonStart.AddDays(-80), broker, 0, 0);
 

@@ -42,4 +42,26 @@ public class CalibrationPartsTests(SyntheticCalibrationFixture f)
         var e = Assert.Throws<ArgumentException>(() => CalibrationPipeline.Assemble(run, [one], "test"));
         Assert.Contains("R = 50", e.Message);
     }
+    [Fact]
+    public void WholeRun_WithRValuesOverlapping_ReportsEveryUnitOnceWithRisingPercent()
+    {
+        var settings = new CalibrationSettings { Resolutions = [500, 50, 150, 20], SnrLevels = [10], Folds = 3, Seed = 4 };
+        var reports = new List<CalibrationProgress>();
+        var progress = new SynchronousProgress(p => { lock (reports) reports.Add(p); });
+
+        CalibrationPipeline.Run(f.Library, Taxonomy.Default, settings, "test", progress);
+
+        Assert.Equal("starting", reports[0].Stage);
+        Assert.Equal("done", reports[^1].Stage);
+        Assert.Equal(100, reports[^1].Percent, 9);
+        var units = reports.Skip(1).SkipLast(1).Select(r => r.Stage).ToList();
+        Assert.Equal(4 * 1 * 3, units.Count); // R × S/N × folds, each once
+        Assert.Equal(units.Count, units.Distinct().Count());
+        Assert.All(reports.Zip(reports.Skip(1)), pair => Assert.True(pair.Second.Percent >= pair.First.Percent));
+    }
+
+    private sealed class SynchronousProgress(Action<CalibrationProgress> report) : IProgress<CalibrationProgress>
+    {
+        public void Report(CalibrationProgress value) => report(value);
+    }
 }
