@@ -164,7 +164,7 @@ public static class SequentialValuation
     /// <summary>
     /// The plain-words explanation of a value with a positive escalation part, e.g. "cheap spectrum first:
     /// if it reports Ia (45 % likely), an R=4000 spectrum then identifies the subtype with
-    /// probability 0.71 (0.69 expected correct)"; null when escalation adds nothing.
+    /// probability 0.71 (0.69 expected correct)"; null when escalation adds nothing at the two decimals shown (E &lt; 0.005).
     /// </summary>
     /// <param name="value">The value.</param>
     /// <param name="subtypes">Subtype labels in the channel's order.</param>
@@ -172,7 +172,8 @@ public static class SequentialValuation
     public static string? Explain(SequentialValue value, IReadOnlyList<string> subtypes, double followUpResolvingPower)
     {
         ArgumentNullException.ThrowIfNull(subtypes);
-        if (value.Escalation <= 0 || value.LikelyUnsettledAnswer < 0)
+        // "+ 0.00 more from the follow-up" would advertise a cheap spectrum first for nothing.
+        if (value.Escalation < 0.005 || value.LikelyUnsettledAnswer < 0)
         {
             return null;
         }

@@ -144,4 +144,18 @@ public class SequentialValuationTests
         Assert.Equal(0.183 / 0.39, v.FollowUpIdentifies, 12);
         Assert.Equal("cheap spectrum first: if it reports Ia-91T-like (39 % likely), an R=4000 spectrum then identifies the subtype with probability 0.47 (0.45 expected correct); 0.00 identified now + 0.11 more from the follow-up than without this spectrum", text);
     }
+
+    [Fact]
+    public void Explain_EscalationBelowTheShownDecimals_SaysNothing()
+    {
+        // The hand case above with q = 0.01: E = 0.01 · 0.61896 = 0.0061896 is shown ("0.01 more"); with q = 0.005,
+        // E = 0.0030948 would read "+ 0.00 more from the follow-up", so no escalation sentence.
+        var shown = SequentialValuation.Evaluate(Prior, Channel, Channel, 0.01, 0.9);
+        var hidden = SequentialValuation.Evaluate(Prior, Channel, Channel, 0.005, 0.9);
+
+        Assert.Equal(0.0061896, shown.Escalation, 12);
+        Assert.EndsWith("0.00 identified now + 0.01 more from the follow-up than without this spectrum", SequentialValuation.Explain(shown, ["Ia", "Ia-91T-like", "II"], 4000));
+        Assert.Equal(0.0030948, hidden.Escalation, 12);
+        Assert.Null(SequentialValuation.Explain(hidden, ["Ia", "Ia-91T-like", "II"], 4000));
+    }
 }
