@@ -106,6 +106,13 @@ public sealed record SeasonSettings
     /// </summary>
     public int MaxPoolCandidates { get; init; } = 600;
 
+    /// <summary>
+    /// Most the network may spend a night, in the roster's cost units (Σ cost per hour × hours planned on every unit):
+    /// one programme budget shared by all units, the planner's network cost cap. Null: no cap (each unit has only its
+    /// own nightly budget). Default null.
+    /// </summary>
+    public double? NetworkCostCap { get; init; }
+
     /// <summary>Subtypes whose base rate is below this count as rare. Default 0.02.</summary>
     public double RareBaseRate { get; init; } = 0.02;
 }
@@ -211,6 +218,11 @@ public static class SeasonSimulator
         if (settings.Nights < 1 || !(settings.ClearFraction is >= 0 and <= 1))
         {
             throw new ArgumentException("Nights must be ≥ 1 and ClearFraction in [0, 1].", nameof(settings));
+        }
+
+        if (settings.NetworkCostCap is { } cap && !(cap >= 0 && double.IsFinite(cap)))
+        {
+            throw new ArgumentException("NetworkCostCap must be finite and ≥ 0.", nameof(settings));
         }
 
         if (!truth.Subtypes.SequenceEqual(planner.Subtypes))
@@ -358,6 +370,7 @@ internal sealed class StrategyRun
         var build = new NightBuildSettings
         {
             Objective = objective,
+            NetworkCostCap = _settings.NetworkCostCap,
             Sequential = new SequentialPlanSettings
             {
                 Confidence = _settings.Confidence,
