@@ -265,6 +265,7 @@ internal sealed class StrategyRun
     private readonly Dictionary<string, double[]> _hoursByNight = new(StringComparer.Ordinal);
     private readonly Dictionary<string, double[]> _plannedValue = new(StringComparer.Ordinal);
     private readonly Dictionary<string, double[]> _plannedHours = new(StringComparer.Ordinal);
+    private readonly Dictionary<string, double[]> _plannedHoursAtConfidence = new(StringComparer.Ordinal);
     private readonly Dictionary<string, int> _flaggedNight = new(StringComparer.Ordinal);
     private readonly double[] _capacityShareByNight;
     private readonly int[] _correctByNight;
@@ -312,6 +313,7 @@ internal sealed class StrategyRun
             _hoursByNight[sg.Name] = new double[settings.Nights];
             _plannedValue[sg.Name] = new double[settings.Nights];
             _plannedHours[sg.Name] = new double[settings.Nights];
+            _plannedHoursAtConfidence[sg.Name] = new double[settings.Nights];
         }
     }
 
@@ -398,6 +400,10 @@ internal sealed class StrategyRun
             var unit = problem.Units[option.Unit];
             _plannedValue[unit.Name][index] += option.Levels[obs.Level].Value;
             _plannedHours[unit.Name][index] += option.Levels[obs.Level].DurationSeconds / 3600;
+            if (SequentialValuation.Max(_belief[byId[problem.Candidates[option.Candidate].Id].Transient.Index]) >= _settings.Confidence - 1e-12)
+            {
+                _plannedHoursAtConfidence[unit.Name][index] += option.Levels[obs.Level].DurationSeconds / 3600;
+            }
             if (!clear[unit.SiteName])
             {
                 _weatherLosses++;
@@ -694,6 +700,7 @@ internal sealed class StrategyRun
             _load,
             Rounded(_plannedValue),
             Rounded(_plannedHours),
+            Rounded(_plannedHoursAtConfidence),
             _capacityShareByNight.Select(q => Math.Round(q, 4)).ToArray());
     }
 }
