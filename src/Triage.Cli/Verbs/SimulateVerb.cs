@@ -2,6 +2,7 @@ using System.CommandLine;
 using System.Globalization;
 using System.Text.Json;
 using Spectre.Console;
+using Triage.Core.Identification;
 using Triage.Core.Planning;
 using Triage.Core.Roster;
 using Triage.Core.Season;
@@ -29,13 +30,14 @@ internal static class SimulateVerb
         var maxPool = new Option<int>("--max-pool") { Description = "Most candidates planned per night, chosen like the service's bounded pool (default 600).", DefaultValueFactory = _ => new SeasonSettings().MaxPoolCandidates };
         var clear = new Option<double>("--clear-fraction") { Description = "Probability a site is clear on a night (default 0.7).", DefaultValueFactory = _ => 0.7 };
         var costCap = new Option<double?>("--network-cost-cap") { Description = "Most the whole network may spend a night, in the roster's cost units (cost per hour × hours): one programme budget shared by the units (default: none)." };
+        var reliability = new Option<bool>("--unit-reliability") { Description = "Outcome learning also estimates one share of uniform guesses per unit from all its trials and applies it to every row (docs/sequential-triage.md §4)." };
         var noLearning = new Option<bool>("--no-learning") { Description = "Plan with the calibration only (no outcome learning)." };
         var strategies = new Option<string?>("--strategies") { Description = "Comma-separated strategy names (default: the five compared; triage-sequential-accuracy-objective on request)." };
         var whatIf = new Option<FileInfo?>("--what-if-roster") { Description = "A changed roster: run the same seeds with it and report the difference." };
         var plots = new Option<DirectoryInfo?>("--plots") { Description = "Folder for SVG plots of the first seed." };
         var output = new Option<FileInfo>("--out") { Description = "Season JSON to write.", Required = true };
         var cmd = new Command("simulate", "Simulate a season of the roster for Triage (with and without escalation) and the rule baselines.")
-            { roster, calibration, truth, degrade, nights, seed, seeds, peaks, maxPool, clear, costCap, noLearning, strategies, whatIf, plots, output };
+            { roster, calibration, truth, degrade, nights, seed, seeds, peaks, maxPool, clear, costCap, reliability, noLearning, strategies, whatIf, plots, output };
         cmd.SetAction((parse, ct) =>
         {
             try
@@ -50,6 +52,7 @@ internal static class SimulateVerb
                     Nights = parse.GetValue(nights) is var n and >= 1 and <= 366 ? n : throw new FormatException("--nights: 1 to 366."),
                     ClearFraction = parse.GetValue(clear) is var c and >= 0 and <= 1 ? c : throw new FormatException("--clear-fraction: 0 to 1."),
                     LearnUnitAccuracy = !parse.GetValue(noLearning),
+                    Outcomes = new UnitOutcomeSettings { UnitReliability = parse.GetValue(reliability) },
                     NetworkCostCap = parse.GetValue(costCap) is { } cap
                         ? cap is >= 0 and <= 1e9 ? cap : throw new FormatException("--network-cost-cap: 0 to 1e9.")
                         : null,
