@@ -84,3 +84,53 @@ public class CalibrationGridBenchmarks
         return doc;
     }
 }
+
+/// <summary>
+/// The calibration's noise and feature stage at one R for 240 spectra of the default library (degraded once in the
+/// set-up): <see cref="Noise240Spectra"/> adds the shortfall noise for S/N 10 per element with a seeded generator per
+/// spectrum, <see cref="Features240Spectra"/> extracts the feature vectors of the noised spectra. At high R this stage
+/// is the largest part of the study after training (docs/calibration.md, "The whole study").
+/// </summary>
+[MemoryDiagnoser]
+public class NoiseAndFeatureBenchmarks
+{
+    private double[][] _fluxes = [];
+    private double[][] _noised = [];
+    private double[] _centres = [];
+    private double[] _redshifts = [];
+    private DegradedNoise[] _noise = [];
+    private readonly PreprocessOptions _preprocess = new CalibrationSettings().Preprocess;
+
+    [Params(1500, 4000)]
+    public double Resolution { get; set; }
+
+    [GlobalSetup]
+    public void Setup()
+    {
+        var spectra = SyntheticLibrary.Generate(new SynthOptions { Objects = 41, MinObjectsPerSubtype = 2, Seed = 3 }).Library.Spectra.Take(240).ToArray();
+        var first = spectra[0];
+        var op = DegradationOperator.Build(first.Spectrum.WavelengthAngstrom, PixelBins.Of(first.Spectrum.WavelengthAngstrom), Resolution, first.SourceResolution);
+        _fluxes = op.Apply(spectra.Select(s => s.Spectrum.Flux).ToArray());
+        _centres = op.Grid.Centres();
+        var shapes = SpectrumNoise.NoiseShapes(spectra.Select(s => s.Spectrum).ToArray(), NoiseShapeBinning.Build(first.Spectrum.WavelengthAngstrom, op.Grid));
+        _noise = spectra.Select((s, i) => DegradedNoise.Account(InputNoiseSources.Of(s.Spectrum, s.NoiseFree), s.SourceResolution, op.Grid, _fluxes[i], Resolution, shapes[i])).ToArray();
+        _redshifts = spectra.Select(s => s.Redshift ?? 0).ToArray();
+        _noised = Enumerable.Range(0, 240).Select(i => _noise[i].Apply(_fluxes[i], 10, 2, new Random(i)).Flux).ToArray();
+    }
+
+    [Benchmark]
+    public double Noise240Spectra()
+    {
+        double sum = 0;
+        for (int i = 0; i < _fluxes.Length; i++) sum += _noise[i].Apply(_fluxes[i], 10, 2, new Random(i)).Flux[0];
+        return sum;
+    }
+
+    [Benchmark]
+    public double Features240Spectra()
+    {
+        double sum = 0;
+        for (int i = 0; i < _noised.Length; i++) sum += Preprocessing.Features(_centres, _noised[i], _redshifts[i], Resolution, _preprocess)[0];
+        return sum;
+    }
+}

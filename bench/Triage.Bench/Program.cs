@@ -17,6 +17,11 @@ if (args.Length > 0 && args[0] == "redshift-errors")
 {
     return Triage.Bench.Harness.RedshiftErrors.Run(args);
 }
+// `plan-objectives ...` times the plan job's build and solve with the accuracy and the identification objective back to back.
+if (args.Length > 0 && args[0] == "plan-objectives")
+{
+    return Triage.Bench.Harness.ObjectiveTiming.Run(args);
+}
 // `demo-night` prints the demo night's plan figures (the setup of PlanQualityBenchmarks) without timing anything.
 if (args.Length > 0 && args[0] == "demo-night")
 {

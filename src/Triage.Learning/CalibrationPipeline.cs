@@ -157,16 +157,19 @@ public static class CalibrationPipeline
         {
             features[si] = new float[spectra.Count][]; snrs[si] = new SpectrumSnr[spectra.Count]; estimated[si] = new double?[spectra.Count];
         }
-        Parallel.For(0, levels * spectra.Count, parallel, j =>
+        // The noised flux only lives until its features are taken: one buffer per worker, not one array per spectrum and level.
+        Parallel.For(0, levels * spectra.Count, parallel, () => Array.Empty<double>(), (j, _, buffer) =>
         {
             int si = j / spectra.Count, i = j % spectra.Count;
             var (_, w, f, noise) = degraded[i];
+            if (buffer.Length != f.Length) buffer = new double[f.Length];
             // Only the shortfall over the noise already present is added (docs/calibration.md, "The S/N convention").
-            var noised = noise.Apply(f, settings.SnrLevels[si], settings.PixelsPerElement, new Random(DerivedSeed(settings.Seed, i, ri, si)));
+            var noised = noise.Apply(f, settings.SnrLevels[si], settings.PixelsPerElement, new Random(DerivedSeed(settings.Seed, i, ri, si)), buffer);
             snrs[si][i] = new SpectrumSnr(noised.RealisedSnr ?? double.PositiveInfinity, noised.ReachableSnr);
             double z = spectra[i].Redshift ?? (estimated[si][i] = EstimateRedshift(templates![run.TestFold[i]], w, noised.Flux, run)).Value;
             features[si][i] = Preprocessing.Features(w, noised.Flux, z, r, settings.Preprocess);
-        });
+            return buffer;
+        }, _ => { });
         var featureTime = sw.Elapsed;
         sw.Restart();
         var predicted = new int[levels][];

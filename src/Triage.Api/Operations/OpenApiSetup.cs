@@ -170,7 +170,7 @@ public static class OpenApiSetup
                 { "mjd": 61374.5, "band": "g", "fluxMicroJy": 80.0, "fluxMicroJyError": 5.0 } ],
               "subtypeProbabilities": { "Ia": 0.6, "II": 0.3 } } ] }
             """),
-        "RequestPlan" => JsonNode.Parse("""{ "night": "2026-12-02", "objective": "accuracy", "timeLimitSeconds": 20 }"""),
+        "RequestPlan" => JsonNode.Parse("""{ "night": "2026-12-02", "objective": "identification", "timeLimitSeconds": 20 }"""),
         "ReportObservation" => JsonNode.Parse("""
             { "spectrographId": "5ec00000-0000-4000-8000-000000000002", "outcome": "done", "classifiedLabel": "Ia",
               "achievedSnr": 14.2, "observedUtc": "2026-12-03T02:14:00Z" }

@@ -5,7 +5,7 @@ using Triage.Storage.Plans;
 namespace Triage.Api.Plans;
 
 /// <summary>
-/// Body of a plan request. <c>fromUtc</c> replans from that instant (default: the later of now and the night's start);
+/// Body of a plan request. <c>objective</c> is identification (default), accuracy or information; <c>fromUtc</c> replans from that instant (default: the later of now and the night's start);
 /// <c>deterministic</c> (default true) gives the same plan for the same inputs; false uses <c>timeLimitSeconds</c> of wall time on every core;
 /// <c>maxChurnShare</c> (default 0.1, in (0, 1]) is the share of the entries ahead a replan may change; 1 replans freely.
 /// </summary>

@@ -56,7 +56,7 @@ public static class PlanEndpoints
         {
             checks.Fail("fromUtc", $"must fall inside the night of {night:yyyy-MM-dd}: from {Ranges.NightSpan(night).From:yyyy-MM-dd'T'HH:mm'Z'} to before {Ranges.NightSpan(night).To:yyyy-MM-dd'T'HH:mm'Z'}");
         }
-        var objective = checks.Choice("objective", request.Objective, Objectives, PlanObjective.Accuracy);
+        var objective = checks.Choice("objective", request.Objective, Objectives, PlanDefaults.Objective);
         var limit = request.TimeLimitSeconds is null ? 5 : checks.Number("timeLimitSeconds", request.TimeLimitSeconds, 0, 300, minExclusive: true);
         var churn = request.MaxChurnShare is null ? NightReplan.DefaultMaxChurnShare : checks.Number("maxChurnShare", request.MaxChurnShare, 0, 1, minExclusive: true);
         if (!checks.IsValid)
@@ -168,7 +168,7 @@ public static class PlanEndpoints
     }
 
     internal static readonly IReadOnlyDictionary<string, PlanObjective> Objectives =
-        new Dictionary<string, PlanObjective> { ["accuracy"] = PlanObjective.Accuracy, ["information"] = PlanObjective.Information, ["identification"] = PlanObjective.Identification };
+        Enum.GetValues<PlanObjective>().ToDictionary(PlanDefaults.Name, o => o);
 
     internal static bool TryNight(string text, out DateOnly night, out ProblemHttpResult problem)
     {

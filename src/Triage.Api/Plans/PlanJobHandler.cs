@@ -151,7 +151,7 @@ public sealed class PlanJobHandler(
     }
 
     /// <summary>The labelled reports of identified candidates as trials of their units (labels the calibration knows only).</summary>
-    private static UnitOutcomes LearnedChannels(AccuracySurface surface, IReadOnlyList<LabelledTrialRow> trials)
+    internal static UnitOutcomes LearnedChannels(AccuracySurface surface, IReadOnlyList<LabelledTrialRow> trials)
     {
         var outcomes = new UnitOutcomes(surface);
         var index = surface.Subtypes.Select((s, i) => (s, i)).ToDictionary(t => t.s, t => t.i, StringComparer.Ordinal);

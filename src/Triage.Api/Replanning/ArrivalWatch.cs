@@ -4,6 +4,7 @@ using Triage.Core.Planning;
 using Triage.Core.Sky;
 using Triage.Learning;
 using Triage.Api.Candidates;
+using Triage.Api.Plans;
 using Triage.Storage.Candidates;
 using Triage.Storage.NightOperations;
 using Triage.Storage.Plans;
@@ -108,6 +109,7 @@ public sealed class ArrivalWatch(
         var sites = (await roster.ListSitesAsync(new SiteFilter(), ct)).Select(v => v.Value).ToList();
         var spectrographs = (await roster.ListSpectrographsAsync(new SpectrographFilter(), ct)).Select(v => v.Value).ToList();
         List<ITargetForecast>? targets = null;
+        SequentialPlanSettings? sequential = null;
         foreach (var night in sites.Select(s => DarkTime.NightOf(now, s.LongitudeDeg)).Distinct().Order())
         {
             if (await plans.GetAsync(night, null, ct) is not { } latest)
@@ -133,9 +135,16 @@ public sealed class ArrivalWatch(
             var nightStart = new DateTimeOffset(night.ToDateTime(TimeOnly.MinValue), TimeSpan.Zero);
             var closures = await operations.ClosuresAsync(nightStart.AddHours(-12), nightStart.AddDays(2), null, ct);
             var conditions = await operations.ConditionsAtAsync(now, null, ct);
+            // Valued as the plan job values them: under identification with each unit's channel learned from its outcomes.
+            if (plan.Objective == PlanObjective.Identification)
+            {
+                sequential ??= new SequentialPlanSettings { Channels = PlanJobHandler.LearnedChannels(active.Surface, await candidates.LabelledTrialsAsync(ct)) };
+            }
+
             var built = NightProblemBuilder.Build(sites, spectrographs, targets.Where(t => arrivals.Contains(Guid.Parse(t.Id))).ToList(), active.Surface, night, now, new NightBuildSettings
             {
                 Objective = plan.Objective,
+                Sequential = sequential ?? new SequentialPlanSettings(),
                 Closures = NightOperationsStore.ForPlanner(closures),
                 Conditions = NightOperationsStore.ForPlanner(conditions),
             });

@@ -123,7 +123,9 @@ public sealed class ReplanScheduler(
             return;
         }
 
-        var objective = PlanEndpoints.Objectives.TryGetValue(latest.Objective, out var ob) ? ob : PlanObjective.Accuracy;
+        // A replan keeps the objective its night was planned with (a scheduler that asked for accuracy keeps it);
+        // the default only stands in for a version whose objective this service does not know.
+        var objective = PlanEndpoints.Objectives.TryGetValue(latest.Objective, out var ob) ? ob : PlanDefaults.Objective;
         var input = new PlanJobInput(night, objective, 5, null, true, p.Kind, p.Detail);
         var id = await jobs.EnqueueAsync(PlanEndpoints.PlanJobKind, JsonSerializer.Serialize(input, OperationsSetup.JobJson), null, now, ct);
         log.LogInformation("Replan of {Night} queued as job {JobId} after {Events} event(s): {Kind}: {Detail}", night, id, p.Events, p.Kind, p.Detail);

@@ -112,7 +112,7 @@ internal static class DemoVerb
                 if (await new PlanStore(data).GetAsync(night, null, ct) is null)
                 {
                     // The same input the plans endpoint queues; the service's worker runs it.
-                    var input = $$"""{"night":"{{night:yyyy-MM-dd}}","objective":"accuracy","timeLimitSeconds":5,"fromUtc":null}""";
+                    var input = $$"""{"night":"{{night:yyyy-MM-dd}}","objective":"{{Triage.Core.Planning.PlanDefaults.ObjectiveName}}","timeLimitSeconds":5,"fromUtc":null}""";
                     var job = await new JobStore(data).EnqueueAsync("plan", input, null, DateTimeOffset.UtcNow, ct);
                     Console.WriteLine($"Demo plan for the night of {night:yyyy-MM-dd}: queued as job {job}; the service computes it when it starts.");
                 }

@@ -1,4 +1,5 @@
 using System.CommandLine;
+using Triage.Core.Planning;
 
 namespace Triage.Cli.Verbs;
 
@@ -16,4 +17,28 @@ internal static class NightInputOptions
 
     public static Option<string> Night() =>
         new("--night") { Description = "Local date of the evening the night starts, YYYY-MM-DD.", Required = true };
+
+    /// <summary>What the plan maximises; the default is the service's (<see cref="PlanDefaults.Objective"/>).</summary>
+    public static Option<string> Objective() =>
+        new("--objective")
+        {
+            Description = $"identification (sequential: posterior ≥ 0.9, with the value of escalating), accuracy (expected correct subtype of one spectrum) or information (bits); default {PlanDefaults.ObjectiveName}, as the service.",
+            DefaultValueFactory = _ => PlanDefaults.ObjectiveName,
+        };
+
+    /// <summary>The objective named by <paramref name="text"/> (case-insensitive); false when it names none.</summary>
+    public static bool TryObjective(string text, out PlanObjective objective)
+    {
+        foreach (var candidate in Enum.GetValues<PlanObjective>())
+        {
+            if (string.Equals(PlanDefaults.Name(candidate), text, StringComparison.OrdinalIgnoreCase))
+            {
+                objective = candidate;
+                return true;
+            }
+        }
+
+        objective = PlanDefaults.Objective;
+        return false;
+    }
 }

@@ -21,7 +21,7 @@ internal static class PlanVerb
         var candidates = NightInputOptions.Candidates();
         var calibration = NightInputOptions.Calibration();
         var night = NightInputOptions.Night();
-        var objective = new Option<string>("--objective") { Description = "accuracy (expected correct identifications), information (bits) or identification (sequential: posterior ≥ 0.9, with escalation).", DefaultValueFactory = _ => "accuracy" };
+        var objective = NightInputOptions.Objective();
         var timeLimit = new Option<double>("--time-limit") { Description = "Solver time limit in seconds (default 5).", DefaultValueFactory = _ => 5 };
         var from = new Option<DateTimeOffset?>("--from") { Description = "Plan nothing before this instant (UTC, ISO 8601); default the start of the night." };
         var output = new Option<FileInfo>("--out") { Description = "Where to write the plan JSON.", Required = true };
@@ -50,13 +50,9 @@ internal static class PlanVerb
             return Fail($"--night: '{nightText}' is not a date YYYY-MM-DD.");
         }
 
-        PlanObjective objective;
-        switch (objectiveText.ToLowerInvariant())
+        if (!NightInputOptions.TryObjective(objectiveText, out var objective))
         {
-            case "accuracy": objective = PlanObjective.Accuracy; break;
-            case "information": objective = PlanObjective.Information; break;
-            case "identification": objective = PlanObjective.Identification; break;
-            default: return Fail($"--objective: '{objectiveText}' is not 'accuracy', 'information' or 'identification'.");
+            return Fail($"--objective: '{objectiveText}' is not 'identification', 'accuracy' or 'information'.");
         }
 
         if (!(timeLimit > 0 && timeLimit <= 3600))

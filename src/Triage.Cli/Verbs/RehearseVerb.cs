@@ -27,13 +27,14 @@ internal static class RehearseVerb
         var arrivals = new Option<int>("--arrivals") { Description = "Candidates held back from the file and arriving per replan (default 2).", DefaultValueFactory = _ => 2 };
         var stability = new Option<double>("--stability") { Description = "Stability share σ: an assignment of the previous version is worth (1 + σ) × its value to the solver (default 0.1, as the service).", DefaultValueFactory = _ => new NightBuildSettings().StabilityShare };
         var maxChurn = new Option<double>("--max-churn") { Description = "Most share of the entries ahead a replan may change, beyond what closures force (default 0.1, as the service; 1: no limit).", DefaultValueFactory = _ => NightReplan.DefaultMaxChurnShare };
+        var objective = NightInputOptions.Objective();
         var seed = new Option<int>("--seed") { Description = "Seed of the simulated reports (default 1).", DefaultValueFactory = _ => 1 };
         var output = new Option<FileInfo?>("--out") { Description = "Optional: write the per-replan churn as JSON." };
         var command = new Command("rehearse", "Replan a night every N minutes with simulated reports and print the churn of each replan.")
-            { roster, candidates, calibration, night, every, lost, arrivals, stability, maxChurn, seed, output };
+            { roster, candidates, calibration, night, every, lost, arrivals, stability, maxChurn, objective, seed, output };
         command.SetAction((parse, cancellationToken) => Task.FromResult(Run(
             parse.GetValue(roster)!, parse.GetValue(candidates)!, parse.GetValue(calibration)!, parse.GetValue(night)!, parse.GetValue(every),
-            parse.GetValue(lost), parse.GetValue(arrivals), parse.GetValue(stability), parse.GetValue(maxChurn), parse.GetValue(seed), parse.GetValue(output), cancellationToken)));
+            parse.GetValue(lost), parse.GetValue(arrivals), parse.GetValue(stability), parse.GetValue(maxChurn), parse.GetValue(objective)!, parse.GetValue(seed), parse.GetValue(output), cancellationToken)));
         return command;
     }
 
@@ -53,7 +54,7 @@ internal static class RehearseVerb
     }
 
     private static int Run(FileInfo rosterFile, FileInfo candidatesFile, FileInfo calibrationFile, string nightText, double everyMinutes,
-        int lostPerStep, int arrivalsPerStep, double stability, double maxChurn, int seed, FileInfo? outFile, CancellationToken ct)
+        int lostPerStep, int arrivalsPerStep, double stability, double maxChurn, string objectiveText, int seed, FileInfo? outFile, CancellationToken ct)
     {
         if (!DateOnly.TryParseExact(nightText, "yyyy-MM-dd", CultureInfo.InvariantCulture, DateTimeStyles.None, out var night))
         {
@@ -64,6 +65,12 @@ internal static class RehearseVerb
         if (!(everyMinutes >= 5 && everyMinutes <= 600) || lostPerStep < 0 || arrivalsPerStep < 0 || !(stability is >= 0 and <= 1) || !(maxChurn is > 0 and <= 1))
         {
             Console.Error.WriteLine("--every must be in [5, 600] minutes; --lost and --arrivals ≥ 0; --stability in [0, 1]; --max-churn in (0, 1].");
+            return 2;
+        }
+
+        if (!NightInputOptions.TryObjective(objectiveText, out var objective))
+        {
+            Console.Error.WriteLine($"--objective: '{objectiveText}' is not 'identification', 'accuracy' or 'information'.");
             return 2;
         }
 
@@ -84,7 +91,7 @@ internal static class RehearseVerb
             var all = batch.Candidates.AsParallel().AsOrdered()
                 .Select(c => (ITargetForecast)new AssessedTargetForecast(CandidateAssessment.Assess(c, labelList), document.SnrReferenceWavelengthAngstrom))
                 .ToList();
-            var steps = Rehearse(sites, spectrographs, all, surface, night, TimeSpan.FromMinutes(everyMinutes), lostPerStep, arrivalsPerStep, seed, ct, stability, maxChurn);
+            var steps = Rehearse(sites, spectrographs, all, surface, night, TimeSpan.FromMinutes(everyMinutes), lostPerStep, arrivalsPerStep, seed, ct, stability, maxChurn, objective);
             var inv = CultureInfo.InvariantCulture;
             Console.WriteLine("from_utc              observed lost arrived assigned compared moved retimed added removed  churn  (of which news) reshuffle");
             foreach (var s in steps)
@@ -121,13 +128,14 @@ internal static class RehearseVerb
     /// <summary>The rehearsal itself (the first step is the initial plan, with no churn).</summary>
     public static IReadOnlyList<Step> Rehearse(
         IReadOnlyList<Site> sites, IReadOnlyList<Spectrograph> spectrographs, IReadOnlyList<ITargetForecast> all, AccuracySurface surface,
-        DateOnly night, TimeSpan every, int lostPerStep, int arrivalsPerStep, int seed, CancellationToken ct, double stability = 0.1, double maxChurn = NightReplan.DefaultMaxChurnShare)
+        DateOnly night, TimeSpan every, int lostPerStep, int arrivalsPerStep, int seed, CancellationToken ct, double stability = 0.1, double maxChurn = NightReplan.DefaultMaxChurnShare,
+        PlanObjective objective = PlanDefaults.Objective)
     {
         var random = new Random(seed);
         var heldBack = new Queue<ITargetForecast>(all.Skip(Math.Max(0, all.Count - 10 * arrivalsPerStep)));
         var waiting = all.Take(all.Count - heldBack.Count).ToDictionary(t => t.Id, StringComparer.Ordinal);
         var solver = new SolverSettings { Deterministic = true };
-        var first = NightProblemBuilder.Build(sites, spectrographs, waiting.Values.ToList(), surface, night, DateTimeOffset.MinValue);
+        var first = NightProblemBuilder.Build(sites, spectrographs, waiting.Values.ToList(), surface, night, DateTimeOffset.MinValue, new NightBuildSettings { Objective = objective });
         var from = first.Problem.EpochUtc;
         var end = first.Problem.Units.Count == 0 ? from : from.AddSeconds(first.Problem.Units.Max(u => u.Available.ToSeconds));
         var plan = NightPlanning.Plan(first, solver, ct);
@@ -155,6 +163,7 @@ internal static class RehearseVerb
             var targets = waiting.Values.Where(x => !split.KeptIds.Contains(x.Id)).ToList();
             var built = NightProblemBuilder.Build(sites, spectrographs, targets, surface, night, t, new NightBuildSettings
             {
+                Objective = objective,
                 BusyUntilUtc = split.BusyUntilUtc,
                 RemainingBudgetSeconds = NightReplan.RemainingBudget(plan, t, NightReplan.DefaultFreeze),
                 Previous = split.Anchors,

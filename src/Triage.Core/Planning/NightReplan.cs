@@ -103,6 +103,9 @@ public static class NightReplan
         return result;
     }
 
+    /// <summary>What the reason of an entry kept from the previous version starts with.</summary>
+    public const string KeptPrefix = "Executing or about to start when the night was replanned; kept as it was. ";
+
     /// <summary>The new plan with the kept entries put back in their queues (marked as kept).</summary>
     public static NightPlan WithKept(NightPlan plan, IReadOnlyList<UnitEntry> kept)
     {
@@ -114,7 +117,8 @@ public static class NightReplan
 
         var byUnit = kept.ToLookup(k => k.SpectrographId, k => k.Entry with
         {
-            Reason = "Executing or about to start when the night was replanned; kept as it was. " + k.Entry.Reason,
+            // Said once, however many replans have kept it.
+            Reason = k.Entry.Reason.StartsWith(KeptPrefix, StringComparison.Ordinal) ? k.Entry.Reason : KeptPrefix + k.Entry.Reason,
             KeptFromPrevious = true,
         }, StringComparer.OrdinalIgnoreCase);
         var queues = plan.Spectrographs

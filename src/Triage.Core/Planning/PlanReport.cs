@@ -156,6 +156,12 @@ public static class PlanReport
         var here = problem.Units[option.Unit];
         var text = string.Create(inv,
             $"A={level.ExpectedAccuracy:F2} at S/N {level.Snr:F0} per resolution element on {here.Name} (R={here.ResolvingPower:F0}) in {level.DurationSeconds / 60:F0} min, value {level.Value:F3}");
+        if (problem.Objective == PlanObjective.Identification)
+        {
+            // The value is not weight × A here: say what it counts, once.
+            text += " (expected correct identifications at the confidence threshold, a follow-up included)";
+        }
+
         if (level.Explanation is { } why)
         {
             text += "; " + why;
@@ -177,7 +183,11 @@ public static class PlanReport
         {
             var gain = runnerUp.Value - level.Value;
             var lambda = runnerUnit < outcome.MarginalValuePerHour.Count ? outcome.MarginalValuePerHour[runnerUnit] : null;
-            text += string.Create(inv, $"; {runnerUp.Name} would add {runnerUp.ExpectedAccuracy - level.ExpectedAccuracy:F2} accuracy (value +{gain:F3}) but needs {runnerUp.DurationSeconds / 60:F0} min of its time");
+            // Under the identification and information objectives more value need not mean more accuracy.
+            var moreAccuracy = runnerUp.ExpectedAccuracy - level.ExpectedAccuracy;
+            text += moreAccuracy >= 0.005
+                ? string.Create(inv, $"; {runnerUp.Name} would add {moreAccuracy:F2} accuracy (value +{gain:F3}) but needs {runnerUp.DurationSeconds / 60:F0} min of its time")
+                : string.Create(inv, $"; {runnerUp.Name} would be worth {gain:F3} more (A={runnerUp.ExpectedAccuracy:F2}) but needs {runnerUp.DurationSeconds / 60:F0} min of its time");
             text += lambda is { } l && l * runnerUp.DurationSeconds / 3600 > 1e-9
                 ? string.Create(inv, $", worth {l * runnerUp.DurationSeconds / 3600:F3} elsewhere tonight ({l:F3} per hour there)")
                 : ", and its time tonight is filled by observations that cannot move";

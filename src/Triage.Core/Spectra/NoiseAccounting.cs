@@ -55,7 +55,11 @@ public sealed record DegradedNoise(NoiseBudget Budget, double NativeElementNoise
     /// Noise for S/N level <paramref name="snrPerElement"/> (null: native): the noised flux, the realised S/N
     /// (null: infinite) and whether the level was reached (always true for native).
     /// </summary>
-    public NoisedSpectrum Apply(ReadOnlySpan<double> flux, double? snrPerElement, double pixelsPerElement, Random random)
+    public NoisedSpectrum Apply(ReadOnlySpan<double> flux, double? snrPerElement, double pixelsPerElement, Random random) =>
+        Apply(flux, snrPerElement, pixelsPerElement, random, new double[flux.Length]);
+
+    /// <summary>As above, writing the noised flux into <paramref name="destination"/> (as long as <paramref name="flux"/>), which the result's flux then is.</summary>
+    public NoisedSpectrum Apply(ReadOnlySpan<double> flux, double? snrPerElement, double pixelsPerElement, Random random, double[] destination)
     {
         double added;
         bool reached = true;
@@ -70,8 +74,10 @@ public sealed record DegradedNoise(NoiseBudget Budget, double NativeElementNoise
             double p = Budget.PresentElementNoise;
             added = Math.Sqrt(Math.Max(0, NativeElementNoise * NativeElementNoise - p * p));
         }
-        var noised = added > 0 ? SpectrumNoise.AddElementNoise(flux, added, pixelsPerElement, Shape, random) : flux.ToArray();
-        return new NoisedSpectrum(noised, RealisedSnr(added), reached, Budget.ReachableSnr);
+        ArgumentNullException.ThrowIfNull(destination);
+        if (added > 0) SpectrumNoise.AddElementNoise(flux, added, pixelsPerElement, Shape, random, destination);
+        else flux.CopyTo(destination);
+        return new NoisedSpectrum(destination, RealisedSnr(added), reached, Budget.ReachableSnr);
     }
 }
 

@@ -105,10 +105,18 @@ public static class Preprocessing
         double resolution, PreprocessOptions o)
     {
         o = o.At(resolution);
-        var (w, f) = Finite(wavelengthAngstrom, flux);
         int bins = BinCount(resolution, o);
         var grid = LogWavelengthGrid.WithCount(o.RestFromAngstrom, o.RestToAngstrom, bins);
-        var rest = FluxRebinning.ToGrid(w, f, grid, 1.0 / (1.0 + redshift));
+        double[] rest;
+        if (AllFinite(wavelengthAngstrom, flux))
+        {
+            rest = FluxRebinning.ToGrid(wavelengthAngstrom, flux, grid, 1.0 / (1.0 + redshift));
+        }
+        else
+        {
+            var (w, f) = Finite(wavelengthAngstrom, flux);
+            rest = FluxRebinning.ToGrid(w, f, grid, 1.0 / (1.0 + redshift));
+        }
         FillGaps(rest);
 
         double mean = rest.Average();
@@ -184,12 +192,23 @@ public static class Preprocessing
 
     internal static (double[] W, double[] F) Finite(ReadOnlySpan<double> w, ReadOnlySpan<double> f)
     {
-        var ww = new List<double>(w.Length);
-        var ff = new List<double>(w.Length);
+        int count = 0;
         for (int i = 0; i < w.Length; i++)
-            if (double.IsFinite(w[i]) && double.IsFinite(f[i])) { ww.Add(w[i]); ff.Add(f[i]); }
-        if (ww.Count < 2) throw new ArgumentException("The spectrum has fewer than two finite samples.", nameof(f));
-        return (ww.ToArray(), ff.ToArray());
+            if (double.IsFinite(w[i]) && double.IsFinite(f[i])) count++;
+        if (count < 2) throw new ArgumentException("The spectrum has fewer than two finite samples.", nameof(f));
+        var ww = new double[count];
+        var ff = new double[count];
+        for (int i = 0, j = 0; i < w.Length; i++)
+            if (double.IsFinite(w[i]) && double.IsFinite(f[i])) { ww[j] = w[i]; ff[j++] = f[i]; }
+        return (ww, ff);
+    }
+
+    private static bool AllFinite(ReadOnlySpan<double> w, ReadOnlySpan<double> f)
+    {
+        if (w.Length < 2) return false;
+        for (int i = 0; i < w.Length; i++)
+            if (!double.IsFinite(w[i]) || !double.IsFinite(f[i])) return false;
+        return true;
     }
 
     private static void FillGaps(double[] v)

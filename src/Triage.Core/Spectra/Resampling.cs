@@ -88,38 +88,49 @@ public static class FluxRebinning
     /// wavelength by <paramref name="wavelengthScale"/> (1/(1+z) moves to the rest frame).
     /// Bins not fully inside the sampled range are NaN.
     /// </summary>
-    public static double[] ToGrid(double[] wavelengthAngstrom, double[] flux, LogWavelengthGrid grid,
+    public static double[] ToGrid(ReadOnlySpan<double> wavelengthAngstrom, ReadOnlySpan<double> flux, LogWavelengthGrid grid,
         double wavelengthScale = 1.0)
     {
         int n = wavelengthAngstrom.Length;
-        var cum = new double[n];
-        for (int i = 1; i < n; i++)
-            cum[i] = cum[i - 1] + 0.5 * (flux[i] + flux[i - 1]) * (wavelengthAngstrom[i] - wavelengthAngstrom[i - 1]) * wavelengthScale;
         var result = new double[grid.Count];
         var edges = grid.Edges();
         double lo = wavelengthAngstrom[0] * wavelengthScale, hi = wavelengthAngstrom[n - 1] * wavelengthScale;
-        int seg = 0;
+        // The integral of the interpolant up to sample s is summed as s moves forward (edges increase), term by term
+        // in the order a table of all n running sums would hold, without the table.
+        var at = new Segment();
         double prevEdge = edges[0];
-        double prevC = prevEdge >= lo && prevEdge <= hi ? Cumulative(prevEdge, ref seg) : double.NaN;
+        double prevC = prevEdge >= lo && prevEdge <= hi ? Cumulative(wavelengthAngstrom, flux, wavelengthScale, prevEdge, ref at) : double.NaN;
         for (int k = 0; k < grid.Count; k++)
         {
             double edge = edges[k + 1];
-            double c = edge >= lo && edge <= hi ? Cumulative(edge, ref seg) : double.NaN;
+            double c = edge >= lo && edge <= hi ? Cumulative(wavelengthAngstrom, flux, wavelengthScale, edge, ref at) : double.NaN;
             result[k] = (c - prevC) / (edge - prevEdge); // NaN propagates for bins outside coverage
             prevEdge = edge;
             prevC = c;
         }
         return result;
+    }
 
-        // Integral from lo to x of the linear interpolant; seg only moves forward (edges increase).
-        double Cumulative(double x, ref int s)
+    /// <summary>A sample index and the integral of the interpolant from the first sample up to it.</summary>
+    private struct Segment
+    {
+        public int Index;
+        public double IntegralToIndex;
+    }
+
+    // Integral from the first sample to x of the linear interpolant; the segment only moves forward.
+    private static double Cumulative(ReadOnlySpan<double> w, ReadOnlySpan<double> f, double scale, double x, ref Segment s)
+    {
+        int n = w.Length;
+        while (s.Index < n - 2 && w[s.Index + 1] * scale < x)
         {
-            while (s < n - 2 && wavelengthAngstrom[s + 1] * wavelengthScale < x) s++;
-            double x0 = wavelengthAngstrom[s] * wavelengthScale, x1 = wavelengthAngstrom[s + 1] * wavelengthScale;
-            double t = x - x0;
-            double slope = (flux[s + 1] - flux[s]) / (x1 - x0);
-            return cum[s] + flux[s] * t + 0.5 * slope * t * t;
+            s.Index++;
+            s.IntegralToIndex += 0.5 * (f[s.Index] + f[s.Index - 1]) * (w[s.Index] - w[s.Index - 1]) * scale;
         }
+        double x0 = w[s.Index] * scale, x1 = w[s.Index + 1] * scale;
+        double t = x - x0;
+        double slope = (f[s.Index + 1] - f[s.Index]) / (x1 - x0);
+        return s.IntegralToIndex + f[s.Index] * t + 0.5 * slope * t * t;
     }
 
     /// <summary>

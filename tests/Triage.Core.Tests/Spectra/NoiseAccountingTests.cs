@@ -110,6 +110,24 @@ public class NoiseAccountingTests
         }
     }
 
+    [Fact]
+    public void Apply_IntoAReusedBuffer_GivesTheSameNoisedFluxAsANewArray()
+    {
+        var (noisy, _) = Twins(1).First();
+        var (grid, flux) = Degradation.Degrade(noisy.Spectrum, 500, noisy.SourceResolution);
+        var account = DegradedNoise.Account(noisy, grid, flux, 500);
+        var buffer = new double[flux.Length];
+        foreach (double? snr in new double?[] { 5, 2, null })
+        {
+            var fresh = account.Apply(flux, snr, 2, new Random(17));
+            var reused = account.Apply(flux, snr, 2, new Random(17), buffer);
+            Assert.Same(buffer, reused.Flux);
+            Assert.Equal(fresh.Flux, reused.Flux);
+            Assert.Equal((fresh.RealisedSnr, fresh.Reached), (reused.RealisedSnr, reused.Reached));
+        }
+        Assert.Throws<ArgumentException>(() => account.Apply(flux, 5, 2, new Random(1), new double[flux.Length - 1]));
+    }
+
     [Theory]
     // With nothing added, the measured S/N of the degraded noisy spectrum is the reachable S/N. One realisation of the
     // library's noise per spectrum over 100–300 elements (4–7 % sampling error) and a level that is a median over
