@@ -30,7 +30,7 @@ namespace Triage.Core.Identification;
 /// <param name="Direct">D: expected correct identifications made by this spectrum alone, 0…1.</param>
 /// <param name="Escalation">E: expected correct identifications its unsettled answers add to a follow-up spectrum, over the follow-up without them, −1…1.</param>
 /// <param name="UnsettledProbability">Probability this spectrum leaves the candidate below τ.</param>
-/// <param name="LikelyUnsettledAnswer">Index of the commonest answer that leaves it unsettled (−1: none).</param>
+/// <param name="LikelyUnsettledAnswer">Index of the unsettled answer whose follow-up adds most, m(j)·(D(p(·|j), F) − D(p, F)) (−1: none adds anything).</param>
 /// <param name="LikelyUnsettledAnswerProbability">m(j) of that answer.</param>
 /// <param name="FollowUpIdentifies">Probability that the follow-up identifies the subtype after that answer.</param>
 /// <param name="FollowUpCorrect">Expected correct identification of the follow-up after that answer.</param>
@@ -86,7 +86,7 @@ public static class SequentialValuation
         Span<double> posterior = k <= 64 ? stackalloc double[k] : new double[k];
         double direct = 0, escalation = 0, unsettled = 0;
         int likely = -1;
-        double likelyM = 0, likelyIdentifies = 0, likelyCorrect = 0;
+        double likelyM = 0, likelyGain = 0, likelyIdentifies = 0, likelyCorrect = 0;
         var q = Math.Clamp(capacityShare, 0, 1);
         var withoutAnswer = followUp.Length == 0 ? 0 : Direct(normalised, followUp, confidence).Correct;
         for (var j = 0; j < k; j++)
@@ -111,10 +111,13 @@ public static class SequentialValuation
             }
 
             var (correct, identifies) = Direct(posterior, followUp, confidence);
-            escalation += q * m * (correct - withoutAnswer);
-            if (m > likelyM)
+            var gain = m * (correct - withoutAnswer);
+            escalation += q * gain;
+            // The explanation names the answer the follow-up helps most, not merely the commonest one
+            // (which may be an answer after which the follow-up settles nothing).
+            if (gain > likelyGain)
             {
-                (likely, likelyM, likelyIdentifies, likelyCorrect) = (j, m, identifies, correct);
+                (likely, likelyM, likelyGain, likelyIdentifies, likelyCorrect) = (j, m, gain, identifies, correct);
             }
         }
 
@@ -161,7 +164,7 @@ public static class SequentialValuation
     /// <summary>
     /// The plain-words explanation of a value with a positive escalation part, e.g. "cheap spectrum first:
     /// if it reports Ia (45 % likely), an R=4000 spectrum then identifies the subtype with
-    /// probability 0.71 (0.69 expected correct)"; null when escalation adds nothing.
+    /// probability 0.71 (0.69 expected correct)"; null when escalation adds nothing at the two decimals shown (E &lt; 0.005).
     /// </summary>
     /// <param name="value">The value.</param>
     /// <param name="subtypes">Subtype labels in the channel's order.</param>
@@ -169,7 +172,8 @@ public static class SequentialValuation
     public static string? Explain(SequentialValue value, IReadOnlyList<string> subtypes, double followUpResolvingPower)
     {
         ArgumentNullException.ThrowIfNull(subtypes);
-        if (value.Escalation <= 0 || value.LikelyUnsettledAnswer < 0)
+        // "+ 0.00 more from the follow-up" would advertise a cheap spectrum first for nothing.
+        if (value.Escalation < 0.005 || value.LikelyUnsettledAnswer < 0)
         {
             return null;
         }

@@ -522,6 +522,7 @@ public static class NightProblemBuilder
             Anchors = anchors,
             StabilityShare = settings.StabilityShare,
             ChurnBudget = anchors.Length == 0 ? null : settings.ChurnBudget,
+            IdentificationConfidence = settings.Sequential.Confidence,
         };
         return new PlanningNight(problem, nights, unitRoster.ToArray(), targets.ToArray(), notes, closedSpans.ToArray());
     }

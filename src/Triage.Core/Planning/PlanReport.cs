@@ -159,7 +159,7 @@ public static class PlanReport
         if (problem.Objective == PlanObjective.Identification)
         {
             // The value is not weight × A here: say what it counts, once.
-            text += " (expected correct identifications at the confidence threshold, a follow-up included)";
+            text += string.Create(inv, $" (expected correct identifications at posterior ≥ {problem.IdentificationConfidence:0.##}, a follow-up included)");
         }
 
         if (level.Explanation is { } why)

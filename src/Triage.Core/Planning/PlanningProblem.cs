@@ -164,6 +164,9 @@ public sealed record PlanningProblem(
     /// </summary>
     public int? ChurnBudget { get; init; }
 
+    /// <summary>Posterior probability τ at which a candidate counts as identified (objective identification; for the explanations), 0…1. Default 0.9.</summary>
+    public double IdentificationConfidence { get; init; } = Identification.PosteriorUpdate.DefaultConfidence;
+
     /// <summary>Cost of keeping <paramref name="unit"/> busy for <paramref name="seconds"/>.</summary>
     public double Cost(int unit, double seconds) => Units[unit].CostPerHour * seconds / 3600.0;
 

@@ -77,22 +77,29 @@ public sealed class NightScenario
         return scenario;
     }
 
-    /// <summary>A planned observation with a reason naming the candidate, so a test can tell reasons apart.</summary>
+    /// <summary>
+    /// A planned observation with a reason naming the candidate, so a test can tell reasons apart, worded as an
+    /// identification plan (the default objective) words it.
+    /// </summary>
     public static QueueEntry Entry(string id, DateTimeOffset start, double mag) => new(
-        id, start, start.AddMinutes(30), 1500, 1.25, mag, 22, 0.72, 0.6, 0.72, $"Reason for {id}: the highest expected accuracy per hour here", [], null, 0);
+        id, start, start.AddMinutes(30), 1500, 1.25, mag, 22, 0.72, 0.6, 0.72,
+        $"Reason for {id}: A=0.72 at S/N 22 per resolution element, value 0.720 (expected correct identifications at posterior ≥ 0.9, a follow-up included); {CheapFirst}", [], null, 0);
+
+    /// <summary>The escalation clause of <see cref="Entry"/>'s reason.</summary>
+    public const string CheapFirst = "cheap spectrum first: if it reports Ia (45 % likely), an R=4200 spectrum then identifies the subtype with probability 0.71 (0.69 expected correct); 0.30 identified now + 0.12 more from the follow-up than without this spectrum";
 
     /// <summary>Stores a new plan version with one queue per spectrograph of the scenario.</summary>
     public async Task StorePlanAsync(NightViewHost host, params QueueEntry[][] queues)
     {
         var plan = new NightPlan(
             NightPlan.AdvisoryStatement,
-            PlanObjective.Accuracy,
+            PlanObjective.Identification,
             queues.Select((q, i) => new SpectrographQueue(SpectrographIds[i], SpectrographNames[i], "Test Mesa", i == 0 ? 90 : 4200, 8 * 3600, q.Length * 1800, 10, 0.1, q)).ToList(),
             [],
             new PlanSummary(4, queues.Sum(q => q.Length), queues.Sum(q => q.Sum(e => e.ExpectedAccuracy)), 1, 1, 1.1, 0.05, PlanStatus.Feasible, 20, 10, 8),
             []) { Night = Night };
         await host.Services.GetRequiredService<PlanStore>().AddVersionAsync(new NewPlanVersion(
-            Night, Evening.AddHours(-1), "accuracy", plan.Summary.Status.ToString(), plan.Summary.ExpectedCorrectIdentifications,
+            Night, Evening.AddHours(-1), "identification", plan.Summary.Status.ToString(), plan.Summary.ExpectedCorrectIdentifications,
             plan.Summary.Assigned, null, null, PlanJson.Serialize(plan)), DateTimeOffset.UtcNow);
     }
 

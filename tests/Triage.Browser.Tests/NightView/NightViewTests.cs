@@ -33,6 +33,7 @@ public sealed class NightViewTests(NightViewHost host)
         Assert.Equal("lost", await view.Page.GetAttributeAsync($".block[data-candidate=\"{s.CandidateIds[1]}\"]", "data-state"));
         Assert.Equal("pending", await view.Page.GetAttributeAsync($".block[data-candidate=\"{s.CandidateIds[2]}\"]", "data-state"));
         Assert.Contains("advisory", await view.Page.InnerTextAsync(".advisory"), StringComparison.OrdinalIgnoreCase);
+        Assert.Contains("objective identification", await view.Page.InnerTextAsync(".meta"), StringComparison.Ordinal);
         await view.ScreenshotAsync("tonight");
 
         // A marker on the window survives only if the page is not reloaded.
@@ -60,6 +61,8 @@ public sealed class NightViewTests(NightViewHost host)
         await view.Page.Keyboard.PressAsync("Enter");
         var panel = await view.Page.InnerTextAsync(".block-detail");
         Assert.Contains($"Reason for {s.CandidateIds[2]}", panel, StringComparison.Ordinal);
+        // An identification plan's reason is long: the panel shows it whole, escalation clause included.
+        Assert.Contains(NightScenario.CheapFirst, panel, StringComparison.Ordinal);
         Assert.Contains("19.10 AB", panel, StringComparison.Ordinal);
         Assert.Contains("UTC", panel, StringComparison.Ordinal);
         Assert.Contains("local", panel, StringComparison.Ordinal);

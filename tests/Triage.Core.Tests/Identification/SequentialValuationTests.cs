@@ -123,4 +123,39 @@ public class SequentialValuationTests
 
         Assert.Equal("cheap spectrum first: if it reports Ia (63 % likely), an R=4000 spectrum then identifies the subtype with probability 0.75 (0.71 expected correct); 0.00 identified now + 0.31 more from the follow-up than without this spectrum", text);
     }
+
+    [Fact]
+    public void Explain_NamesTheAnswerTheFollowUpHelpsMost_NotTheCommonestUnsettledOne()
+    {
+        // Prior [0.25, 0.7, 0.05], τ = 0.9, q = 0.5, F = C. m(Ia) = 0.2 + 0.35 + 0.005 = 0.555, m(91T) = 0.04 + 0.35 = 0.39,
+        // m(II) = 0.01 + 0.045 = 0.055; every posterior stays below τ (0.631, 0.897, 0.818), so D = 0 and D(p, F) = 0.
+        // After Ia, p₁ ∝ [0.2, 0.35, 0.005]: no second answer reaches τ (0.52, 0.845, 0.64) → it adds 0.
+        // After 91T, p₂ ∝ [0.04, 0.35, 0]: a second 91T gives 0.175/0.1814 = 0.965, a second II gives p(Ia) = 1 →
+        // m·D(p₂, F) = 0.175 + 0.0016 = 0.1766, identifies with (0.1814 + 0.0016)/0.39 = 0.4692.
+        // After II, p₃ ∝ [0.01, 0, 0.045]: 91T gives p(Ia) = 1 (0.0016), II gives 0.0405/0.0409 (0.0405) → 0.0421.
+        // E = 0.5·(0.1766 + 0.0421) = 0.10935. The commonest unsettled answer (Ia) adds nothing; 91T adds most.
+        double[] prior = [0.25, 0.7, 0.05];
+
+        var v = SequentialValuation.Evaluate(prior, Channel, Channel, 0.5, 0.9);
+        var text = SequentialValuation.Explain(v, ["Ia", "Ia-91T-like", "II"], 4000);
+
+        Assert.Equal(0.10935, v.Escalation, 12);
+        Assert.Equal(1, v.LikelyUnsettledAnswer);
+        Assert.Equal(0.183 / 0.39, v.FollowUpIdentifies, 12);
+        Assert.Equal("cheap spectrum first: if it reports Ia-91T-like (39 % likely), an R=4000 spectrum then identifies the subtype with probability 0.47 (0.45 expected correct); 0.00 identified now + 0.11 more from the follow-up than without this spectrum", text);
+    }
+
+    [Fact]
+    public void Explain_EscalationBelowTheShownDecimals_SaysNothing()
+    {
+        // The hand case above with q = 0.01: E = 0.01 · 0.61896 = 0.0061896 is shown ("0.01 more"); with q = 0.005,
+        // E = 0.0030948 would read "+ 0.00 more from the follow-up", so no escalation sentence.
+        var shown = SequentialValuation.Evaluate(Prior, Channel, Channel, 0.01, 0.9);
+        var hidden = SequentialValuation.Evaluate(Prior, Channel, Channel, 0.005, 0.9);
+
+        Assert.Equal(0.0061896, shown.Escalation, 12);
+        Assert.EndsWith("0.00 identified now + 0.01 more from the follow-up than without this spectrum", SequentialValuation.Explain(shown, ["Ia", "Ia-91T-like", "II"], 4000));
+        Assert.Equal(0.0030948, hidden.Escalation, 12);
+        Assert.Null(SequentialValuation.Explain(hidden, ["Ia", "Ia-91T-like", "II"], 4000));
+    }
 }

@@ -34,7 +34,7 @@ public class PlanExplanationTests
         Assert.DoesNotContain("would add -", reason, StringComparison.Ordinal);
         // 0.70 − 0.50 = 0.200 more value; its 30 min at 0.4 per hour are worth 0.200 elsewhere.
         Assert.Contains("Sharp-4000 would be worth 0.200 more (A=0.50) but needs 30 min of its time, worth 0.200 elsewhere tonight", reason, StringComparison.Ordinal);
-        Assert.Contains("value 0.500 (expected correct identifications", reason, StringComparison.Ordinal);
+        Assert.Contains("value 0.500 (expected correct identifications at posterior ≥ 0.9, a follow-up included)", reason, StringComparison.Ordinal);
     }
 
     [Fact]
