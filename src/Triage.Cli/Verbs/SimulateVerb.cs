@@ -30,7 +30,7 @@ internal static class SimulateVerb
         var maxPool = new Option<int>("--max-pool") { Description = "Most candidates planned per night, chosen like the service's bounded pool (default 600).", DefaultValueFactory = _ => new SeasonSettings().MaxPoolCandidates };
         var clear = new Option<double>("--clear-fraction") { Description = "Probability a site is clear on a night (default 0.7).", DefaultValueFactory = _ => 0.7 };
         var costCap = new Option<double?>("--network-cost-cap") { Description = "Most the whole network may spend a night, in the roster's cost units (cost per hour × hours): one programme budget shared by the units (default: none)." };
-        var reliability = new Option<bool>("--unit-reliability") { Description = "Outcome learning also estimates one share of uniform guesses per unit from all its trials and applies it to every row (docs/sequential-triage.md §4)." };
+        var reliability = new Option<bool>("--no-unit-reliability") { Description = "Outcome learning by per-row counts only, without the share of uniform guesses estimated per unit from all its trials (docs/sequential-triage.md §4)." };
         var noLearning = new Option<bool>("--no-learning") { Description = "Plan with the calibration only (no outcome learning)." };
         var strategies = new Option<string?>("--strategies") { Description = "Comma-separated strategy names (default: the five compared; triage-sequential-accuracy-objective on request)." };
         var whatIf = new Option<FileInfo?>("--what-if-roster") { Description = "A changed roster: run the same seeds with it and report the difference." };
@@ -52,7 +52,7 @@ internal static class SimulateVerb
                     Nights = parse.GetValue(nights) is var n and >= 1 and <= 366 ? n : throw new FormatException("--nights: 1 to 366."),
                     ClearFraction = parse.GetValue(clear) is var c and >= 0 and <= 1 ? c : throw new FormatException("--clear-fraction: 0 to 1."),
                     LearnUnitAccuracy = !parse.GetValue(noLearning),
-                    Outcomes = new UnitOutcomeSettings { UnitReliability = parse.GetValue(reliability) },
+                    Outcomes = new UnitOutcomeSettings { UnitReliability = !parse.GetValue(reliability) },
                     NetworkCostCap = parse.GetValue(costCap) is { } cap
                         ? cap is >= 0 and <= 1e9 ? cap : throw new FormatException("--network-cost-cap: 0 to 1e9.")
                         : null,

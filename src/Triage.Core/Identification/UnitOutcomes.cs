@@ -7,7 +7,7 @@
 //   E = Σᵢ C(kᵢ|kᵢ),  V = Σᵢ C(kᵢ|kᵢ)(1 − C(kᵢ|kᵢ)),  z = (x − E)/√V,
 // flagged when n ≥ n_min and z < −z₀ (one-sided; the normal approximation to the Poisson-binomial
 // sum [2]); the measured recall x/n carries a Wilson 95 % interval [3], the modelled one E/n.
-// Optional unit-wide reliability (shares strength across rows [1, ch. 5]): the unit answers from the
+// Unit-wide reliability (shares strength across rows [1, ch. 5]; can be turned off): the unit answers from the
 // calibration's channel with probability 1 − d and guesses uniformly otherwise, C_u = (1 − d) C + d/K, with d̂ the
 // maximum of the concave log-likelihood Σᵢ ln((1 − d) C(aᵢ|kᵢ) + d/K) over all the unit's trials (n ≥ n_min,
 // else 0); the per-row counts above then move the rows of C_u instead of C. Without it a row the unit has no
@@ -34,9 +34,11 @@ public sealed record UnitOutcomeSettings
 
     /// <summary>
     /// Also learn one reliability per unit from all its trials (the share d̂ of uniform guesses mixed into the
-    /// calibration's channel, by maximum likelihood) and apply it to every row before the per-row counts. Default false.
+    /// calibration's channel, by maximum likelihood) and apply it to every row before the per-row counts. Default true:
+    /// on the demo season it changes nothing for units as good as modelled (d̂ = 0 for every unit, the season table
+    /// identical) and lets a unit found to answer at random lose its value (docs/sequential-triage.md §5).
     /// </summary>
-    public bool UnitReliability { get; init; }
+    public bool UnitReliability { get; init; } = true;
 
     /// <summary>Trials a unit needs before it can be flagged (and before its reliability is estimated). Default 10.</summary>
     public int MinimumTrials { get; init; } = 10;
@@ -139,7 +141,7 @@ public sealed class UnitOutcomes : IUnitChannels
 
     /// <summary>
     /// d̂ of the unit: the share of uniform guesses in its answers that makes its trials most likely (0 with fewer than
-    /// the minimum trials or without <see cref="UnitOutcomeSettings.UnitReliability"/>). In [0, 1].
+    /// the minimum trials or with <see cref="UnitOutcomeSettings.UnitReliability"/> off). In [0, 1].
     /// </summary>
     public double GuessShare(string unitId)
     {

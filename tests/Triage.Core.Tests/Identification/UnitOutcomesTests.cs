@@ -18,7 +18,7 @@ public class UnitOutcomesTests
     public void Fill_CombinesCalibrationRowAndCounts()
     {
         var surface = PosteriorUpdateTests.Surface();
-        var outcomes = new UnitOutcomes(surface, new UnitOutcomeSettings { PriorStrength = 20 });
+        var outcomes = new UnitOutcomes(surface, new UnitOutcomeSettings { PriorStrength = 20, UnitReliability = false });
         for (var i = 0; i < 10; i++)
         {
             outcomes.Add(Trial(0, 1)); // ten Ia answered Ia-91T-like
@@ -82,8 +82,8 @@ public class UnitOutcomesTests
         Assert.Equal((20 * mixedIa[2] + 20) / 60, channel[2], 9);
         // A row without trials is mixed too (model 0.5 on the diagonal of row 1).
         Assert.Equal((1 - d) * 0.5 + d / 3, channel[4], 9);
-        // Without the setting the same trials leave rows without trials at the calibration.
-        var plain = new UnitOutcomes(surface, new UnitOutcomeSettings { PriorStrength = 20 });
+        // With the setting off the same trials leave rows without trials at the calibration.
+        var plain = new UnitOutcomes(surface, new UnitOutcomeSettings { PriorStrength = 20, UnitReliability = false });
         for (var i = 0; i < 40; i++)
         {
             plain.Add(Trial(0, i < 20 ? 0 : 2));
