@@ -2,6 +2,7 @@ using System.CommandLine;
 using System.Globalization;
 using System.Text.Json;
 using Spectre.Console;
+using Triage.Core.Identification;
 using Triage.Core.Planning;
 using Triage.Core.Roster;
 using Triage.Core.Season;
@@ -28,13 +29,15 @@ internal static class SimulateVerb
         var peaks = new Option<double>("--peaks-per-day") { Description = "Transients peaking brighter than the survey limit per day (default 81: a volumetric estimate, docs/sequential-triage.md).", DefaultValueFactory = _ => new SkySettings().PeaksPerDay };
         var maxPool = new Option<int>("--max-pool") { Description = "Most candidates planned per night, chosen like the service's bounded pool (default 600).", DefaultValueFactory = _ => new SeasonSettings().MaxPoolCandidates };
         var clear = new Option<double>("--clear-fraction") { Description = "Probability a site is clear on a night (default 0.7).", DefaultValueFactory = _ => 0.7 };
+        var costCap = new Option<double?>("--network-cost-cap") { Description = "Most the whole network may spend a night, in the roster's cost units (cost per hour × hours): one programme budget shared by the units (default: none)." };
+        var reliability = new Option<bool>("--no-unit-reliability") { Description = "Outcome learning by per-row counts only, without the share of uniform guesses estimated per unit from all its trials (docs/sequential-triage.md §4)." };
         var noLearning = new Option<bool>("--no-learning") { Description = "Plan with the calibration only (no outcome learning)." };
         var strategies = new Option<string?>("--strategies") { Description = "Comma-separated strategy names (default: the five compared; triage-sequential-accuracy-objective on request)." };
         var whatIf = new Option<FileInfo?>("--what-if-roster") { Description = "A changed roster: run the same seeds with it and report the difference." };
         var plots = new Option<DirectoryInfo?>("--plots") { Description = "Folder for SVG plots of the first seed." };
         var output = new Option<FileInfo>("--out") { Description = "Season JSON to write.", Required = true };
         var cmd = new Command("simulate", "Simulate a season of the roster for Triage (with and without escalation) and the rule baselines.")
-            { roster, calibration, truth, degrade, nights, seed, seeds, peaks, maxPool, clear, noLearning, strategies, whatIf, plots, output };
+            { roster, calibration, truth, degrade, nights, seed, seeds, peaks, maxPool, clear, costCap, reliability, noLearning, strategies, whatIf, plots, output };
         cmd.SetAction((parse, ct) =>
         {
             try
@@ -49,6 +52,10 @@ internal static class SimulateVerb
                     Nights = parse.GetValue(nights) is var n and >= 1 and <= 366 ? n : throw new FormatException("--nights: 1 to 366."),
                     ClearFraction = parse.GetValue(clear) is var c and >= 0 and <= 1 ? c : throw new FormatException("--clear-fraction: 0 to 1."),
                     LearnUnitAccuracy = !parse.GetValue(noLearning),
+                    Outcomes = new UnitOutcomeSettings { UnitReliability = !parse.GetValue(reliability) },
+                    NetworkCostCap = parse.GetValue(costCap) is { } cap
+                        ? cap is >= 0 and <= 1e9 ? cap : throw new FormatException("--network-cost-cap: 0 to 1e9.")
+                        : null,
                     Sky = new SkySettings { PeaksPerDay = parse.GetValue(peaks) is var pd and > 0 and <= 1000 ? pd : throw new FormatException("--peaks-per-day: above 0, at most 1000.") },
                     MaxPoolCandidates = parse.GetValue(maxPool) is var mp and >= 1 and <= 100_000 ? mp : throw new FormatException("--max-pool: 1 to 100000."),
                     TruthDegradation = Degradation(parse.GetValue(degrade), units),

@@ -7,6 +7,12 @@
 //   E = Σᵢ C(kᵢ|kᵢ),  V = Σᵢ C(kᵢ|kᵢ)(1 − C(kᵢ|kᵢ)),  z = (x − E)/√V,
 // flagged when n ≥ n_min and z < −z₀ (one-sided; the normal approximation to the Poisson-binomial
 // sum [2]); the measured recall x/n carries a Wilson 95 % interval [3], the modelled one E/n.
+// Unit-wide reliability (shares strength across rows [1, ch. 5]; can be turned off): the unit answers from the
+// calibration's channel with probability 1 − d and guesses uniformly otherwise, C_u = (1 − d) C + d/K, with d̂ the
+// maximum of the concave log-likelihood Σᵢ ln((1 − d) C(aᵢ|kᵢ) + d/K) over all the unit's trials (n ≥ n_min,
+// else 0); the per-row counts above then move the rows of C_u instead of C. Without it a row the unit has no
+// trials for keeps the calibration's values, so a unit found to answer at random still looks informative
+// through the rows of the subtypes it has rarely been tested on.
 //
 // References
 // [1] A. Gelman et al., Bayesian Data Analysis, 3rd ed., CRC 2013, §3.4 (multinomial with Dirichlet prior).
@@ -26,7 +32,15 @@ public sealed record UnitOutcomeSettings
     /// <summary>Upper edges of the S/N bands (per resolution element); the last band is open. Default 7, 14, 28 (around the calibration's 5, 10, 20).</summary>
     public IReadOnlyList<double> SnrBandEdges { get; init; } = [7, 14, 28];
 
-    /// <summary>Trials a unit needs before it can be flagged. Default 10.</summary>
+    /// <summary>
+    /// Also learn one reliability per unit from all its trials (the share d̂ of uniform guesses mixed into the
+    /// calibration's channel, by maximum likelihood) and apply it to every row before the per-row counts. Default true:
+    /// on the demo season it changes nothing for units as good as modelled (d̂ = 0 for every unit, the season table
+    /// identical) and lets a unit found to answer at random lose its value (docs/sequential-triage.md §5).
+    /// </summary>
+    public bool UnitReliability { get; init; } = true;
+
+    /// <summary>Trials a unit needs before it can be flagged (and before its reliability is estimated). Default 10.</summary>
     public int MinimumTrials { get; init; } = 10;
 
     /// <summary>z₀ of the one-sided test. Default 2.326 (1 %).</summary>
@@ -59,6 +73,8 @@ public sealed class UnitOutcomes : IUnitChannels
     private readonly UnitOutcomeSettings _settings;
     private readonly Dictionary<(string Unit, int Band, int Bin), double[]> _counts = [];
     private readonly Dictionary<string, (int N, int X, double E, double V)> _score = new(StringComparer.Ordinal);
+    private readonly Dictionary<string, List<double>> _answerProbability = new(StringComparer.Ordinal);
+    private readonly Dictionary<string, double> _guessShare = new(StringComparer.Ordinal);
 
     /// <summary>Starts with no outcomes.</summary>
     public UnitOutcomes(AccuracySurface surface, UnitOutcomeSettings? settings = null)
@@ -112,15 +128,102 @@ public sealed class UnitOutcomes : IUnitChannels
         var p = model[trial.TrueSubtype * k + trial.TrueSubtype];
         var s = _score.GetValueOrDefault(trial.UnitId);
         _score[trial.UnitId] = (s.N + 1, s.X + (trial.Answer == trial.TrueSubtype ? 1 : 0), s.E + p, s.V + p * (1 - p));
+        if (!_answerProbability.TryGetValue(trial.UnitId, out var answers))
+        {
+            answers = [];
+            _answerProbability[trial.UnitId] = answers;
+        }
+
+        answers.Add(model[trial.TrueSubtype * k + trial.Answer]);
+        _guessShare.Remove(trial.UnitId);
         TrialCount++;
     }
 
+    /// <summary>
+    /// d̂ of the unit: the share of uniform guesses in its answers that makes its trials most likely (0 with fewer than
+    /// the minimum trials or with <see cref="UnitOutcomeSettings.UnitReliability"/> off). In [0, 1].
+    /// </summary>
+    public double GuessShare(string unitId)
+    {
+        if (!_settings.UnitReliability || !_answerProbability.TryGetValue(unitId, out var answers) || answers.Count < _settings.MinimumTrials)
+        {
+            return 0;
+        }
+
+        if (!_guessShare.TryGetValue(unitId, out var d))
+        {
+            d = MaximumLikelihoodGuessShare(answers, 1.0 / _surface.SubtypeCount);
+            _guessShare[unitId] = d;
+        }
+
+        return d;
+    }
+
+    /// <summary>
+    /// argmax over d in [0, 1] of Σᵢ ln((1 − d) pᵢ + d u): the log-likelihood is concave in d, so its derivative
+    /// Σᵢ (u − pᵢ)/((1 − d) pᵢ + d u) falls with d and the maximum is 0, 1 or the derivative's root (bisection).
+    /// </summary>
+    /// <param name="answerProbabilities">pᵢ = C(aᵢ|kᵢ), the model's probability of each trial's answer given its subtype.</param>
+    /// <param name="uniform">u = 1/K.</param>
+    public static double MaximumLikelihoodGuessShare(IReadOnlyList<double> answerProbabilities, double uniform)
+    {
+        ArgumentNullException.ThrowIfNull(answerProbabilities);
+        double Slope(double d)
+        {
+            var sum = 0.0;
+            foreach (var p in answerProbabilities)
+            {
+                sum += (uniform - p) / ((1 - d) * p + d * uniform);
+            }
+
+            return sum;
+        }
+
+        if (answerProbabilities.Count == 0 || !(Slope(0) > 0))
+        {
+            return 0;
+        }
+
+        if (Slope(1) >= 0)
+        {
+            return 1;
+        }
+
+        double low = 0, high = 1;
+        for (var i = 0; i < 60; i++)
+        {
+            var mid = (low + high) / 2;
+            if (Slope(mid) > 0)
+            {
+                low = mid;
+            }
+            else
+            {
+                high = mid;
+            }
+        }
+
+        return (low + high) / 2;
+    }
+
     /// <inheritdoc/>
-    /// <remarks>The calibration's channel, with each row moved towards the unit's counts in the same S/N band and phase bin.</remarks>
+    /// <remarks>
+    /// The calibration's channel (mixed with the unit's share of uniform guesses when <see cref="UnitOutcomeSettings.UnitReliability"/>
+    /// is on), with each row moved towards the unit's counts in the same S/N band and phase bin.
+    /// </remarks>
     public bool Fill(string unitId, ResolutionSlice slice, double snr, PhaseBelief phase, Span<double> channel)
     {
         ArgumentNullException.ThrowIfNull(slice);
         var clamped = slice.FillChannel(snr, phase, channel);
+        if (GuessShare(unitId) is var d and > 0)
+        {
+            var guess = d / _surface.SubtypeCount;
+            for (var i = 0; i < _surface.SubtypeCount * _surface.SubtypeCount; i++)
+            {
+                channel[i] = (1 - d) * channel[i] + guess;
+            }
+        }
+
         if (!_counts.TryGetValue((unitId, Band(snr), Bin(phase)), out var counts))
         {
             return clamped;

@@ -156,10 +156,19 @@ public static class PlanReport
         var here = problem.Units[option.Unit];
         var text = string.Create(inv,
             $"A={level.ExpectedAccuracy:F2} at S/N {level.Snr:F0} per resolution element on {here.Name} (R={here.ResolvingPower:F0}) in {level.DurationSeconds / 60:F0} min, value {level.Value:F3}");
+        // Say what the value counts, once: a science weight other than 1 multiplies it, so a value above 1 is never read as
+        // more than one identification of one candidate.
+        double weight = problem.Candidates[option.Candidate].ScienceWeight;
+        bool weighted = Math.Abs(weight - 1) > 1e-9 && weight > 0;
         if (problem.Objective == PlanObjective.Identification)
         {
-            // The value is not weight × A here: say what it counts, once.
-            text += string.Create(inv, $" (expected correct identifications at posterior ≥ {problem.IdentificationConfidence:0.##}, a follow-up included)");
+            text += weighted
+                ? string.Create(inv, $" (science weight {weight:0.##} × {level.Value / weight:F3} expected correct identifications at posterior ≥ {problem.IdentificationConfidence:0.##}, a follow-up included)")
+                : string.Create(inv, $" (expected correct identifications at posterior ≥ {problem.IdentificationConfidence:0.##}, a follow-up included)");
+        }
+        else if (weighted)
+        {
+            text += string.Create(inv, $" (science weight {weight:0.##} × {level.Value / weight:F3})");
         }
 
         if (level.Explanation is { } why)

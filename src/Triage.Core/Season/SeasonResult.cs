@@ -49,6 +49,7 @@ public sealed record LabelCount(int Correct, int Wrong, double MeanProbability);
 /// <param name="LoadByNight">Demand against capacity, per night.</param>
 /// <param name="PlannedValueByNight">Per spectrograph name and night: the planner's value of the observations it planned there (before weather), in the objective's units.</param>
 /// <param name="PlannedHoursByNight">Per spectrograph name and night: the hours it planned there (before weather).</param>
+/// <param name="PlannedHoursAtConfidenceByNight">Per spectrograph name and night: the part of <paramref name="PlannedHoursByNight"/> on candidates whose top subtype probability was already at least τ before the spectrum (for a sequential strategy any labelled report identifies them, however uninformative).</param>
 /// <param name="CapacityShareByNight">Per night: the capacity share q the night's plan was given (the share of unsettled results the high-R units can take; only the escalation value reads it).</param>
 public sealed record StrategyResult(
     string Name,
@@ -74,6 +75,7 @@ public sealed record StrategyResult(
     IReadOnlyList<NightLoad> LoadByNight,
     IReadOnlyDictionary<string, double[]> PlannedValueByNight,
     IReadOnlyDictionary<string, double[]> PlannedHoursByNight,
+    IReadOnlyDictionary<string, double[]> PlannedHoursAtConfidenceByNight,
     IReadOnlyList<double> CapacityShareByNight);
 
 /// <summary>A simulated season.</summary>

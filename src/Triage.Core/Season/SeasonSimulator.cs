@@ -106,6 +106,13 @@ public sealed record SeasonSettings
     /// </summary>
     public int MaxPoolCandidates { get; init; } = 600;
 
+    /// <summary>
+    /// Most the network may spend a night, in the roster's cost units (Σ cost per hour × hours planned on every unit):
+    /// one programme budget shared by all units, the planner's network cost cap. Null: no cap (each unit has only its
+    /// own nightly budget). Default null.
+    /// </summary>
+    public double? NetworkCostCap { get; init; }
+
     /// <summary>Subtypes whose base rate is below this count as rare. Default 0.02.</summary>
     public double RareBaseRate { get; init; } = 0.02;
 }
@@ -213,6 +220,11 @@ public static class SeasonSimulator
             throw new ArgumentException("Nights must be ≥ 1 and ClearFraction in [0, 1].", nameof(settings));
         }
 
+        if (settings.NetworkCostCap is { } cap && !(cap >= 0 && double.IsFinite(cap)))
+        {
+            throw new ArgumentException("NetworkCostCap must be finite and ≥ 0.", nameof(settings));
+        }
+
         if (!truth.Subtypes.SequenceEqual(planner.Subtypes))
         {
             throw new ArgumentException("The truth and planner models must list the same subtypes in the same order.", nameof(truth));
@@ -253,6 +265,7 @@ internal sealed class StrategyRun
     private readonly Dictionary<string, double[]> _hoursByNight = new(StringComparer.Ordinal);
     private readonly Dictionary<string, double[]> _plannedValue = new(StringComparer.Ordinal);
     private readonly Dictionary<string, double[]> _plannedHours = new(StringComparer.Ordinal);
+    private readonly Dictionary<string, double[]> _plannedHoursAtConfidence = new(StringComparer.Ordinal);
     private readonly Dictionary<string, int> _flaggedNight = new(StringComparer.Ordinal);
     private readonly double[] _capacityShareByNight;
     private readonly int[] _correctByNight;
@@ -300,6 +313,7 @@ internal sealed class StrategyRun
             _hoursByNight[sg.Name] = new double[settings.Nights];
             _plannedValue[sg.Name] = new double[settings.Nights];
             _plannedHours[sg.Name] = new double[settings.Nights];
+            _plannedHoursAtConfidence[sg.Name] = new double[settings.Nights];
         }
     }
 
@@ -358,6 +372,7 @@ internal sealed class StrategyRun
         var build = new NightBuildSettings
         {
             Objective = objective,
+            NetworkCostCap = _settings.NetworkCostCap,
             Sequential = new SequentialPlanSettings
             {
                 Confidence = _settings.Confidence,
@@ -385,6 +400,10 @@ internal sealed class StrategyRun
             var unit = problem.Units[option.Unit];
             _plannedValue[unit.Name][index] += option.Levels[obs.Level].Value;
             _plannedHours[unit.Name][index] += option.Levels[obs.Level].DurationSeconds / 3600;
+            if (SequentialValuation.Max(_belief[byId[problem.Candidates[option.Candidate].Id].Transient.Index]) >= _settings.Confidence - 1e-12)
+            {
+                _plannedHoursAtConfidence[unit.Name][index] += option.Levels[obs.Level].DurationSeconds / 3600;
+            }
             if (!clear[unit.SiteName])
             {
                 _weatherLosses++;
@@ -681,6 +700,7 @@ internal sealed class StrategyRun
             _load,
             Rounded(_plannedValue),
             Rounded(_plannedHours),
+            Rounded(_plannedHoursAtConfidence),
             _capacityShareByNight.Select(q => Math.Round(q, 4)).ToArray());
     }
 }

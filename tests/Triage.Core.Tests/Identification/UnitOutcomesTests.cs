@@ -18,7 +18,7 @@ public class UnitOutcomesTests
     public void Fill_CombinesCalibrationRowAndCounts()
     {
         var surface = PosteriorUpdateTests.Surface();
-        var outcomes = new UnitOutcomes(surface, new UnitOutcomeSettings { PriorStrength = 20 });
+        var outcomes = new UnitOutcomes(surface, new UnitOutcomeSettings { PriorStrength = 20, UnitReliability = false });
         for (var i = 0; i < 10; i++)
         {
             outcomes.Add(Trial(0, 1)); // ten Ia answered Ia-91T-like
@@ -55,6 +55,52 @@ public class UnitOutcomesTests
         Assert.Equal(0.8, a.Modelled, 12);
         Assert.Equal(0.5, a.Measured.Estimate, 12);
         Assert.True(a.Flagged);
+    }
+
+    [Fact]
+    public void Fill_WithUnitReliability_MixesEveryRowWithTheGuessShareBeforeTheCounts()
+    {
+        var surface = PosteriorUpdateTests.Surface();
+        var outcomes = new UnitOutcomes(surface, new UnitOutcomeSettings { PriorStrength = 20, UnitReliability = true });
+        for (var i = 0; i < 40; i++)
+        {
+            outcomes.Add(Trial(0, i < 20 ? 0 : 2)); // 20 Ia answered Ia (model 0.8), 20 answered II (model 0.04)
+        }
+
+        // d̂ maximises 20 ln((1 − d) 0.8 + d/3) + 20 ln((1 − d) 0.04 + d/3). Setting the derivative to 0:
+        // 20 (−7/15)/(0.8 − 7d/15) + 20 (22/75)/(0.04 + 22d/75) = 0 → 35 (0.04 + 22d/75) = 22 (0.8 − 7d/15)
+        // → (1540/75) d = 16.2 → d = 243/308 = 0.788961 (worked by hand; Gelman et al. BDA3 ch. 5 for pooling across rows).
+        const double d = 243.0 / 308;
+        Assert.Equal(d, outcomes.GuessShare("unit-a"), 9);
+        var channel = new double[9];
+        outcomes.Fill("unit-a", surface.AtResolution(100), 10, Peak, channel);
+
+        // Row Ia mixed: (1 − d)[0.8, 0.16, 0.04] + d/3, then the counts [20, 0, 20] with α = 20, N = 40.
+        double[] mixedIa = [(1 - d) * 0.8 + d / 3, (1 - d) * 0.16 + d / 3, (1 - d) * 0.04 + d / 3];
+        Assert.Equal((20 * mixedIa[0] + 20) / 60, channel[0], 9);
+        Assert.Equal((20 * mixedIa[1] + 0) / 60, channel[1], 9);
+        Assert.Equal((20 * mixedIa[2] + 20) / 60, channel[2], 9);
+        // A row without trials is mixed too (model 0.5 on the diagonal of row 1).
+        Assert.Equal((1 - d) * 0.5 + d / 3, channel[4], 9);
+        // With the setting off the same trials leave rows without trials at the calibration.
+        var plain = new UnitOutcomes(surface, new UnitOutcomeSettings { PriorStrength = 20, UnitReliability = false });
+        for (var i = 0; i < 40; i++)
+        {
+            plain.Add(Trial(0, i < 20 ? 0 : 2));
+        }
+
+        plain.Fill("unit-a", surface.AtResolution(100), 10, Peak, channel);
+        Assert.Equal(0.5, channel[4], 12);
+        Assert.Equal(0, plain.GuessShare("unit-a"));
+    }
+
+    [Fact]
+    public void GuessShare_AnswersAsLikelyAsModelledOrBetter_IsZero()
+    {
+        // Every answer correct at model probability 0.8 > 1/3: the likelihood falls with d from d = 0.
+        Assert.Equal(0, UnitOutcomes.MaximumLikelihoodGuessShare([0.8, 0.8, 0.8], 1.0 / 3));
+        // Every answer one the model gave 0.01: the likelihood rises all the way to d = 1.
+        Assert.Equal(1, UnitOutcomes.MaximumLikelihoodGuessShare([0.01, 0.01], 1.0 / 3));
     }
 
     [Fact]

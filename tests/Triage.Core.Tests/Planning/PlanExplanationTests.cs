@@ -9,7 +9,7 @@ namespace Triage.Core.Tests.Planning;
 public class PlanExplanationTests
 {
     // One candidate, two units; placed on the quick unit, the runner-up is worth 0.2 more with A 0.10 lower.
-    private static string ReasonOfTheEntry(PlanObjective objective, double runnerUpAccuracy)
+    private static string ReasonOfTheEntry(PlanObjective objective, double runnerUpAccuracy, double scienceWeight = 1)
     {
         var units = new[]
         {
@@ -21,7 +21,7 @@ public class PlanExplanationTests
             new PlanOption(0, 0, new SecondsWindow(0, 7200), [new ExposureLevel(10, 300, 600, 0.60, 1.0, 0.50)], 1.2, 17),
             new PlanOption(0, 1, new SecondsWindow(0, 7200), [new ExposureLevel(10, 1500, 1800, runnerUpAccuracy, 1.2, 0.70)], 1.2, 17),
         };
-        var problem = new PlanningProblem(DateTimeOffset.UnixEpoch, units, [new PlanningCandidate("c", 1)], options, objective);
+        var problem = new PlanningProblem(DateTimeOffset.UnixEpoch, units, [new PlanningCandidate("c", scienceWeight)], options, objective);
         var outcome = new PlanOutcome([new PlannedObservation(0, 0, 0)], PlanStatus.Heuristic, 0.5, null, [null, 0.4], 2, 2, []);
         return Assert.Single(PlanReport.Build(problem, outcome).Spectrographs[0].Queue).Reason;
     }
@@ -35,6 +35,19 @@ public class PlanExplanationTests
         // 0.70 − 0.50 = 0.200 more value; its 30 min at 0.4 per hour are worth 0.200 elsewhere.
         Assert.Contains("Sharp-4000 would be worth 0.200 more (A=0.50) but needs 30 min of its time, worth 0.200 elsewhere tonight", reason, StringComparison.Ordinal);
         Assert.Contains("value 0.500 (expected correct identifications at posterior ≥ 0.9, a follow-up included)", reason, StringComparison.Ordinal);
+    }
+
+    [Theory]
+    // The option's value (0.50) already carries the candidate's science weight, as the problem builder makes it
+    // (weight × the unweighted value): the reason splits it so that a value above 1 is not read as more than one
+    // identification of one candidate.
+    [InlineData(PlanObjective.Identification, "value 0.500 (science weight 2.5 × 0.200 expected correct identifications at posterior ≥ 0.9, a follow-up included)")]
+    [InlineData(PlanObjective.Accuracy, "value 0.500 (science weight 2.5 × 0.200)")]
+    public void Reason_WeightedCandidate_SplitsTheValueIntoWeightAndWhatItCounts(PlanObjective objective, string expected)
+    {
+        var reason = ReasonOfTheEntry(objective, 0.50, scienceWeight: 2.5);
+
+        Assert.Contains(expected, reason, StringComparison.Ordinal);
     }
 
     [Fact]

@@ -26,7 +26,7 @@ public class SeasonSimulatorTests
         return RosterJson.Parse(File.ReadAllText(Path.Combine(dir.FullName, "demo", "roster.json")));
     }
 
-    private static SeasonResult Run(int seed, IReadOnlyDictionary<string, double>? degrade = null, double peaksPerDay = 3, int maxPool = 600)
+    private static SeasonResult Run(int seed, IReadOnlyDictionary<string, double>? degrade = null, double peaksPerDay = 3, int maxPool = 600, double? costCap = null)
     {
         var (sites, units) = DemoRoster();
         var surface = AccuracySurface.FromDocument(CalibrationFixtures.Document(withConfusions: true));
@@ -38,6 +38,7 @@ public class SeasonSimulatorTests
             LocalSearchRounds = 200,
             MaxPoolCandidates = maxPool,
             TruthDegradation = degrade ?? new Dictionary<string, double>(),
+            NetworkCostCap = costCap,
         };
         return SeasonSimulator.Run(sites, units, surface, surface, settings);
     }
@@ -131,6 +132,35 @@ public class SeasonSimulatorTests
             Assert.True(s.LoadByNight.All(l => l.Pool > 4), s.Name);
             Assert.InRange(s.Observations + s.WeatherLosses, 1, 4 * season.Nights);
         }
+    }
+
+    [Fact]
+    public void Run_NetworkCostCap_NoStrategyPlansMoreThanTheCapInANight()
+    {
+        var (_, units) = DemoRoster();
+        var costPerHour = units.ToDictionary(u => u.Name, u => u.CostPerHour);
+        double[] SpendByNight(StrategyResult s) => Enumerable.Range(0, s.LoadByNight.Count)
+            .Select(n => s.PlannedHoursByNight.Sum(h => h.Value[n] * costPerHour[h.Key])).ToArray();
+        const double cap = 400;
+
+        var capped = Run(seed: 3, costCap: cap);
+
+        // The premise: without the cap every strategy spends more than that on some night.
+        Assert.All(Short.Value.Strategies, s => Assert.True(SpendByNight(s).Max() > cap, s.Name));
+        foreach (var s in capped.Strategies)
+        {
+            // Planned hours are rounded to 1e-4 h per unit and night: at most 6 × 0.5e-4 h × 600 per hour = 0.18 off.
+            Assert.All(SpendByNight(s), spend => Assert.InRange(spend, 0, cap + 0.2));
+            Assert.True(s.Observations > 0, s.Name);
+        }
+    }
+
+    [Fact]
+    public void Run_NegativeNetworkCostCap_IsRefused()
+    {
+        var ex = Assert.Throws<ArgumentException>(() => Run(seed: 3, costCap: -1));
+
+        Assert.Contains("NetworkCostCap", ex.Message, StringComparison.Ordinal);
     }
 
     [Fact]
