@@ -114,13 +114,16 @@ public static class NightPlanner
         var found = GreedyPlanner.SolveBest(full, prices);
         var firstValue = full.ObjectiveOf(found);
         found = ImproveLocally(full, found, prices, settings, clock, cancellationToken);
-        if (problem.ChurnBudget is { } churnBudget && full.ChangesOf(found) is var wanted && wanted > churnBudget)
+        if (full.ChosenChangeBudget is { } churnBudget && full.ChangesOf(found) is var wanted && wanted > churnBudget)
         {
             // The searched plan changes more of the previous version than a replan may: start instead from the
             // previous version kept whole, filled within the budget; CP-SAT then searches inside the budget.
             found = GreedyPlanner.SolveKeepingAnchors(full, churnBudget);
+            var forced = full.ForcedChanges > 0
+                ? string.Create(CultureInfo.InvariantCulture, $" ({full.ForcedChanges} more that no plan could avoid used up the rest of the budget of {problem.ChurnBudget})")
+                : "";
             notes.Add(string.Create(CultureInfo.InvariantCulture,
-                $"Churn budget: the search wanted {wanted} changes to the previous version, {churnBudget} are allowed; the plan keeps within them."));
+                $"Churn budget: the search wanted {wanted} changes to the previous version, {churnBudget} are allowed{forced}; the plan keeps within them."));
         }
 
         IReadOnlyList<PlacedChoice> greedy;
@@ -259,7 +262,7 @@ public static class NightPlanner
             cp.Add(LinearExpr.WeightedSum(present, choices.Select(c => (long)Math.Ceiling(c.Cost * CostScale))) <= (long)Math.Floor(cap * CostScale));
         }
 
-        if (problem.ChurnBudget is { } churnBudget)
+        if (model.ChosenChangeBudget is { } churnBudget)
         {
             // Anchors not kept + candidates added ≤ budget, i.e. Σ added − Σ anchors kept ≤ budget − |anchors|.
             var terms = Enumerable.Range(0, choices.Count).Select(j => (j, w: (long)model.ChurnWeight(j))).Where(t => t.w != 0).ToArray();

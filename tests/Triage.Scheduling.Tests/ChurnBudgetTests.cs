@@ -12,12 +12,14 @@ public class ChurnBudgetTests
     // A0…A7, back to back). Eight new candidates N0…N7 are worth 3 each for the same half hour anywhere in the night.
     // Unlimited, the solver swaps every anchor for a new candidate: 8 × 3 = 24 against 8 × 1.1 = 8.8 kept.
     // With a budget of k changes, one swap costs two (an anchor dropped, a candidate added): ⌊k/2⌋ swaps.
-    private static PlanningProblem Replan(int? budget)
+    private static PlanningProblem Replan(int? budget, int anchorsOutOfReach = 0)
     {
         static ExposureLevel Level(double value) => new(10, 1800, 1800, value, value, value);
         var candidates = Enumerable.Range(0, 8).Select(i => new PlanningCandidate($"A{i}", 1))
             .Concat(Enumerable.Range(0, 8).Select(i => new PlanningCandidate($"N{i}", 1))).ToArray();
-        var options = Enumerable.Range(0, 8).Select(i => new PlanOption(i, 0, new SecondsWindow(0, 14400), [Level(1.0)], 1.1, 17))
+        // The last anchorsOutOfReach anchors' candidates can now only be observed before 3 h (their previous start is
+        // later): those anchors cannot be kept, a change no plan avoids.
+        var options = Enumerable.Range(0, 8).Select(i => new PlanOption(i, 0, new SecondsWindow(0, i >= 8 - anchorsOutOfReach ? 10800 : 14400), [Level(1.0)], 1.1, 17))
             .Concat(Enumerable.Range(0, 8).Select(i => new PlanOption(8 + i, 0, new SecondsWindow(0, 14400), [Level(3.0)], 1.1, 17)))
             .ToArray();
         return new PlanningProblem(DateTimeOffset.UnixEpoch,
@@ -69,6 +71,31 @@ public class ChurnBudgetTests
         {
             Assert.Equal(8, added);
             Assert.Equal(24, objective, 6);
+        }
+    }
+
+    [Theory]
+    [InlineData(4, false)]
+    [InlineData(4, true)]
+    [InlineData(6, false)]
+    public void Replan_ChangesNoPlanCanAvoid_UseUpTheBudgetFirst(int budget, bool heuristicOnly)
+    {
+        // A6 and A7 can no longer be kept where they were: two changes before the solver chooses any. A scheduler sees
+        // those too, so at most budget − 2 more may be chosen.
+        var problem = Replan(budget, anchorsOutOfReach: 2);
+        var settings = new SolverSettings { Deterministic = true, HeuristicOnly = heuristicOnly };
+
+        var (kept, added, objective) = Outcome(problem, settings);
+
+        var changes = 8 - kept + added;
+        Assert.True(changes <= budget, $"{changes} changes against a budget of {budget}");
+        Assert.True(kept <= 6);
+        if (!heuristicOnly)
+        {
+            // The best use of what is left: two new candidates in the hour A6 and A7 leave free (two changes), then
+            // swaps of two changes each: budget 4 → 2 added, 6 → 3 added, and every allowed change used.
+            Assert.Equal(2 + (budget - 4) / 2, added);
+            Assert.Equal(budget, changes);
         }
     }
 

@@ -253,6 +253,19 @@ public sealed class PlanningModel
     }
 
     /// <summary>
+    /// Anchors that no choice can keep as they were (their window closed, their time no longer fits the unit's budget,
+    /// or their value fell to nothing): changes to the previous version that the plan cannot avoid.
+    /// </summary>
+    public int ForcedChanges => Problem.Anchors.Count - AnchorChoices.Count;
+
+    /// <summary>
+    /// The changes the plan may still choose under <see cref="PlanningProblem.ChurnBudget"/> (null: unlimited): the
+    /// budget less the <see cref="ForcedChanges"/>, which use it up first, since a scheduler sees them as changes too;
+    /// but at least one when the budget allows any, so that a valuable arrival or a lost observation can still enter.
+    /// </summary>
+    public int? ChosenChangeBudget => Problem.ChurnBudget is { } k ? Math.Max(Math.Min(k, 1), k - ForcedChanges) : null;
+
+    /// <summary>
     /// What placing choice <paramref name="index"/> does to the count of changes: −1 for an anchor choice (an anchor
     /// kept), +1 for a choice of a candidate without an anchor (an addition), 0 otherwise (another place for an
     /// anchored candidate, whose change the missing anchor already counts).
