@@ -18,8 +18,7 @@ internal static class ObjectiveTiming
 {
     public static int Run(string[] args)
     {
-        string Arg(string name, string fallback) =>
-            Array.IndexOf(args, name) is var i and >= 0 && i + 1 < args.Length ? args[i + 1] : fallback;
+        string Arg(string name, string fallback) => HarnessArgs.Value(args, name, fallback);
         var count = Arg("--candidates", "demo");
         var rounds = int.Parse(Arg("--rounds", "3"), CultureInfo.InvariantCulture);
         var inv = CultureInfo.InvariantCulture;

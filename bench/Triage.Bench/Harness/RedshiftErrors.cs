@@ -16,8 +16,7 @@ internal static class RedshiftErrors
 {
     public static int Run(string[] args)
     {
-        string Arg(string name, string fallback) =>
-            Array.IndexOf(args, name) is var i and >= 0 && i + 1 < args.Length ? args[i + 1] : fallback;
+        string Arg(string name, string fallback) => HarnessArgs.Value(args, name, fallback);
         int objects = int.Parse(Arg("--objects", "400"), CultureInfo.InvariantCulture);
         int seed = int.Parse(Arg("--seed", "1"), CultureInfo.InvariantCulture);
         double share = double.Parse(Arg("--share", "0.2"), CultureInfo.InvariantCulture);

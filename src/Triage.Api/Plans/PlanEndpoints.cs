@@ -167,8 +167,7 @@ public static class PlanEndpoints
         return TypedResults.Ok(new PlanDiffResponse(date, older.Value.Row.Version, newer.Value.Row.Version, changes));
     }
 
-    internal static readonly IReadOnlyDictionary<string, PlanObjective> Objectives =
-        Enum.GetValues<PlanObjective>().ToDictionary(PlanDefaults.Name, o => o);
+    internal static readonly IReadOnlyDictionary<string, PlanObjective> Objectives = PlanDefaults.ByName;
 
     internal static bool TryNight(string text, out DateOnly night, out ProblemHttpResult problem)
     {

@@ -29,13 +29,9 @@ internal static class NightInputOptions
     /// <summary>The objective named by <paramref name="text"/> (case-insensitive); false when it names none.</summary>
     public static bool TryObjective(string text, out PlanObjective objective)
     {
-        foreach (var candidate in Enum.GetValues<PlanObjective>())
+        if (PlanDefaults.ByName.TryGetValue(text.ToLowerInvariant(), out objective))
         {
-            if (string.Equals(PlanDefaults.Name(candidate), text, StringComparison.OrdinalIgnoreCase))
-            {
-                objective = candidate;
-                return true;
-            }
+            return true;
         }
 
         objective = PlanDefaults.Objective;

@@ -161,7 +161,7 @@ public sealed class UnitOutcomes : IUnitChannels
 
     /// <summary>
     /// argmax over d in [0, 1] of Σᵢ ln((1 − d) pᵢ + d u): the log-likelihood is concave in d, so its derivative
-    /// Σᵢ (u − pᵢ)/((1 − d) pᵢ + d u) falls with d and the maximum is 0, 1 or the derivative's root (bisection).
+    /// Σᵢ (u − pᵢ)/((1 − d) pᵢ + d u) falls with d and the maximum is 0, 1 or the derivative's root (Brent's method).
     /// </summary>
     /// <param name="answerProbabilities">pᵢ = C(aᵢ|kᵢ), the model's probability of each trial's answer given its subtype.</param>
     /// <param name="uniform">u = 1/K.</param>
@@ -189,21 +189,8 @@ public sealed class UnitOutcomes : IUnitChannels
             return 1;
         }
 
-        double low = 0, high = 1;
-        for (var i = 0; i < 60; i++)
-        {
-            var mid = (low + high) / 2;
-            if (Slope(mid) > 0)
-            {
-                low = mid;
-            }
-            else
-            {
-                high = mid;
-            }
-        }
-
-        return (low + high) / 2;
+        // The slope changes sign inside (0, 1): its root, by Brent's method (MathNet.Numerics).
+        return MathNet.Numerics.RootFinding.Brent.FindRoot(Slope, 0, 1, 1e-13);
     }
 
     /// <inheritdoc/>

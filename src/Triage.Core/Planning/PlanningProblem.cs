@@ -29,6 +29,10 @@ public static class PlanDefaults
     /// <summary>The objective's name in requests, plan JSON and the CLI ("identification").</summary>
     public static string ObjectiveName => Name(Objective);
 
+    /// <summary>Every objective by its name in requests, plan JSON and the CLI.</summary>
+    public static IReadOnlyDictionary<string, PlanObjective> ByName { get; } =
+        Enum.GetValues<PlanObjective>().ToDictionary(Name, o => o, StringComparer.Ordinal);
+
     /// <summary>The lower-case name of an objective ("accuracy", "information", "identification").</summary>
     public static string Name(PlanObjective objective) => objective switch
     {
