@@ -9,14 +9,19 @@ namespace Triage.Api.Operations;
 
 public static class OperationsSetup
 {
-    /// <summary>Structured JSON logs on standard output; never the request body or headers.</summary>
+    /// <summary>
+    /// Structured JSON logs on standard output; never the request body or headers. The logger belongs to this host:
+    /// the process-wide static one is left alone, so a second host in the same process (a test's, a replica's)
+    /// neither takes this host's lines nor silences them when it is disposed.
+    /// </summary>
     public static WebApplicationBuilder AddTriageLogging(this WebApplicationBuilder builder)
     {
         builder.Services.AddSerilog((services, lc) => lc
             .ReadFrom.Configuration(builder.Configuration)
             .ReadFrom.Services(services) // extra sinks registered as services (the tests' capture)
             .Enrich.FromLogContext()
-            .WriteTo.Console(new CompactJsonFormatter()));
+            .WriteTo.Console(new CompactJsonFormatter()),
+            preserveStaticLogger: true);
         return builder;
     }
 
