@@ -33,6 +33,11 @@ export function num(value, digits = 2) {
   return value === null || value === undefined || Number.isNaN(value) ? '—' : Number(value).toFixed(digits);
 }
 
+/** Other brokers' posts of one transient: "broker/ID, broker/ID" (the candidate id when the broker is unknown). */
+export function alsoPosted(posts) {
+  return posts.map((p) => (p.broker ? `${p.broker}/${p.brokerCandidateId}` : p.candidateId)).join(', ');
+}
+
 export function percent(value, digits = 0) {
   return value === null || value === undefined ? '—' : `${(value * 100).toFixed(digits)} %`;
 }

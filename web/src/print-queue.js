@@ -2,7 +2,7 @@
 // (broker id, RA/Dec in sexagesimal and degrees, magnitude, slot, exposure and split, airmass start/mid/end,
 // Moon distance, value, reason, what to do if missed), and the plain-text night sheet as a download.
 import { getJson, session } from './api.js';
-import { el, num } from './format.js';
+import { alsoPosted, el, num } from './format.js';
 
 const hm = (t) => new Date(t).toISOString().slice(11, 16);
 
@@ -11,7 +11,8 @@ export function queueTable(queue, night) {
   const rows = queue.queue.map((e) => el('tr', {},
     el('td', {}, String(e.position)),
     el('td', {}, `${hm(e.startUtc)}–${hm(e.endUtc)}`),
-    el('td', { class: 'mono' }, e.brokerCandidateId ?? e.candidateId),
+    el('td', { class: 'mono' }, e.brokerCandidateId ?? e.candidateId,
+      ...(e.alsoPostedAs?.length ? [el('br'), el('span', { class: 'small' }, `also ${alsoPosted(e.alsoPostedAs)}`)] : [])),
     el('td', { class: 'mono' }, `${e.raSexagesimal ?? '—'} ${e.decSexagesimal ?? ''}`, el('br'), el('span', { class: 'small' }, `${num(e.raDeg, 4)}°, ${num(e.decDeg, 4)}°`)),
     el('td', {}, num(e.predictedMagnitude, 1)),
     el('td', {}, `${num(e.exposureSeconds, 0)} s`, el('br'), el('span', { class: 'small' }, `${e.exposureCount} × ${num(e.subExposureSeconds, 0)} s`)),

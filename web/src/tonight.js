@@ -1,7 +1,7 @@
 // Tonight: one lane per spectrograph on a UTC axis, sky shading per site, blocks per observation.
 import { getJson } from './api.js';
 import { loadNetwork, loadPlan, loadVersions, loadDetails } from './data.js';
-import { el, utc, local, offsetLabel, num, percent, utcDateTime } from './format.js';
+import { alsoPosted, el, utc, local, offsetLabel, num, percent, utcDateTime } from './format.js';
 import { axisRow, layoutAxes, followWidth } from './timeaxis.js';
 import { STATES, observationState, fitBlockLabels } from './blocklook.js';
 import { loadClosures, closuresOfLane, closureSpans } from './closures.js';
@@ -183,6 +183,7 @@ export function createTonight(root, night, { pollSeconds = 20 } = {}) {
       el('p', { class: 'reason' }, entry.reason),
       el('dl', {},
         el('dt', {}, 'Candidate id'), el('dd', {}, el('a', { href: `#/candidates/${entry.candidateId}` }, entry.candidateId)),
+        ...(entry.alsoPostedAs?.length ? [el('dt', {}, 'Also posted as'), el('dd', { class: 'also-posted' }, alsoPosted(entry.alsoPostedAs))] : []),
         el('dt', {}, 'State'), el('dd', {}, state),
         el('dt', {}, 'Spectrograph'), el('dd', {}, `${queue.name} (${queue.siteName}, R ${num(queue.resolvingPower, 0)})`),
         el('dt', {}, 'Start'), el('dd', {}, when(entry.startUtc)),

@@ -36,6 +36,12 @@ public sealed record OperatorEntry(
     MissedSlotAdvice? IfMissed,
     bool KeptFromPrevious)
 {
+    /// <summary>Other brokers' posts of the same transient (a report on this entry answers them too); empty when posted once.</summary>
+    public IReadOnlyList<OtherPost> AlsoPostedAs { get; init; } = [];
+
+    /// <summary>"broker-b/ID-7, broker-c/ID-9", or empty.</summary>
+    public string AlsoPostedAsText => string.Join(", ", AlsoPostedAs.Select(o => o.Broker is null ? o.CandidateId : $"{o.Broker}/{o.BrokerCandidateId}"));
+
     /// <summary>The queue entry as an operator reads it.</summary>
     public static OperatorEntry From(int position, QueueEntry e)
     {
@@ -43,7 +49,10 @@ public sealed record OperatorEntry(
         return new OperatorEntry(position, e.CandidateId, e.Broker, e.BrokerCandidateId, e.RaDeg, e.DecDeg,
             e.RaDeg is { } ra ? Sexagesimal.RightAscension(ra) : null, e.DecDeg is { } dec ? Sexagesimal.Declination(dec) : null,
             e.PredictedMagnitude, e.StartUtc, e.EndUtc, e.ExposureSeconds, count, e.ExposureSeconds / count,
-            e.AirmassStart, e.Airmass, e.AirmassEnd, e.MoonSeparationDeg, e.ExpectedSnr, e.ExpectedAccuracy, e.Value, e.Reason, e.IfMissed, e.KeptFromPrevious);
+            e.AirmassStart, e.Airmass, e.AirmassEnd, e.MoonSeparationDeg, e.ExpectedSnr, e.ExpectedAccuracy, e.Value, e.Reason, e.IfMissed, e.KeptFromPrevious)
+        {
+            AlsoPostedAs = e.AlsoPostedAs ?? [],
+        };
     }
 
     /// <summary>"3 × 600 s".</summary>
@@ -71,7 +80,7 @@ public static class OperatorQueue
         sb.AppendLine("# Advisory plan: the observatory's own interlocks and operators decide what is observed.");
         sb.AppendLine("position,candidate_id,start_utc,end_utc,broker,broker_candidate_id,ra_deg,dec_deg,ra_hms,dec_dms,predicted_mag_ab,"
             + "exposure_seconds,exposure_count,sub_exposure_seconds,airmass_start,airmass,airmass_end,moon_separation_deg,"
-            + "expected_snr,expected_accuracy,value,if_missed,reason");
+            + "expected_snr,expected_accuracy,value,if_missed,also_posted_as,reason");
         foreach (var e in Entries(queue))
         {
             sb.Append(e.Position).Append(',')
@@ -96,6 +105,7 @@ public static class OperatorQueue
               .Append(e.ExpectedAccuracy.ToString("0.000", Inv)).Append(',')
               .Append(e.Value.ToString("0.0000", Inv)).Append(',')
               .Append(Quote(e.IfMissedText)).Append(',')
+              .Append(Quote(e.AlsoPostedAsText)).Append(',')
               .Append(Quote(e.Reason)).AppendLine();
         }
 
@@ -124,6 +134,7 @@ public static class OperatorQueue
             sb.AppendLine(string.Create(Inv,
                 $"    exposure {e.ExposureSeconds:0} s = {e.Split}  airmass {Num(e.AirmassStart, "0.00")}/{e.Airmass:0.00}/{Num(e.AirmassEnd, "0.00")}  Moon {Num(e.MoonSeparationDeg, "0")} deg  value {e.Value:0.000}  A={e.ExpectedAccuracy:0.00}"));
             foreach (var line in Wrap(string.Create(Inv, $"deg ({Num(e.RaDeg, "0.0000")}, {Num(e.DecDeg, "+0.0000;-0.0000")}); if missed: {e.IfMissedText}"), 90)
+                .Concat(e.AlsoPostedAs.Count > 0 ? Wrap("same transient, also posted as: " + e.AlsoPostedAsText, 90) : [])
                 .Concat(Wrap("why: " + e.Reason, 90)))
             {
                 sb.Append("    ").AppendLine(line);

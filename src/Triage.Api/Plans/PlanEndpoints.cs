@@ -27,7 +27,10 @@ public static class PlanEndpoints
         services.AddSingleton<PlanStore>();
         services.AddSingleton<IJobHandler, PlanJobHandler>();
         services.AddOptions<PlannerOptions>().BindConfiguration("Triage:Planner")
-            .Validate(o => o.MaxPoolCandidates >= 1, "Triage:Planner:MaxPoolCandidates must be at least 1.");
+            .Validate(o => o.MaxPoolCandidates >= 1, "Triage:Planner:MaxPoolCandidates must be at least 1.")
+            .Validate(o => o.SameTransientRadiusArcsec > 0 && o.SameTransientDays > 0,
+                "Triage:Planner:SameTransientRadiusArcsec and Triage:Planner:SameTransientDays must be greater than 0.")
+            .ValidateOnStart();
         return services;
     }
 

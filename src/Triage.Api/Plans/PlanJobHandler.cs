@@ -78,7 +78,7 @@ public sealed class PlanJobHandler(
 
         progress.Report(new JobProgress(0.08, "choosing the candidate pool"));
         var mustKeep = PreviouslyAssigned(previousVersion?.BodyJson, start.KeptIds);
-        var pool = await PoolAsync(sites, spectrographs, surface, input, from, mustKeep, start.KeptIds, ct);
+        var (pool, alsoPostedAs) = await PoolAsync(sites, spectrographs, surface, input, from, mustKeep, start.KeptIds, ct);
         progress.Report(new JobProgress(0.15, "reading the pool's photometry"));
         // A candidate with labelled reports is valued from its posterior (what a sharper spectrum would add).
         var waiting = (await candidates.WithPhotometryAsync(pool.Kept.Select(Guid.Parse).ToList(), ct, posteriorAsPrior: true))
@@ -111,7 +111,7 @@ public sealed class PlanJobHandler(
         var solver = new SolverSettings { TimeLimitSeconds = input.TimeLimitSeconds, Deterministic = input.Deterministic };
         var plan = NightPlanning.Plan(night, solver, ct) with { Night = input.Night, GeneratedUtc = now, Pool = pool.Report };
         plan = NightReplan.WithKept(plan, start.Kept);
-        plan = await WithBrokerIdsAsync(plan, ct);
+        plan = await WithBrokerIdsAsync(plan, alsoPostedAs, ct);
         var churn = previous is null ? default : PlanChurn.Between(previous, plan, plannedFrom);
         var churnJson = previous is null ? null : JsonSerializer.Serialize(churn.Churn, PlanJson.Options);
 
@@ -179,17 +179,35 @@ public sealed class PlanJobHandler(
 
     /// <summary>
     /// The bounded pool: a light row per waiting candidate (new, unsettled or planned; those executing at the
-    /// replanning instant are kept apart), ranked by an upper bound of value per hour; the latest
-    /// version's assignments always stay, so a replan can keep what it planned.
+    /// replanning instant are kept apart), one post per transient when several brokers posted it (the others, and
+    /// the waiting posts of a transient being observed or observed, are left out), ranked by an upper bound of value
+    /// per hour; the latest version's assignments always stay, so a replan can keep what it planned.
     /// </summary>
-    private async Task<CandidatePoolSelection> PoolAsync(
+    private async Task<(CandidatePoolSelection Selection, IReadOnlyDictionary<string, IReadOnlyList<string>> AlsoPostedAs)> PoolAsync(
         IReadOnlyList<Site> sites, IReadOnlyList<Spectrograph> spectrographs, AccuracySurface surface, PlanJobInput input, DateTimeOffset from,
         IReadOnlySet<string> mustKeep, IReadOnlySet<string> exclude, CancellationToken ct)
     {
         var rows = await candidates.PoolRowsAsync([CandidateState.New, CandidateState.Unsettled, CandidateState.Planned], ct);
         var night = NightStartUtc(input.Night);
+        var sameTransient = new SameTransientSettings
+        {
+            RadiusArcsec = options.Value.SameTransientRadiusArcsec,
+            MaxDiscoveryGapDays = options.Value.SameTransientDays,
+        };
+        var posts = rows.Select(r => new TransientPost(r.Id.ToString(), r.RaDeg, r.DecDeg, r.DiscoveredAt,
+                exclude.Contains(r.Id.ToString()) ? PostStanding.Executing : r.State == CandidateState.Unsettled ? PostStanding.Unsettled : PostStanding.Waiting,
+                r.ScienceWeight, r.BrightestMagnitudeAB(night)))
+            .ToList();
+        if (rows.Count > 0)
+        {
+            var since = rows.Min(r => r.DiscoveredAt) - TimeSpan.FromDays(sameTransient.MaxDiscoveryGapDays);
+            posts.AddRange((await candidates.ObservedPostsAsync(since, ct))
+                .Select(o => new TransientPost(o.Id.ToString(), o.RaDeg, o.DecDeg, o.DiscoveredAt, PostStanding.Observed, 1, null)));
+        }
+        var grouped = SameTransient.Select(posts, mustKeep, sameTransient);
+        var kept = grouped.Kept.ToHashSet(StringComparer.Ordinal);
         var pool = rows
-            .Where(r => !exclude.Contains(r.Id.ToString()))
+            .Where(r => kept.Contains(r.Id.ToString()))
             .Select(r => new PoolCandidate(r.Id.ToString(), r.RaDeg, r.DecDeg, r.ScienceWeight, r.BrightestMagnitudeAB(night)))
             .ToList();
         var waitingIds = pool.Select(p => p.Id).ToHashSet(StringComparer.Ordinal);
@@ -197,8 +215,10 @@ public sealed class PlanJobHandler(
             mustKeep.Where(waitingIds.Contains).ToHashSet(StringComparer.Ordinal), input.Objective,
             new NightBuildSettings { Objective = input.Objective },
             new CandidatePoolSettings { MaxCandidates = options.Value.MaxPoolCandidates });
-        log.LogInformation("Candidate pool for {Night}: {Kept} of {Waiting} waiting candidates", input.Night, selection.Report.Kept, selection.Report.Waiting);
-        return selection;
+        selection = selection with { Report = selection.Report.WithSameTransient(grouped.StandsFor.Count, sameTransient) };
+        log.LogInformation("Candidate pool for {Night}: {Kept} of {Waiting} waiting candidates ({SameTransient} other brokers' posts of a transient left out)",
+            input.Night, selection.Report.Kept, selection.Report.Waiting, grouped.StandsFor.Count);
+        return (selection, grouped.AlsoPostedAs);
     }
 
     /// <summary>Midnight UTC after the evening of the night: where the brightest magnitude is predicted.</summary>
@@ -215,14 +235,23 @@ public sealed class PlanJobHandler(
             .Where(id => !exclude.Contains(id)).ToHashSet(StringComparer.Ordinal);
     }
 
-    /// <summary>Adds the broker and the broker's own id to every entry (operators and brokers think in those ids).</summary>
-    private async Task<NightPlan> WithBrokerIdsAsync(NightPlan plan, CancellationToken ct)
+    /// <summary>
+    /// Adds the broker and the broker's own id to every entry (operators and brokers think in those ids), and the
+    /// other brokers' posts of the same transient.
+    /// </summary>
+    private async Task<NightPlan> WithBrokerIdsAsync(NightPlan plan, IReadOnlyDictionary<string, IReadOnlyList<string>> alsoPostedAs, CancellationToken ct)
     {
-        var ids = plan.Spectrographs.SelectMany(q => q.Queue).Select(e => Guid.TryParse(e.CandidateId, out var g) ? g : Guid.Empty).Where(g => g != Guid.Empty).ToList();
+        static Guid Parse(string id) => Guid.TryParse(id, out var g) ? g : Guid.Empty;
+        var entries = plan.Spectrographs.SelectMany(q => q.Queue).Select(e => e.CandidateId).ToList();
+        var others = entries.SelectMany(id => alsoPostedAs.TryGetValue(id, out var o) ? o : []).ToList();
+        var ids = entries.Concat(others).Select(Parse).Where(g => g != Guid.Empty).Distinct().ToList();
         var known = await candidates.BrokerIdsAsync(ids, ct);
-        QueueEntry With(QueueEntry e) => Guid.TryParse(e.CandidateId, out var g) && known.TryGetValue(g, out var b)
-            ? e with { Broker = b.Broker, BrokerCandidateId = b.BrokerCandidateId }
-            : e;
+        OtherPost Other(string id) => known.TryGetValue(Parse(id), out var b) ? new OtherPost(id, b.Broker, b.BrokerCandidateId) : new OtherPost(id, null, null);
+        QueueEntry With(QueueEntry e)
+        {
+            var entry = known.TryGetValue(Parse(e.CandidateId), out var b) ? e with { Broker = b.Broker, BrokerCandidateId = b.BrokerCandidateId } : e;
+            return alsoPostedAs.TryGetValue(e.CandidateId, out var o) && o.Count > 0 ? entry with { AlsoPostedAs = o.Select(Other).ToList() } : entry;
+        }
         return plan with { Spectrographs = plan.Spectrographs.Select(q => q with { Queue = q.Queue.Select(With).ToList() }).ToList() };
     }
 }
@@ -232,6 +261,12 @@ public sealed class PlannerOptions
 {
     /// <summary>Most candidates fitted and handed to the solver per plan (see <see cref="CandidatePool"/>). Default 2,000.</summary>
     public int MaxPoolCandidates { get; set; } = 2000;
+
+    /// <summary>Two brokers' posts within this many arcseconds (and <see cref="SameTransientDays"/>) are one transient, planned once. Default 1.5″.</summary>
+    public double SameTransientRadiusArcsec { get; set; } = 1.5;
+
+    /// <summary>… and discovered within this many days of each other. Default 100.</summary>
+    public double SameTransientDays { get; set; } = 100;
 }
 
 /// <summary>Passes progress on and remembers how long each step (the time between two reports) took, for the log.</summary>

@@ -62,6 +62,7 @@ public sealed record CandidatePoolSelection(IReadOnlyList<string> Kept, Candidat
 /// <param name="BelowCut">Left out: bound below the cut.</param>
 /// <param name="CutValuePerHour">Bound of the last candidate kept by bound (null when no cut was needed).</param>
 /// <param name="Reason">The cut in words.</param>
+/// <param name="SameTransient">Left out before the cut: another broker's post of a transient already in the pool, being observed or observed (see <see cref="Triage.Core.Candidates.SameTransient"/>).</param>
 public sealed record CandidatePoolReport(
     int Waiting,
     int Kept,
@@ -71,7 +72,26 @@ public sealed record CandidatePoolReport(
     int TooFaint,
     int BelowCut,
     double? CutValuePerHour,
-    string Reason);
+    string Reason,
+    int SameTransient = 0)
+{
+    /// <summary>
+    /// This report with <paramref name="leftOut"/> posts counted as waiting but left out before the cut as another
+    /// broker's post of the same transient.
+    /// </summary>
+    public CandidatePoolReport WithSameTransient(int leftOut, Triage.Core.Candidates.SameTransientSettings settings)
+    {
+        ArgumentOutOfRangeException.ThrowIfNegative(leftOut);
+        ArgumentNullException.ThrowIfNull(settings);
+        return leftOut == 0 ? this : this with
+        {
+            Waiting = Waiting + leftOut,
+            SameTransient = SameTransient + leftOut,
+            Reason = Reason + string.Create(System.Globalization.CultureInfo.InvariantCulture,
+                $" {leftOut} more {(leftOut == 1 ? "was another broker's post" : "were other brokers' posts")} of a transient already planned, being observed or observed (within {settings.RadiusArcsec:0.##}″ and {settings.MaxDiscoveryGapDays:0.#} days of discovery), so not planned twice."),
+        };
+    }
+}
 
 /// <summary>Pre-selects the candidates worth a light-curve fit and a place in the planning problem.</summary>
 public static class CandidatePool

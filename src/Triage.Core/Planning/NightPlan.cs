@@ -86,6 +86,12 @@ public sealed record SpectrographQueue(
     double? MarginalValuePerHour,
     IReadOnlyList<QueueEntry> Queue);
 
+/// <summary>Another broker's post of the transient of a queue entry.</summary>
+/// <param name="CandidateId">Its candidate id.</param>
+/// <param name="Broker">The broker (posting key) it came from.</param>
+/// <param name="BrokerCandidateId">The broker's own id.</param>
+public sealed record OtherPost(string CandidateId, string? Broker, string? BrokerCandidateId);
+
 /// <summary>One planned observation.</summary>
 /// <param name="CandidateId">Candidate id.</param>
 /// <param name="StartUtc">Start of acquisition.</param>
@@ -122,6 +128,13 @@ public sealed record QueueEntry(
 
     /// <summary>The broker (posting key) the candidate came from (set by the host).</summary>
     public string? Broker { get; init; }
+
+    /// <summary>
+    /// Other brokers' posts of the same transient (within the same-transient radius), not planned separately: a
+    /// report on this entry answers them too. Null or empty when it was posted once.
+    /// </summary>
+    [System.Text.Json.Serialization.JsonIgnore(Condition = System.Text.Json.Serialization.JsonIgnoreCondition.WhenWritingNull)]
+    public IReadOnlyList<OtherPost>? AlsoPostedAs { get; init; }
 
     /// <summary>Right ascension, ICRS, degrees 0…360 (null when the plan was built without a sky model).</summary>
     public double? RaDeg { get; init; }

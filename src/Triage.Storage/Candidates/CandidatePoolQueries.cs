@@ -17,6 +17,12 @@ public sealed record PoolRow(
     double? PredictedMagRate,
     DateTimeOffset? FittedAt)
 {
+    /// <summary>When the broker first detected it.</summary>
+    public DateTimeOffset DiscoveredAt { get; init; }
+
+    /// <summary>Its lifecycle state.</summary>
+    public CandidateState State { get; init; }
+
     /// <summary>
     /// The brightest AB magnitude known at <paramref name="atUtc"/>: the brightest detection, or the
     /// stored fit's prediction there when brighter; null without a detection or a fit.
@@ -42,7 +48,8 @@ public sealed partial class CandidateStore
     // merge). JIT is off: compiling the scan took longer than running it.
     private const string PoolSql = """
         SELECT id AS Id, ra_deg AS RaDeg, dec_deg AS DecDeg, science_weight AS ScienceWeight, peak_flux_microjy AS PeakFluxMicroJy,
-            predicted_mag AS PredictedMag, predicted_mag_rate AS PredictedMagRate, fitted_at AS FittedAt
+            predicted_mag AS PredictedMag, predicted_mag_rate AS PredictedMagRate, fitted_at AS FittedAt,
+            discovered_at AS DiscoveredAt, state AS State
         FROM candidates WHERE state = ANY(@states)
         """;
 
@@ -57,7 +64,25 @@ public sealed partial class CandidateStore
             new { states = states.Select(CandidateLifecycle.Name).ToArray() }, tx, cancellationToken: ct));
         await tx.CommitAsync(ct);
         return rows.Select(r => new PoolRow(r.Id, r.RaDeg, r.DecDeg, r.ScienceWeight, r.PeakFluxMicroJy, r.PredictedMag, r.PredictedMagRate,
-            r.FittedAt is { } f ? Utc.From(f) : null)).ToList();
+            r.FittedAt is { } f ? Utc.From(f) : null)
+        {
+            DiscoveredAt = Utc.From(r.DiscoveredAt),
+            State = CandidateLifecycle.TryParse(r.State, out var state) ? state : throw new InvalidOperationException($"Unknown candidate state '{r.State}'."),
+        }).ToList();
+    }
+
+    /// <summary>
+    /// Id, position and discovery instant of every candidate with a spectrum taken (observed or classified) that was
+    /// discovered at or after <paramref name="discoveredSince"/>: the posts a waiting candidate may duplicate.
+    /// </summary>
+    public async Task<IReadOnlyList<(Guid Id, double RaDeg, double DecDeg, DateTimeOffset DiscoveredAt)>> ObservedPostsAsync(
+        DateTimeOffset discoveredSince, CancellationToken ct = default)
+    {
+        await using var conn = await dataSource.OpenConnectionAsync(ct);
+        var rows = await conn.QueryAsync<(Guid, double, double, DateTime)>(new CommandDefinition(
+            "SELECT id, ra_deg, dec_deg, discovered_at FROM candidates WHERE state IN ('observed', 'classified') AND discovered_at >= @discoveredSince",
+            new { discoveredSince }, cancellationToken: ct));
+        return rows.Select(r => (r.Item1, r.Item2, r.Item3, Utc.From(r.Item4))).ToList();
     }
 
     /// <summary>
@@ -106,5 +131,7 @@ public sealed partial class CandidateStore
         public double? PredictedMag { get; init; }
         public double? PredictedMagRate { get; init; }
         public DateTime? FittedAt { get; init; }
+        public DateTime DiscoveredAt { get; init; }
+        public string State { get; init; } = "";
     }
 }
