@@ -70,6 +70,7 @@ internal static class DemoVerb
             {
                 var secrets = JsonSerializer.Deserialize<Dictionary<string, string>>(await File.ReadAllTextAsync(keysPath.FullName, ct))!;
                 var broker = await new KeyStore(data).AuthenticateAsync(secrets["broker"], ct);
+                var secondBroker = await new KeyStore(data).AuthenticateAsync(secrets[SecondBrokerKey], ct);
                 var json = await File.ReadAllTextAsync(candidatesFile.FullName, ct);
                 var store = new CandidateStore(data);
                 if (parse.GetValue(shiftNight) is { } target)
@@ -87,7 +88,8 @@ internal static class DemoVerb
                     var wanted = night.ToString("yyyy-MM-dd", System.Globalization.CultureInfo.InvariantCulture);
                     if (loaded != wanted)
                     {
-                        var removed = await store.DeleteBrokerCandidatesAsync(broker!.PublicId, ct);
+                        var removed = await store.DeleteBrokerCandidatesAsync(broker!.PublicId, ct)
+                            + await store.DeleteBrokerCandidatesAsync(secondBroker!.PublicId, ct);
                         if (removed > 0)
                         {
                             Console.WriteLine($"Demo candidates of the night of {loaded ?? "an earlier load"} removed: {removed}.");
@@ -99,8 +101,10 @@ internal static class DemoVerb
                     Console.WriteLine($"Demo scenario shifted from the night of {DemoShift.ScenarioNight:yyyy-MM-dd} to the night of {wanted} ({night.DayNumber - DemoShift.ScenarioNight.DayNumber:+0;-0;0} days).");
                 }
 
-                var summary = await PostCandidatesAsync(store, broker!.PublicId, json, ct);
-                Console.WriteLine(summary);
+                Console.WriteLine($"Demo candidates: {await PostCandidatesAsync(store, broker!.PublicId, json, ct)}");
+                // A second invented broker reposts one candidate in twelve under its own ids (surveys overlap): the
+                // plan takes each such transient once.
+                Console.WriteLine($"Second demo broker (reposts of one candidate in {DemoSecondBroker.Every}): {await PostCandidatesAsync(store, secondBroker!.PublicId, DemoSecondBroker.Batch(json), ct)}");
             }
             if (parse.GetValue(planNight) is { } nightText)
             {
@@ -129,13 +133,13 @@ internal static class DemoVerb
         var result = BrokerBatchValidator.Validate(batch, DefaultSubtypeLabels.Set, new BatchLimits { MaxCandidates = 5000 });
         if (!result.IsValid)
         {
-            return $"Demo candidates refused: {result.Errors.Count} problem(s), first: {result.Errors[0].Field}: {result.Errors[0].Message}";
+            return $"refused: {result.Errors.Count} problem(s), first: {result.Errors[0].Field}: {result.Errors[0].Message}";
         }
         var intake = result.Candidates
             .Select((c, i) => CandidateIntake.From(c, batch!.Candidates![i]!))
             .ToList();
         var s = await store.UpsertBatchAsync(broker, intake, DateTimeOffset.UtcNow, ct);
-        return $"Demo candidates: {s.Received} received, {s.Created} new, {s.Unchanged} unchanged.";
+        return $"{s.Received} received, {s.Created} new, {s.Unchanged} unchanged.";
     }
 
     private static async Task<(int Sites, int Added)> LoadRosterAsync(RosterStore store, IReadOnlyList<Site> sites, IReadOnlyList<Spectrograph> instruments, CancellationToken ct)
@@ -170,8 +174,15 @@ internal static class DemoVerb
             {
                 valid &= await keys.AuthenticateAsync(secret, ct) is not null;
             }
+            if (valid && existing.ContainsKey(SecondBrokerKey))
+            {
+                return file;
+            }
             if (valid)
             {
+                // A keys file from before the second demo broker: keep its keys, add that one.
+                existing[SecondBrokerKey] = (await keys.IssueAsync("demo second broker", [Scope.Broker], null, DateTimeOffset.UtcNow, ct)).Secret;
+                await WriteKeysAsync(file, existing, ct);
                 return file;
             }
         }
@@ -180,18 +191,27 @@ internal static class DemoVerb
         {
             ["admin"] = (await keys.IssueAsync("demo admin", [Scope.Admin], null, now, ct)).Secret,
             ["broker"] = (await keys.IssueAsync("demo broker", [Scope.Broker], null, now, ct)).Secret,
+            [SecondBrokerKey] = (await keys.IssueAsync("demo second broker", [Scope.Broker], null, now, ct)).Secret,
             ["scheduler"] = (await keys.IssueAsync("demo scheduler", [Scope.Scheduler], null, now, ct)).Secret,
         };
         foreach (var observatory in sites.Select(s => s.Observatory).OfType<string>().Distinct())
         {
             issued[$"observatory: {observatory}"] = (await keys.IssueAsync($"demo {observatory}", [Scope.Observatory], observatory, now, ct)).Secret;
         }
+        await WriteKeysAsync(file, issued, ct);
+        return file;
+    }
+
+    /// <summary>The name of the second demo broker's key in the keys file.</summary>
+    private const string SecondBrokerKey = "second broker";
+
+    private static async Task WriteKeysAsync(FileInfo file, Dictionary<string, string> keys, CancellationToken ct)
+    {
         file.Directory?.Create();
-        await File.WriteAllTextAsync(file.FullName, JsonSerializer.Serialize(issued, new JsonSerializerOptions { WriteIndented = true }), ct);
+        await File.WriteAllTextAsync(file.FullName, JsonSerializer.Serialize(keys, new JsonSerializerOptions { WriteIndented = true }), ct);
         if (!OperatingSystem.IsWindows())
         {
             File.SetUnixFileMode(file.FullName, UnixFileMode.UserRead | UnixFileMode.UserWrite);
         }
-        return file;
     }
 }

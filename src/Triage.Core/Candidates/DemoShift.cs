@@ -1,5 +1,5 @@
-// Moving the invented demo scenario to another night: every time in the broker batch (discovery, photometry)
-// moves by Δ = (target night − scenario night) whole days, and every right ascension by Δ · 360°/365.2422
+// Moving the invented demo scenario to another night: every time in the broker batch (discovery, photometry as an
+// ISO 8601 instant or as an MJD) moves by Δ = (target night − scenario night) whole days, and every right ascension by Δ · 360°/365.2422
 // (the Sun's mean motion per day), so that each target stands at the same hour angle at the same clock time
 // and the demo night looks alike in any season. Declinations, magnitudes and ids are unchanged.
 //
@@ -65,7 +65,12 @@ public static class DemoShift
             {
                 if (point is JsonObject p)
                 {
+                    // A point carries its time either as an ISO 8601 instant or as an MJD (UTC days).
                     ShiftTime(p, "timeUtc", offset);
+                    if (p["mjd"] is JsonValue mjd && mjd.TryGetValue<double>(out var days0))
+                    {
+                        p["mjd"] = Math.Round(days0 + days, 9);
+                    }
                 }
             }
         }

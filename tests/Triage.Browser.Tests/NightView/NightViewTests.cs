@@ -74,6 +74,25 @@ public sealed class NightViewTests(NightViewHost host)
         Assert.Empty(view.ConsoleErrors);
     }
 
+    [Fact]
+    public async Task Tonight_ABlockOfATransientPostedTwice_NamesTheOtherBrokersPost()
+    {
+        var s = await NightScenario.CreateAsync(host);
+        var t0 = s.Evening;
+        await s.StorePlanAsync(host,
+            [NightScenario.Entry(s.CandidateIds[2], t0.AddMinutes(5), 19.1) with { AlsoPostedAs = [new Triage.Core.Planning.OtherPost(s.CandidateIds[3], "b2c4e6f8", "NB-7781")] }],
+            [NightScenario.Entry(s.CandidateIds[0], t0.AddMinutes(20), 18.4)]);
+        await using var view = await ViewSession.SignedInAsync(host, s);
+
+        await view.Page.ClickAsync($".block[data-candidate=\"{s.CandidateIds[2]}\"]");
+        var panel = await view.Page.InnerTextAsync(".block-detail");
+        Assert.Contains("Also posted as", panel, StringComparison.Ordinal);
+        Assert.Contains("b2c4e6f8/NB-7781", panel, StringComparison.Ordinal);
+        await view.Page.ClickAsync($".block[data-candidate=\"{s.CandidateIds[0]}\"]");
+        Assert.DoesNotContain("Also posted as", await view.Page.InnerTextAsync(".block-detail"), StringComparison.Ordinal);
+        Assert.Empty(view.ConsoleErrors);
+    }
+
     [Theory]
     [InlineData("candidates")]
     [InlineData("candidate")]

@@ -94,7 +94,8 @@ public class DemoShiftTests
 {
     private const string Batch = """
         {"candidates":[{"id":"X1","raDeg":359.5,"decDeg":-20,"discoveredUtc":"2026-11-20T01:00:00+00:00",
-          "photometry":[{"timeUtc":"2026-11-21T02:30:00.5+00:00","band":"g","magAb":19.1,"magAbError":0.05}]}]}
+          "photometry":[{"timeUtc":"2026-11-21T02:30:00.5+00:00","band":"g","magAb":19.1,"magAbError":0.05},
+                        {"mjd":61366.125,"band":"r","fluxMicroJy":40.0,"fluxMicroJyError":2.0}]}]}
         """;
 
     [Fact]
@@ -104,10 +105,33 @@ public class DemoShiftTests
 
         Assert.Equal(new DateTimeOffset(2026, 11, 30, 1, 0, 0, TimeSpan.Zero), DateTimeOffset.Parse((string)shifted["discoveredUtc"]!, System.Globalization.CultureInfo.InvariantCulture));
         Assert.Equal(new DateTimeOffset(2026, 12, 1, 2, 30, 0, 500, TimeSpan.Zero), DateTimeOffset.Parse((string)shifted["photometry"]![0]!["timeUtc"]!, System.Globalization.CultureInfo.InvariantCulture));
+        // A point stamped in MJD moves by the same 10 days (it did not move at all before).
+        Assert.Equal(61376.125, (double)shifted["photometry"]![1]!["mjd"]!, 9);
         // 10 days × 0.98564736°/day (Meeus ch. 25, the Sun's mean motion) from 359.5°, wrapped: 9.35647°.
         Assert.Equal(9.35647, (double)shifted["raDeg"]!, 5);
         Assert.Equal(-20, (double)shifted["decDeg"]!);
     }
+
+    [Fact]
+    public void Shift_OfTheDemoBatch_KeepsEveryPointAtItsPlaceInItsLightCurve()
+    {
+        var json = File.ReadAllText(Path.Combine(Triage.Core.Tests.Spectra.TaxonomyTests.RepoRoot(), "demo", "candidates.json"));
+        var before = Times(System.Text.Json.Nodes.JsonNode.Parse(json)!);
+        var after = Times(System.Text.Json.Nodes.JsonNode.Parse(Triage.Core.Candidates.DemoShift.Shift(json, new DateOnly(2027, 2, 14)))!);
+        var days = new DateOnly(2027, 2, 14).DayNumber - Triage.Core.Candidates.DemoShift.ScenarioNight.DayNumber;
+
+        Assert.Equal(before.Count, after.Count);
+        Assert.Contains(before, t => t.Mjd); // the file mixes both forms
+        Assert.Contains(before, t => !t.Mjd);
+        Assert.All(before.Zip(after), pair => Assert.Equal(days, pair.Second.Day - pair.First.Day, 6));
+    }
+
+    private static List<(double Day, bool Mjd)> Times(System.Text.Json.Nodes.JsonNode root) => root["candidates"]!.AsArray()
+        .SelectMany(c => c!["photometry"]!.AsArray())
+        .Select(p => p!["mjd"] is { } mjd
+            ? ((double)mjd, true)
+            : (Triage.Core.LightCurves.ModifiedJulianDate.FromUtc(DateTimeOffset.Parse((string)p["timeUtc"]!, System.Globalization.CultureInfo.InvariantCulture)), false))
+        .ToList();
 
     [Fact]
     public void Tonight_IsTheUtcDateTwelveHoursAgo()
