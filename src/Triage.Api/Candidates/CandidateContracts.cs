@@ -80,7 +80,21 @@ public sealed record CandidateDetailResponse(
     /// sharper spectrum is taken. Nothing changes state: an unsettled candidate stays unsettled.
     /// </summary>
     public BestLabelResponse? BestLabel { get; init; }
+
+    /// <summary>
+    /// Other brokers' posts of the same transient (within the planner's same-transient radius and discovery gap), any
+    /// state; the plan takes one post per transient (docs/planner.md §10a).
+    /// </summary>
+    public IReadOnlyList<SameTransientPostResponse> SameTransient { get; init; } = [];
 }
+
+/// <summary>Another post of the same transient.</summary>
+/// <param name="Id">Its candidate id.</param>
+/// <param name="Broker">The broker (posting key) it came from.</param>
+/// <param name="BrokerCandidateId">The broker's own id.</param>
+/// <param name="State">Its lifecycle state.</param>
+/// <param name="SeparationArcsec">Angle between the two positions, arcseconds.</param>
+public sealed record SameTransientPostResponse(Guid Id, string Broker, string BrokerCandidateId, string State, double SeparationArcsec);
 
 /// <summary>The most probable subtype of a posterior (the first in the posterior's order on a tie).</summary>
 /// <param name="Label">Subtype.</param>

@@ -214,7 +214,8 @@ public static class CandidateEndpoints
     }
 
     public static async Task<Results<Ok<CandidateDetailResponse>, ProblemHttpResult>> GetCandidate(
-        Guid id, CandidateStore store, CandidateFitting fitting, IOptions<CandidateOptions> options, TimeProvider clock, DateTimeOffset? at, CancellationToken ct)
+        Guid id, CandidateStore store, CandidateFitting fitting, IOptions<CandidateOptions> options, IOptions<Triage.Api.Plans.PlannerOptions> planner,
+        TimeProvider clock, DateTimeOffset? at, CancellationToken ct)
     {
         if (at is { } atValue && !Ranges.Contains(atValue))
         {
@@ -241,7 +242,23 @@ public static class CandidateEndpoints
         {
             Posterior = detail.Posterior,
             BestLabel = BestLabelResponse.Of(detail.Posterior, options.Value.IdentificationConfidence),
+            SameTransient = await SameTransientPostsAsync(store, id, c, planner.Value, when, ct),
         });
+    }
+
+    /// <summary>The other posts within the planner's same-transient radius and discovery gap, nearest first.</summary>
+    private static async Task<IReadOnlyList<SameTransientPostResponse>> SameTransientPostsAsync(
+        CandidateStore store, Guid id, Candidate c, Triage.Api.Plans.PlannerOptions planner, DateTimeOffset when, CancellationToken ct)
+    {
+        var near = await store.ListAsync(new CandidateQuery(null, c.RaDeg, c.DecDeg, planner.SameTransientRadiusArcsec / 3600, null, when, null, null, 100), ct);
+        var gap = TimeSpan.FromDays(planner.SameTransientDays);
+        return near
+            .Where(r => r.Id != id && (r.DiscoveredAt - c.DiscoveredUtc).Duration() <= gap)
+            .Select(r => new SameTransientPostResponse(r.Id, r.Broker, r.BrokerCandidateId, r.State,
+                Math.Round(Triage.Core.Candidates.SameTransient.SeparationArcsec(c.RaDeg, c.DecDeg, r.RaDeg, r.DecDeg), 3)))
+            .Where(p => p.SeparationArcsec <= planner.SameTransientRadiusArcsec)
+            .OrderBy(p => p.SeparationArcsec).ThenBy(p => p.Id)
+            .ToList();
     }
 
     /// <summary>
@@ -249,7 +266,8 @@ public static class CandidateEndpoints
     /// 404 when none, 409 naming the brokers when several brokers use the same id.
     /// </summary>
     public static async Task<Results<Ok<CandidateDetailResponse>, ProblemHttpResult>> GetCandidateByBrokerId(
-        string brokerId, string? broker, CandidateStore store, CandidateFitting fitting, IOptions<CandidateOptions> options, TimeProvider clock, DateTimeOffset? at, CancellationToken ct)
+        string brokerId, string? broker, CandidateStore store, CandidateFitting fitting, IOptions<CandidateOptions> options, IOptions<Triage.Api.Plans.PlannerOptions> planner,
+        TimeProvider clock, DateTimeOffset? at, CancellationToken ct)
     {
         var rows = await store.ListAsync(new CandidateQuery(null, null, null, null, null, clock.GetUtcNow(), null, null, 10)
         {
@@ -259,7 +277,7 @@ public static class CandidateEndpoints
         return rows.Count switch
         {
             0 => Problems.NotFound("brokerId", $"No candidate with broker id '{brokerId}'{(broker is null ? "" : $" from broker '{broker}'")}."),
-            1 => await GetCandidate(rows[0].Id, store, fitting, options, clock, at, ct),
+            1 => await GetCandidate(rows[0].Id, store, fitting, options, planner, clock, at, ct),
             _ => Problems.Conflict("brokerId", $"Several brokers use the id '{brokerId}' ({string.Join(", ", rows.Select(r => r.Broker).Distinct())}); add ?broker= to choose."),
         };
     }

@@ -49,6 +49,15 @@ public sealed class SameTransientPlanTests(IsolatedDatabaseFactory api) : IClass
         var copyId = Assert.Single(JsonDocument.Parse(await scheduler.GetStringAsync($"/api/candidates?brokerId=OTHER-{brokerId}")).RootElement
             .GetProperty("items").EnumerateArray()).GetProperty("id").GetString()!;
 
+        // Each post's detail names the other, with the separation.
+        var copyDetail = JsonDocument.Parse(await scheduler.GetStringAsync($"/api/candidates/{copyId}")).RootElement;
+        var twin = Assert.Single(copyDetail.GetProperty("sameTransient").EnumerateArray());
+        Assert.Equal(keptId, twin.GetProperty("id").GetString());
+        Assert.Equal(brokerId, twin.GetProperty("brokerCandidateId").GetString());
+        Assert.Equal(0.6, twin.GetProperty("separationArcsec").GetDouble(), 2);
+        var keptDetail = JsonDocument.Parse(await scheduler.GetStringAsync($"/api/candidates/{keptId}")).RootElement;
+        Assert.Equal(copyId, Assert.Single(keptDetail.GetProperty("sameTransient").EnumerateArray()).GetProperty("id").GetString());
+
         var plan2 = await PlanAsync(scheduler, new { night = Night, timeLimitSeconds = 3 });
         var pool2 = plan2.GetProperty("pool");
         Assert.Equal(1, pool2.GetProperty("sameTransient").GetInt32());

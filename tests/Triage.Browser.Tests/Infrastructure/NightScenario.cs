@@ -130,7 +130,7 @@ public sealed class NightScenario
     };
 
     /// <summary>A rise and decline in g and r over a month (invented).</summary>
-    private static JsonObject CandidateBody(string id, double ra, double dec)
+    internal static JsonObject CandidateBody(string id, double ra, double dec)
     {
         var start = DateTimeOffset.UtcNow.AddDays(-30);
         var photometry = new JsonArray();

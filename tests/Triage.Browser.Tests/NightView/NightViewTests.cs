@@ -93,6 +93,25 @@ public sealed class NightViewTests(NightViewHost host)
         Assert.Empty(view.ConsoleErrors);
     }
 
+    [Fact]
+    public async Task CandidatePage_OfATransientPostedTwice_LinksTheOtherBrokersPost()
+    {
+        var s = await NightScenario.CreateAsync(host);
+        var admin = host.ClientWith(s.AdminKey);
+        var first = (await admin.GetFromJsonAsync<JsonObject>($"/api/candidates/{s.CandidateIds[0]}"))!["candidate"]!;
+        var otherBroker = host.ClientWith(await host.KeyAsync(Triage.Storage.Access.Scope.Broker));
+        var copy = NightScenario.CandidateBody($"NB-{s.BrokerIds[0]}", (double)first["raDeg"]!, (double)first["decDeg"]! + 0.7 / 3600);
+        var posted = await otherBroker.PostAsync("/api/candidates/batches", new StringContent(new JsonObject { ["candidates"] = new JsonArray(copy) }.ToJsonString(),
+            System.Text.Encoding.UTF8, "application/json"));
+        Assert.True(posted.IsSuccessStatusCode, await posted.Content.ReadAsStringAsync());
+
+        await using var view = await ViewSession.SignedInAsync(host, s, $"candidates/{s.CandidateIds[0]}");
+        var same = await view.Page.InnerTextAsync("dd.same-transient");
+        Assert.Contains($"NB-{s.BrokerIds[0]}", same, StringComparison.Ordinal);
+        Assert.Contains("0.70″", same, StringComparison.Ordinal);
+        Assert.Empty(view.ConsoleErrors);
+    }
+
     [Theory]
     [InlineData("candidates")]
     [InlineData("candidate")]
