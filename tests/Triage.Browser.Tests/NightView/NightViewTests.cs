@@ -88,6 +88,7 @@ public sealed class NightViewTests(NightViewHost host)
         var panel = await view.Page.InnerTextAsync(".block-detail");
         Assert.Contains("Also posted as", panel, StringComparison.Ordinal);
         Assert.Contains("b2c4e6f8/NB-7781", panel, StringComparison.Ordinal);
+        await view.ScreenshotAsync("tonight-same-transient");
         await view.Page.ClickAsync($".block[data-candidate=\"{s.CandidateIds[0]}\"]");
         Assert.DoesNotContain("Also posted as", await view.Page.InnerTextAsync(".block-detail"), StringComparison.Ordinal);
         Assert.Empty(view.ConsoleErrors);
@@ -109,6 +110,7 @@ public sealed class NightViewTests(NightViewHost host)
         var same = await view.Page.InnerTextAsync("dd.same-transient");
         Assert.Contains($"NB-{s.BrokerIds[0]}", same, StringComparison.Ordinal);
         Assert.Contains("0.70″", same, StringComparison.Ordinal);
+        await view.ScreenshotAsync("candidate-same-transient");
         Assert.Empty(view.ConsoleErrors);
     }
 
