@@ -139,7 +139,11 @@ public sealed record TransitionRequest(string? To, bool? Force, string? Reason);
 public sealed record IdentificationRequest(string? Label, string? Reason);
 
 /// <summary>Answer to a state change.</summary>
-public sealed record TransitionResponse(Guid Id, string From, string To);
+public sealed record TransitionResponse(Guid Id, string From, string To)
+{
+    /// <summary>After a confirmed label: other brokers' waiting posts of the same transient classified with it too.</summary>
+    public int OtherPostsClassified { get; init; }
+}
 
 /// <summary>
 /// Body of an observation report. <c>outcome</c>: done (needs achievedSnr &gt; 0), weather, failed.
@@ -168,5 +172,8 @@ public sealed record ObservationReportResponse(Guid ReportId, Guid CandidateId, 
 
     /// <summary>Why the report looks odd although it was accepted (far from its planned slot, not in the plan, another unit); empty when none.</summary>
     public IReadOnlyList<string> Warnings { get; init; } = [];
+
+    /// <summary>When the report classified the candidate: other brokers' waiting posts of the same transient classified with it.</summary>
+    public int OtherPostsClassified { get; init; }
 }
 

@@ -242,24 +242,18 @@ public static class CandidateEndpoints
         {
             Posterior = detail.Posterior,
             BestLabel = BestLabelResponse.Of(detail.Posterior, options.Value.IdentificationConfidence),
-            SameTransient = await SameTransientPostsAsync(store, id, c, planner.Value, when, ct),
+            SameTransient = await SameTransientPostsAsync(store, id, c, planner.Value, ct),
         });
     }
 
     /// <summary>The other posts within the planner's same-transient radius and discovery gap, nearest first.</summary>
     private static async Task<IReadOnlyList<SameTransientPostResponse>> SameTransientPostsAsync(
-        CandidateStore store, Guid id, Candidate c, Triage.Api.Plans.PlannerOptions planner, DateTimeOffset when, CancellationToken ct)
-    {
-        var near = await store.ListAsync(new CandidateQuery(null, c.RaDeg, c.DecDeg, planner.SameTransientRadiusArcsec / 3600, null, when, null, null, 100), ct);
-        var gap = TimeSpan.FromDays(planner.SameTransientDays);
-        return near
-            .Where(r => r.Id != id && (r.DiscoveredAt - c.DiscoveredUtc).Duration() <= gap)
+        CandidateStore store, Guid id, Candidate c, Triage.Api.Plans.PlannerOptions planner, CancellationToken ct) =>
+        (await store.SameTransientAsync(id, planner.Reach, ct))
             .Select(r => new SameTransientPostResponse(r.Id, r.Broker, r.BrokerCandidateId, r.State,
                 Math.Round(Triage.Core.Candidates.SameTransient.SeparationArcsec(c.RaDeg, c.DecDeg, r.RaDeg, r.DecDeg), 3)))
-            .Where(p => p.SeparationArcsec <= planner.SameTransientRadiusArcsec)
             .OrderBy(p => p.SeparationArcsec).ThenBy(p => p.Id)
             .ToList();
-    }
 
     /// <summary>
     /// A candidate by the broker's own id: the one candidate with that id (of <paramref name="broker"/> when given);
@@ -326,8 +320,8 @@ public static class CandidateEndpoints
     /// (its earlier labelled reports then count as trials of the units that made them).
     /// </summary>
     public static async Task<Results<Ok<TransitionResponse>, ValidationProblem, ProblemHttpResult>> ConfirmIdentification(
-        Guid id, IdentificationRequest request, CandidateStore store, IOptions<CandidateOptions> options, ClaimsPrincipal user,
-        TimeProvider clock, CancellationToken ct)
+        Guid id, IdentificationRequest request, CandidateStore store, IOptions<CandidateOptions> options, IOptions<Triage.Api.Plans.PlannerOptions> planner,
+        ClaimsPrincipal user, TimeProvider clock, CancellationToken ct)
     {
         var checks = new FieldChecks();
         if (request.Label is not { } label)
@@ -346,19 +340,24 @@ public static class CandidateEndpoints
         {
             return TypedResults.ValidationProblem(checks.ToDictionary());
         }
-        var (previous, confirmed) = await store.ConfirmLabelAsync(id, request.Label!, Caller.From(user).PublicId, request.Reason, clock.GetUtcNow(), ct);
+        var (previous, confirmed, followed) = await store.ConfirmLabelAsync(id, request.Label!, Caller.From(user).PublicId, request.Reason, clock.GetUtcNow(),
+            planner.Value.Reach, ct);
         return previous switch
         {
             null => Problems.NotFound("id", $"No candidate {id}."),
             _ when !confirmed => Problems.Conflict("id", $"The candidate is {CandidateLifecycle.Name(previous.Value)}; its label cannot be confirmed."),
-            _ => TypedResults.Ok(new TransitionResponse(id, CandidateLifecycle.Name(previous.Value), CandidateLifecycle.Name(CandidateState.Classified))),
+            _ => TypedResults.Ok(new TransitionResponse(id, CandidateLifecycle.Name(previous.Value), CandidateLifecycle.Name(CandidateState.Classified))
+            {
+                OtherPostsClassified = followed,
+            }),
         };
     }
 
     public static async Task<Results<Ok<ObservationReportResponse>, ValidationProblem, ProblemHttpResult>> ReportObservation(
         Guid id, ObservationReportRequest request, CandidateStore store, RosterStore roster, IOptions<CandidateOptions> options,
         PlanStore plans, ReplanScheduler replans, IdentificationModel identification, CandidateFitting fitting,
-        IObservationFollowUp followUp, ILogger<IObservationFollowUp> log, ClaimsPrincipal user, TimeProvider clock, CancellationToken ct)
+        IObservationFollowUp followUp, ILogger<IObservationFollowUp> log, IOptions<Triage.Api.Plans.PlannerOptions> planner, ClaimsPrincipal user,
+        TimeProvider clock, CancellationToken ct)
     {
         var now = clock.GetUtcNow();
         var checks = new FieldChecks();
@@ -437,10 +436,11 @@ public static class CandidateEndpoints
         CandidateState? state;
         Guid reportId;
         WeighedLabel? weighed;
+        int followed;
         try
         {
-            (result, state, reportId, weighed) = await store.ReportObservationAsync(id, spectrograph.Value.Id, outcome, request.AchievedSnr,
-                request.ClassifiedLabel, request.ObservedUtc!.Value.ToUniversalTime(), Caller.From(user).PublicId, now, evidence, ct);
+            (result, state, reportId, weighed, followed) = await store.ReportObservationAsync(id, spectrograph.Value.Id, outcome, request.AchievedSnr,
+                request.ClassifiedLabel, request.ObservedUtc!.Value.ToUniversalTime(), Caller.From(user).PublicId, now, evidence, planner.Value.Reach, ct);
         }
         catch (ArgumentException e)
         {
@@ -477,6 +477,7 @@ public static class CandidateEndpoints
                 Posterior = weighed?.PosteriorJson is { } p ? JsonSerializer.Deserialize<Dictionary<string, double>>(p) : null,
                 Detail = weighed?.Detail,
                 Warnings = warnings,
+                OtherPostsClassified = followed,
             }),
         };
     }

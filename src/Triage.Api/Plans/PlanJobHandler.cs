@@ -267,6 +267,9 @@ public sealed class PlannerOptions
 
     /// <summary>… and discovered within this many days of each other. Default 100.</summary>
     public double SameTransientDays { get; set; } = 100;
+
+    /// <summary>The two as the store takes them.</summary>
+    public Triage.Storage.Candidates.SameTransientReach Reach => new(SameTransientRadiusArcsec, SameTransientDays);
 }
 
 /// <summary>Passes progress on and remembers how long each step (the time between two reports) took, for the log.</summary>

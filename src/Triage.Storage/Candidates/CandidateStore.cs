@@ -432,25 +432,27 @@ public sealed partial class CandidateStore(NpgsqlDataSource dataSource)
     /// <paramref name="label"/> whatever its posterior (refused when abandoned).
     /// </summary>
     /// <returns>The state before, and whether it was changed (false: unknown candidate or abandoned).</returns>
-    public async Task<(CandidateState? Previous, bool Confirmed)> ConfirmLabelAsync(
-        Guid id, string label, string actor, string? reason, DateTimeOffset now, CancellationToken ct = default)
+    /// <param name="follow">When given, the other waiting posts of the transient follow the classification.</param>
+    public async Task<(CandidateState? Previous, bool Confirmed, int Followed)> ConfirmLabelAsync(
+        Guid id, string label, string actor, string? reason, DateTimeOffset now, SameTransientReach? follow = null, CancellationToken ct = default)
     {
         await using var conn = await dataSource.OpenConnectionAsync(ct);
         await using var tx = await conn.BeginTransactionAsync(ct);
         var current = await conn.QuerySingleOrDefaultAsync<string?>(new CommandDefinition(LockStateSql, new { id }, tx, cancellationToken: ct));
         if (current is null || !CandidateLifecycle.TryParse(current, out var from))
         {
-            return (null, false);
+            return (null, false, 0);
         }
         if (from == CandidateState.Abandoned)
         {
-            return (from, false);
+            return (from, false, 0);
         }
         await conn.ExecuteAsync(new CommandDefinition(SetStateSql, new { id, to = CandidateLifecycle.Name(CandidateState.Classified), label, now = now.UtcDateTime }, tx, cancellationToken: ct));
         await InsertEventAsync(conn, tx, id, now, "transition", current, CandidateState.Classified, actor,
             $"label {label} confirmed" + (string.IsNullOrWhiteSpace(reason) ? "" : $": {reason}"), ct);
+        var followed = follow is null ? 0 : await FollowClassificationAsync(conn, tx, id, label, actor, now, follow, ct);
         await tx.CommitAsync(ct);
-        return (from, true);
+        return (from, true, followed);
     }
 
     private const string InsertReportSql = """
@@ -474,20 +476,21 @@ public sealed partial class CandidateStore(NpgsqlDataSource dataSource)
     /// When the callback throws, nothing is stored (the transaction is rolled back) and the
     /// exception propagates.
     /// </remarks>
-    public async Task<(ReportOutcome Outcome, CandidateState? State, Guid ReportId, WeighedLabel? Weighed)> ReportObservationAsync(
+    /// <param name="follow">When given and the report classifies the candidate, the other waiting posts of its transient follow.</param>
+    public async Task<(ReportOutcome Outcome, CandidateState? State, Guid ReportId, WeighedLabel? Weighed, int Followed)> ReportObservationAsync(
         Guid id, Guid spectrographId, ObservationOutcome outcome, double? achievedSnr, string? label, DateTimeOffset observedAt,
-        string actor, DateTimeOffset now, LabelEvidence? evidence = null, CancellationToken ct = default)
+        string actor, DateTimeOffset now, LabelEvidence? evidence = null, SameTransientReach? follow = null, CancellationToken ct = default)
     {
         await using var conn = await dataSource.OpenConnectionAsync(ct);
         await using var tx = await conn.BeginTransactionAsync(ct);
         var locked = await conn.QuerySingleOrDefaultAsync<LockedBelief>(new CommandDefinition(LockBeliefSql, new { id }, tx, cancellationToken: ct));
         if (locked is null || !CandidateLifecycle.TryParse(locked.State, out var from))
         {
-            return (ReportOutcome.UnknownCandidate, null, Guid.Empty, null);
+            return (ReportOutcome.UnknownCandidate, null, Guid.Empty, null, 0);
         }
         if (CandidateLifecycle.AfterReport(from, outcome, label is not null) is null)
         {
-            return (ReportOutcome.RefusedInState, from, Guid.Empty, null);
+            return (ReportOutcome.RefusedInState, from, Guid.Empty, null, 0);
         }
         var weighed = label is not null && evidence is not null ? evidence.Weigh(new StoredBelief(locked.Posterior)) : null;
         var to = CandidateLifecycle.AfterReport(from, outcome, label is not null, weighed?.Settled ?? true)!.Value;
@@ -520,8 +523,11 @@ public sealed partial class CandidateStore(NpgsqlDataSource dataSource)
         }
         await InsertEventAsync(conn, tx, id, now, "observation", locked.State, to, actor,
             weighed?.Detail ?? (label is null ? $"{outcomeName} on {spectrographId}" : $"{outcomeName} on {spectrographId}: {label}"), ct);
+        var followed = follow is not null && to == CandidateState.Classified && storedLabel is not null
+            ? await FollowClassificationAsync(conn, tx, id, storedLabel, actor, now, follow, ct)
+            : 0;
         await tx.CommitAsync(ct);
-        return (ReportOutcome.Recorded, to, reportId, weighed);
+        return (ReportOutcome.Recorded, to, reportId, weighed, followed);
     }
 
     // ---- row shapes (Dapper) --------------------------------------------------------------

@@ -2,7 +2,9 @@ using System.Text.Json;
 using System.Text.Json.Nodes;
 using Microsoft.Extensions.DependencyInjection;
 using Triage.Api.Tests.Infrastructure;
+using Triage.Core.Candidates;
 using Triage.Storage.Access;
+using Triage.Storage.Candidates;
 using Triage.Storage.Roster;
 
 namespace Triage.Api.Tests.Plans;
@@ -88,6 +90,78 @@ public sealed class SameTransientPlanTests(IsolatedDatabaseFactory api) : IClass
         Assert.DoesNotContain(keptId, InPool(plan3));
         Assert.DoesNotContain(copyId, InPool(plan3));
         Assert.Equal(1, plan3.GetProperty("pool").GetProperty("sameTransient").GetInt32());
+
+        // A scheduler confirms the subtype of the kept post: the other broker's post is classified with it.
+        var confirmed = await scheduler.PostAsync($"/api/candidates/{keptId}/identification", Bodies.Raw("""{"label":"Ia","reason":"sharp lines"}"""));
+        Assert.True(confirmed.IsSuccessStatusCode, await confirmed.Content.ReadAsStringAsync());
+        Assert.Equal(1, JsonDocument.Parse(await confirmed.Content.ReadAsStringAsync()).RootElement.GetProperty("otherPostsClassified").GetInt32());
+        var followed = JsonDocument.Parse(await scheduler.GetStringAsync($"/api/candidates/{copyId}")).RootElement;
+        Assert.Equal("classified", followed.GetProperty("candidate").GetProperty("state").GetString());
+        Assert.Equal("Ia", followed.GetProperty("candidate").GetProperty("classifiedLabel").GetString());
+        Assert.Contains(followed.GetProperty("history").EnumerateArray(), h => h.GetProperty("detail").GetString() is { } d
+            && d.Contains($"identified as Ia through {kept.GetProperty("broker").GetString()}/{brokerId}", StringComparison.Ordinal));
+    }
+
+    [Fact]
+    public async Task AClassifyingReport_ClassifiesTheOtherWaitingPostsOfItsTransient_Only()
+    {
+        var store = api.Services.GetRequiredService<CandidateStore>();
+        var now = DateTimeOffset.UtcNow;
+        var ra = Math.Round(Random.Shared.NextDouble() * 350, 5);
+        var tag = Guid.NewGuid().ToString("N")[..8];
+        const double Arcsec = 1.0 / 3600;
+        var scheduler = api.ClientWith(await api.KeyAsync(Scope.Scheduler));
+        async Task<Guid> PostAsync(string name, double dec, double discoveredDaysAgo)
+        {
+            var broker = api.ClientWith(await api.KeyAsync(Scope.Broker));
+            var body = new JsonObject
+            {
+                ["candidates"] = new JsonArray(new JsonObject
+                {
+                    ["id"] = $"{name}-{tag}", ["raDeg"] = ra, ["decDeg"] = dec, ["discoveredUtc"] = now.AddDays(-discoveredDaysAgo).ToString("O"),
+                    ["photometry"] = new JsonArray(new JsonObject
+                    {
+                        ["timeUtc"] = now.AddDays(-discoveredDaysAgo + 1).ToString("O"), ["band"] = "r", ["fluxMicroJy"] = 40.0, ["fluxMicroJyError"] = 2.0,
+                    }),
+                }),
+            };
+            var posted = await broker.PostAsync("/api/candidates/batches", Bodies.Json(body));
+            Assert.True(posted.IsSuccessStatusCode, await posted.Content.ReadAsStringAsync());
+            return Guid.Parse(Assert.Single(JsonDocument.Parse(await scheduler.GetStringAsync($"/api/candidates?brokerId={name}-{tag}")).RootElement
+                .GetProperty("items").EnumerateArray()).GetProperty("id").GetString()!);
+        }
+
+        var a = await PostAsync("A", -30, 5);
+        var b = await PostAsync("B", -30 + 0.5 * Arcsec, 3);          // the same transient, another broker
+        var earlier = await PostAsync("C", -30 - 0.8 * Arcsec, 200);  // the same place, a season earlier
+        var far = await PostAsync("D", -30 + 2.0 * Arcsec, 4);        // 2″ away
+        var given = await PostAsync("E", -30 - 0.3 * Arcsec, 4);      // the same transient, abandoned by a scheduler
+        await store.TransitionAsync(given, CandidateState.Abandoned, _ => true, "test", "not wanted", now);
+        var reach = new SameTransientReach(1.5, 100);
+        Assert.Equal(new[] { b, given }.Order(), (await store.SameTransientAsync(a, reach)).Select(r => r.Id).Order());
+
+        // A unit of its own to report on (the demo roster's first, under new ids and names).
+        var (sites, units) = Triage.Core.Roster.RosterJson.Parse(await File.ReadAllTextAsync(Repository.File("demo", "roster.json")));
+        var site = sites[0] with { Id = Guid.NewGuid(), Name = $"Follow Mesa {tag}" };
+        var unit = units.First(u => u.SiteId == sites[0].Id) with { Id = Guid.NewGuid(), SiteId = site.Id, Name = $"Follow-{tag}" };
+        var roster = api.Services.GetRequiredService<RosterStore>();
+        await roster.InsertSiteAsync(site, now);
+        await roster.InsertSpectrographAsync(unit, now);
+
+        var (outcome, state, _, _, followed) = await store.ReportObservationAsync(a, unit.Id, ObservationOutcome.Done, 15, "IIn",
+            now.AddHours(-1), "test observatory", now, follow: reach);
+
+        Assert.Equal((ReportOutcome.Recorded, CandidateState.Classified, 1), (outcome, state, followed));
+        Assert.Equal(("classified", "IIn"), await StateAsync(b));
+        Assert.Equal("new", (await StateAsync(earlier)).State);
+        Assert.Equal("new", (await StateAsync(far)).State);
+        Assert.Equal("abandoned", (await StateAsync(given)).State);
+
+        async Task<(string State, string? Label)> StateAsync(Guid id)
+        {
+            var c = JsonDocument.Parse(await scheduler.GetStringAsync($"/api/candidates/{id}")).RootElement.GetProperty("candidate");
+            return (c.GetProperty("state").GetString()!, c.TryGetProperty("classifiedLabel", out var l) && l.ValueKind == JsonValueKind.String ? l.GetString() : null);
+        }
     }
 
     private static string Single(JsonElement plan, string candidateId) =>
