@@ -38,46 +38,60 @@ public sealed class SameTransientTests
             Post("d", 359.99995, -30.0, discoveredDaysAgo: 250),      // 3: a's place, a season earlier
             Post("e", 359.99995, -30.0 + 1.2 * Arcsec),               // 4: 1.2″ north of a, 0.8″ south of c
         };
-        // 1.5″: a–b, a–e and e–c chain into one transient; d is another epoch.
-        Assert.Equal([[0, 1, 2, 4], [3]], SameTransient.Groups(posts).Select(g => g.ToArray()).ToArray());
-        // 1.0″: a–b stay joined, e–c too; a–e (1.2″) and b–e (1.27″) no longer.
+        // 1.5″: a stands (first by id) and takes b (0.47″) and e (1.2″); c is 0.8″ from e but 2″ from a: groups are
+        // stars around the post that stands, not chains, so c is a transient of its own; d is another epoch.
+        Assert.Equal([[0, 1, 4], [2], [3]], SameTransient.Groups(posts).Select(g => g.ToArray()).ToArray());
+        // 1.0″: a takes b only; c then takes e.
         Assert.Equal([[0, 1], [2, 4], [3]],
             SameTransient.Groups(posts, new SameTransientSettings { RadiusArcsec = 1.0 }).Select(g => g.ToArray()).ToArray());
-        // A 300-day gap joins d as well.
-        Assert.Equal([[0, 1, 2, 3, 4]],
+        // A 300-day gap lets a take d as well.
+        Assert.Equal([[0, 1, 3, 4], [2]],
             SameTransient.Groups(posts, new SameTransientSettings { MaxDiscoveryGapDays = 300 }).Select(g => g.ToArray()).ToArray());
     }
 
     [Fact]
-    public void Groups_OfACrowdedField_EqualTheAllPairsComponents()
+    public void Groups_OfACrowdedField_AreTheStarsOfAnAllPairsGreedyPass()
     {
-        // 3,000 posts in a 0.1° square across RA 0 (about 0.16 neighbours within 1.5″ each, so pairs and some chains),
+        // 3,000 posts in a 0.1° square across RA 0 (about 0.16 linked neighbours each, so pairs and chains),
         // discovered over 300 days.
         var random = new Random(20261203);
         var posts = Enumerable.Range(0, 3000).Select(i => Post($"p{i:D4}", 359.95 + random.NextDouble() * 0.1 is var ra && ra >= 360 ? ra - 360 : ra,
             -45 + random.NextDouble() * 0.1, discoveredDaysAgo: random.NextDouble() * 300)).ToList();
-        var settings = new SameTransientSettings { RadiusArcsec = 1.5, MaxDiscoveryGapDays = 100 };
+        bool Linked(int i, int j) => SameTransient.SeparationArcsec(posts[i].RaDeg, posts[i].DecDeg, posts[j].RaDeg, posts[j].DecDeg) <= 1.5
+            && Math.Abs((posts[i].DiscoveredAtUtc - posts[j].DiscoveredAtUtc).TotalDays) <= 100;
 
-        var parent = Enumerable.Range(0, posts.Count).ToArray();
-        int Root(int i) => parent[i] == i ? i : parent[i] = Root(parent[i]);
+        // The reference: every pair tested; in id order each post not yet grouped takes every linked post not yet grouped.
+        var centre = Enumerable.Repeat(-1, posts.Count).ToArray();
         var pairs = 0;
         for (var i = 0; i < posts.Count; i++)
         {
             for (var j = i + 1; j < posts.Count; j++)
             {
-                if (SameTransient.SeparationArcsec(posts[i].RaDeg, posts[i].DecDeg, posts[j].RaDeg, posts[j].DecDeg) <= 1.5
-                    && Math.Abs((posts[i].DiscoveredAtUtc - posts[j].DiscoveredAtUtc).TotalDays) <= 100)
+                pairs += Linked(i, j) ? 1 : 0;
+            }
+            if (centre[i] >= 0)
+            {
+                continue;
+            }
+            centre[i] = i;
+            for (var j = i + 1; j < posts.Count; j++)
+            {
+                if (centre[j] < 0 && Linked(i, j))
                 {
-                    pairs++;
-                    parent[Root(i)] = Root(j);
+                    centre[j] = i;
                 }
             }
         }
-        var expected = Enumerable.Range(0, posts.Count).GroupBy(Root).Select(g => g.Order().ToArray()).OrderBy(g => g[0]).ToArray();
+        var expected = Enumerable.Range(0, posts.Count).GroupBy(i => centre[i]).Select(g => g.Order().ToArray()).OrderBy(g => g[0]).ToArray();
+        var groups = SameTransient.Groups(posts).Select(g => g.ToArray()).ToArray();
 
         Assert.InRange(pairs, 20, 1000); // crowded enough to test something, not one blob
         Assert.Contains(expected, g => g.Length >= 3);
-        Assert.Equal(expected, SameTransient.Groups(posts, settings).Select(g => g.ToArray()).ToArray());
+        Assert.Equal(expected, groups);
+        // Stars: each post is linked to the one that stands for its group; no two that stand are linked.
+        Assert.All(groups, g => Assert.All(g.Skip(1), m => Assert.True(Linked(g[0], m))));
+        var standing = groups.Select(g => g[0]).ToArray();
+        Assert.DoesNotContain(standing.SelectMany((a, x) => standing.Skip(x + 1).Select(b => (a, b))), p => Linked(p.a, p.b));
     }
 
     [Fact]
