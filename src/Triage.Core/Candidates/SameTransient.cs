@@ -59,7 +59,7 @@ public sealed record SameTransientSettings
 /// <summary>The grouping's verdict on the waiting posts.</summary>
 /// <param name="Kept">Waiting or unsettled posts that stand for their transient (every post alone in its group among them), in input order.</param>
 /// <param name="StandsFor">Post left out → the post of the same transient that stands for it (kept, executing or observed).</param>
-/// <param name="AlsoPostedAs">Kept post → the other posts of its transient (any standing), by id; only for groups of two or more.</param>
+/// <param name="AlsoPostedAs">Post that stands for a group of two or more (kept, executing or observed) → the other posts of its transient (any standing), by id.</param>
 public sealed record SameTransientSelection(
     IReadOnlyList<string> Kept,
     IReadOnlyDictionary<string, string> StandsFor,
@@ -115,7 +115,7 @@ public static class SameTransient
         }
 
         var kept = Enumerable.Range(0, posts.Count).Where(i => centre[i] == i && Waiting(posts[i])).ToList();
-        var also = kept.Where(members.ContainsKey).ToDictionary(
+        var also = members.Keys.Order().ToDictionary(
             i => posts[i].Id,
             i => (IReadOnlyList<string>)members[i].Select(m => posts[m].Id).Order(StringComparer.Ordinal).ToList(),
             StringComparer.Ordinal);

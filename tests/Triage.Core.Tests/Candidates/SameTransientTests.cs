@@ -139,6 +139,9 @@ public sealed class SameTransientTests
         Assert.Equal("seen-a", selection.StandsFor["new-c"]);
         Assert.Equal("now-x", selection.StandsFor["new-y"]);
         Assert.Equal(3, selection.StandsFor.Count);
-        Assert.Empty(selection.AlsoPostedAs);
+        // The post being observed names the others (its entry stays in the plan as it was).
+        Assert.Equal(["new-y"], selection.AlsoPostedAs["now-x"]);
+        Assert.Equal(["new-b", "new-c"], selection.AlsoPostedAs["seen-a"]);
+        Assert.Equal(2, selection.AlsoPostedAs.Count);
     }
 }
