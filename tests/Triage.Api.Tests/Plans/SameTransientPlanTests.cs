@@ -63,7 +63,8 @@ public sealed class SameTransientPlanTests(IsolatedDatabaseFactory api) : IClass
         var plan2 = await PlanAsync(scheduler, new { night = Night, timeLimitSeconds = 3 });
         var pool2 = plan2.GetProperty("pool");
         Assert.Equal(1, pool2.GetProperty("sameTransient").GetInt32());
-        Assert.Equal(41, pool2.GetProperty("waiting").GetInt32());
+        // One more waiting post than before (other tests of the class may add their own candidates first).
+        Assert.Equal(plan1.GetProperty("pool").GetProperty("waiting").GetInt32() + 1, pool2.GetProperty("waiting").GetInt32());
         Assert.Contains("not planned twice", pool2.GetProperty("reason").GetString(), StringComparison.Ordinal);
         Assert.DoesNotContain(copyId, InPool(plan2));
         var kept = Assert.Single(Entries(plan2), e => e.Entry.GetProperty("candidateId").GetString() == keptId).Entry;
