@@ -95,6 +95,21 @@ public class UnitOutcomesTests
     }
 
     [Fact]
+    public void GuessShare_OfAUnitThatConfusesOnePairOnly_IsReadAsGuessing_AKnownLimitation()
+    {
+        // 60 trials of a frequent subtype all answered as the one neighbour the calibration gives 0.02, 40 trials of
+        // others answered right at 0.7, K = 14 (u = 1/14). The derivative 60(u − 0.02)/((1 − d)0.02 + du) +
+        // 40(u − 0.7)/((1 − d)0.7 + du) is 0 where d = 203/396 = 0.512626 (worked by hand: the numerators make it
+        // linear in d; also scipy.optimize.brentq, Debian python3-scipy, 0.5126262626). The unit is not guessing: it
+        // is right on every other row, yet half of every row is mixed with uniform answers. Documented in
+        // docs/sequential-triage.md §4; the per-row counts are what corrects a structured error.
+        var answers = Enumerable.Repeat(0.02, 60).Concat(Enumerable.Repeat(0.7, 40)).ToList();
+        Assert.Equal(203.0 / 396, UnitOutcomes.MaximumLikelihoodGuessShare(answers, 1.0 / 14), 9);
+        // With the neighbour's calibrated probability above u (0.08), every answer is at least as likely as a uniform one: d̂ = 0.
+        Assert.Equal(0, UnitOutcomes.MaximumLikelihoodGuessShare(Enumerable.Repeat(0.08, 60).Concat(Enumerable.Repeat(0.7, 40)).ToList(), 1.0 / 14));
+    }
+
+    [Fact]
     public void GuessShare_AnswersAsLikelyAsModelledOrBetter_IsZero()
     {
         // Every answer correct at model probability 0.8 > 1/3: the likelihood falls with d from d = 0.
