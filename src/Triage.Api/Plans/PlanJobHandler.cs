@@ -93,7 +93,7 @@ public sealed class PlanJobHandler(
         progress.Report(new JobProgress(0.4, "building the night"));
         // The identification objective plans with each unit's calibration combined with its own outcomes.
         var sequential = input.Objective == PlanObjective.Identification
-            ? new SequentialPlanSettings { Channels = LearnedChannels(surface, await candidates.LabelledTrialsAsync(ct)) }
+            ? new SequentialPlanSettings { Channels = LearnedChannels(surface, await candidates.LabelledTrialsAsync(ct), options.Value.UnitReliability) }
             : new SequentialPlanSettings();
         var night = NightProblemBuilder.Build(sites, spectrographs, targets, surface, input.Night, from, new NightBuildSettings
         {
@@ -151,9 +151,9 @@ public sealed class PlanJobHandler(
     }
 
     /// <summary>The labelled reports of identified candidates as trials of their units (labels the calibration knows only).</summary>
-    internal static UnitOutcomes LearnedChannels(AccuracySurface surface, IReadOnlyList<LabelledTrialRow> trials)
+    internal static UnitOutcomes LearnedChannels(AccuracySurface surface, IReadOnlyList<LabelledTrialRow> trials, bool unitReliability = true)
     {
-        var outcomes = new UnitOutcomes(surface);
+        var outcomes = new UnitOutcomes(surface, new UnitOutcomeSettings { UnitReliability = unitReliability });
         var index = surface.Subtypes.Select((s, i) => (s, i)).ToDictionary(t => t.s, t => t.i, StringComparer.Ordinal);
         foreach (var t in trials)
         {
@@ -267,6 +267,12 @@ public sealed class PlannerOptions
 
     /// <summary>… and discovered within this many days of each other. Default 100.</summary>
     public double SameTransientDays { get; set; } = 100;
+
+    /// <summary>
+    /// Mix each unit's channel with its estimated share of uniform guesses (docs/sequential-triage.md §4). Default on;
+    /// off for a network whose units err in structured ways (one subtype confused with another) rather than at random.
+    /// </summary>
+    public bool UnitReliability { get; set; } = true;
 
     /// <summary>The two as the store takes them.</summary>
     public Triage.Storage.Candidates.SameTransientReach Reach => new(SameTransientRadiusArcsec, SameTransientDays);

@@ -30,6 +30,7 @@ public sealed class ArrivalWatch(
     ReplanScheduler replans,
     TimeProvider clock,
     IOptions<ReplanOptions> options,
+    IOptions<Triage.Api.Plans.PlannerOptions> planner,
     ILogger<ArrivalWatch> log) : BackgroundService
 {
     private long _notices;
@@ -138,7 +139,7 @@ public sealed class ArrivalWatch(
             // Valued as the plan job values them: under identification with each unit's channel learned from its outcomes.
             if (plan.Objective == PlanObjective.Identification)
             {
-                sequential ??= new SequentialPlanSettings { Channels = PlanJobHandler.LearnedChannels(active.Surface, await candidates.LabelledTrialsAsync(ct)) };
+                sequential ??= new SequentialPlanSettings { Channels = PlanJobHandler.LearnedChannels(active.Surface, await candidates.LabelledTrialsAsync(ct), planner.Value.UnitReliability) };
             }
 
             var built = NightProblemBuilder.Build(sites, spectrographs, targets.Where(t => arrivals.Contains(Guid.Parse(t.Id))).ToList(), active.Surface, night, now, new NightBuildSettings
