@@ -43,11 +43,7 @@ public class IsolatedDatabaseFactory : TriageApiFactory
         if (disposing && _connection.IsValueCreated)
         {
             NpgsqlConnection.ClearAllPools();
-            var admin = new NpgsqlConnectionStringBuilder(ConnectionString) { Database = "postgres", Pooling = false };
-            using var conn = new NpgsqlConnection(admin.ConnectionString);
-            conn.Open();
-            using var cmd = new NpgsqlCommand($"DROP DATABASE IF EXISTS {_database} WITH (FORCE)", conn);
-            cmd.ExecuteNonQuery();
+            ScratchDatabases.Drop(_database);
         }
     }
 }

@@ -98,7 +98,7 @@ public sealed class SchemaHistoryTests
         public static async Task<ScratchDatabase> CreateAsync()
         {
             string name = "triage_iso_" + Guid.NewGuid().ToString("N")[..12];
-            await using (var admin = new NpgsqlConnection(Admin()))
+            await using (var admin = new NpgsqlConnection(ScratchDatabases.Admin()))
             {
                 await admin.OpenAsync();
                 await admin.ExecuteAsync($"CREATE DATABASE {name}");
@@ -110,29 +110,7 @@ public sealed class SchemaHistoryTests
         public async ValueTask DisposeAsync()
         {
             await Data.DisposeAsync();
-            await using var admin = new NpgsqlConnection(Admin());
-            await admin.OpenAsync();
-            // A server process (autovacuum) may still be on the new database for a moment, and the
-            // triage role may not end it; try again briefly. deploy/test.sh drops leftovers anyway.
-            for (int attempt = 0; ; attempt++)
-            {
-                try
-                {
-                    await admin.ExecuteAsync($"DROP DATABASE IF EXISTS {_name} WITH (FORCE)");
-                    return;
-                }
-                catch (PostgresException e) when (e.SqlState is PostgresErrorCodes.InsufficientPrivilege or PostgresErrorCodes.ObjectInUse && attempt < 20)
-                {
-                    await Task.Delay(250);
-                }
-                catch (PostgresException e) when (e.SqlState is PostgresErrorCodes.InsufficientPrivilege or PostgresErrorCodes.ObjectInUse)
-                {
-                    return;
-                }
-            }
+            ScratchDatabases.Drop(_name);
         }
-
-        private static string Admin() =>
-            new NpgsqlConnectionStringBuilder(TriageApiFactory.ConnectionString) { Database = "postgres", Pooling = false }.ConnectionString;
     }
 }
