@@ -127,6 +127,7 @@ public sealed class ArrivalWatch(
             var plan = PlanJson.Deserialize(latest.BodyJson);
             var computed = plan.GeneratedUtc ?? latest.Row.CreatedAt;
             var arrivals = created.Where(c => c.CreatedAt > computed).Select(c => c.Id).ToHashSet();
+            arrivals = await NewTransientsAsync(arrivals, ct);
             if (arrivals.Count == 0)
             {
                 continue;
@@ -165,6 +166,25 @@ public sealed class ArrivalWatch(
             replans.Request(night, "candidate", detail);
             log.LogInformation("Arrivals worth a replan of {Night}: {Detail}", night, detail);
         }
+    }
+
+    /// <summary>
+    /// The arrivals that are new transients: not another broker's post of one the version already weighed (a linked post
+    /// older than the version, in any state but abandoned or stale) or one whose spectrum is taken. The replan would
+    /// take such a post out of its pool again (docs/planner.md §10a), so it is no reason to replan.
+    /// </summary>
+    private async Task<HashSet<Guid>> NewTransientsAsync(HashSet<Guid> arrivals, CancellationToken ct)
+    {
+        var fresh = new HashSet<Guid>();
+        foreach (var id in arrivals)
+        {
+            var linked = await candidates.SameTransientAsync(id, planner.Value.Reach, ct);
+            if (!linked.Any(r => r.State is not ("abandoned" or "stale") && !arrivals.Contains(r.Id)))
+            {
+                fresh.Add(id);
+            }
+        }
+        return fresh;
     }
 
     private async Task<List<ITargetForecast>> ForecastsAsync(IReadOnlyList<Guid> ids, AccuracySurface surface, double referenceWavelength, CancellationToken ct)

@@ -30,10 +30,13 @@ public sealed class ArrivalReplanTests(NightClockFactory api) : IClassFixture<Ni
             .MaxBy(e => e.GetProperty("value").GetDouble() / (e.GetProperty("endUtc").GetDateTimeOffset() - e.GetProperty("startUtc").GetDateTimeOffset()).TotalHours);
         var brokerId = best.GetProperty("brokerCandidateId").GetString()!;
         var demo = JsonNode.Parse(await File.ReadAllTextAsync(Repository.File("demo", "candidates.json")))!["candidates"]!.AsArray();
-        JsonObject Twin(string id, double dimmedBy)
+        // A twin stands 10″ north of the original: another transient of the same kind (a copy within 1.5″ would be
+        // another broker's post of the same one, which the plan takes only once; checked last).
+        JsonObject Twin(string id, double dimmedBy, double northArcsec = 10)
         {
             var twin = demo.Single(c => c!["id"]!.GetValue<string>() == brokerId)!.DeepClone().AsObject();
             twin["id"] = id;
+            twin["decDeg"] = twin["decDeg"]!.GetValue<double>() + northArcsec / 3600;
             foreach (var p in twin["photometry"]!.AsArray())
             {
                 p!["magAb"] = p["magAb"]!.GetValue<double>() + dimmedBy;
@@ -58,6 +61,16 @@ public sealed class ArrivalReplanTests(NightClockFactory api) : IClassFixture<Ni
         Assert.DoesNotContain(versions, v => Detail(v).Contains("TG26-90001", StringComparison.Ordinal));
         var replanned = JsonDocument.Parse(await scheduler.GetStringAsync($"/api/plans/{night}?version={meta.GetProperty("version").GetInt32()}")).RootElement;
         Assert.True(replanned.GetProperty("version").GetProperty("plannedFrom").GetDateTimeOffset() >= now);
+
+        // Another broker posts the planned original again, 0.5″ away: the same transient, no reason to replan.
+        var otherBroker = api.ClientWith(await api.KeyAsync(Triage.Storage.Access.Scope.Broker));
+        await WaitAsync(() => watch.Looks > looks + 1, TimeSpan.FromSeconds(60)); // past the look that saw TG26-90002
+        looks = watch.Looks;
+        var triggered = watch.Triggered;
+        var copy = await otherBroker.PostAsync("/api/candidates/batches", Bodies.Json(new JsonObject { ["candidates"] = new JsonArray(Twin("TG26-90003", 0, 0.5)) }));
+        Assert.True(copy.IsSuccessStatusCode, await copy.Content.ReadAsStringAsync());
+        await WaitAsync(() => watch.Looks > looks, TimeSpan.FromSeconds(60)); // the look its arrival notice wakes
+        Assert.Equal(triggered, watch.Triggered);
     }
 
     private static string Detail(JsonElement version) =>
