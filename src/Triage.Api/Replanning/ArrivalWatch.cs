@@ -127,7 +127,7 @@ public sealed class ArrivalWatch(
             var plan = PlanJson.Deserialize(latest.BodyJson);
             var computed = plan.GeneratedUtc ?? latest.Row.CreatedAt;
             var arrivals = created.Where(c => c.CreatedAt > computed).Select(c => c.Id).ToHashSet();
-            arrivals = await NewTransientsAsync(arrivals, ct);
+            arrivals = await NewTransientsAsync(arrivals, computed, ct);
             if (arrivals.Count == 0)
             {
                 continue;
@@ -170,16 +170,17 @@ public sealed class ArrivalWatch(
 
     /// <summary>
     /// The arrivals that are new transients: not another broker's post of one the version already weighed (a linked post
-    /// older than the version, in any state but abandoned or stale) or one whose spectrum is taken. The replan would
-    /// take such a post out of its pool again (docs/planner.md §10a), so it is no reason to replan.
+    /// stored before the version was computed, in any state but abandoned or stale) or one whose spectrum is taken. The
+    /// replan would take such a post out of its pool again (docs/planner.md §10a), so it is no reason to replan.
     /// </summary>
-    private async Task<HashSet<Guid>> NewTransientsAsync(HashSet<Guid> arrivals, CancellationToken ct)
+    private async Task<HashSet<Guid>> NewTransientsAsync(HashSet<Guid> arrivals, DateTimeOffset versionComputed, CancellationToken ct)
     {
         var fresh = new HashSet<Guid>();
         foreach (var id in arrivals)
         {
             var linked = await candidates.SameTransientAsync(id, planner.Value.Reach, ct);
-            if (!linked.Any(r => r.State is not ("abandoned" or "stale") && !arrivals.Contains(r.Id)))
+            if (!linked.Any(r => r.State is "observed" or "classified"
+                || (r.State is not ("abandoned" or "stale") && r.CreatedAt <= versionComputed)))
             {
                 fresh.Add(id);
             }

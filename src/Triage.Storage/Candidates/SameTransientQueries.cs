@@ -10,7 +10,8 @@ namespace Triage.Storage.Candidates;
 public sealed record SameTransientReach(double RadiusArcsec, double GapDays);
 
 /// <summary>Another post of the same transient as stored.</summary>
-public sealed record SameTransientRow(Guid Id, string Broker, string BrokerCandidateId, string State, double RaDeg, double DecDeg);
+/// <param name="CreatedAt">When the service stored it.</param>
+public sealed record SameTransientRow(Guid Id, string Broker, string BrokerCandidateId, string State, double RaDeg, double DecDeg, DateTimeOffset CreatedAt);
 
 public sealed partial class CandidateStore
 {
@@ -25,7 +26,8 @@ public sealed partial class CandidateStore
         """;
 
     private const string SameTransientSql = $"""
-        SELECT c.id AS Id, c.broker AS Broker, c.broker_candidate_id AS BrokerCandidateId, c.state AS State, c.ra_deg AS RaDeg, c.dec_deg AS DecDeg
+        SELECT c.id AS Id, c.broker AS Broker, c.broker_candidate_id AS BrokerCandidateId, c.state AS State, c.ra_deg AS RaDeg, c.dec_deg AS DecDeg,
+            c.created_at AS CreatedAt
         {SameTransientFrom}
         ORDER BY c.id
         """;
@@ -58,7 +60,9 @@ public sealed partial class CandidateStore
     {
         ArgumentNullException.ThrowIfNull(reach);
         await using var conn = await dataSource.OpenConnectionAsync(ct);
-        return (await conn.QueryAsync<SameTransientRow>(new CommandDefinition(SameTransientSql, Reach(id, reach), cancellationToken: ct))).ToList();
+        return (await conn.QueryAsync<(Guid, string, string, string, double, double, DateTime)>(new CommandDefinition(SameTransientSql, Reach(id, reach), cancellationToken: ct)))
+            .Select(r => new SameTransientRow(r.Item1, r.Item2, r.Item3, r.Item4, r.Item5, r.Item6, Utc.From(r.Item7)))
+            .ToList();
     }
 
     /// <summary>

@@ -30,8 +30,8 @@ public sealed class ArrivalReplanTests(NightClockFactory api) : IClassFixture<Ni
             .MaxBy(e => e.GetProperty("value").GetDouble() / (e.GetProperty("endUtc").GetDateTimeOffset() - e.GetProperty("startUtc").GetDateTimeOffset()).TotalHours);
         var brokerId = best.GetProperty("brokerCandidateId").GetString()!;
         var demo = JsonNode.Parse(await File.ReadAllTextAsync(Repository.File("demo", "candidates.json")))!["candidates"]!.AsArray();
-        // A twin stands 10″ north of the original: another transient of the same kind (a copy within 1.5″ would be
-        // another broker's post of the same one, which the plan takes only once; checked last).
+        // A twin stands 10″ north (the faint one 10″ south) of the original: another transient of the same kind (a copy
+        // within 1.5″ would be another broker's post of the same one, which the plan takes only once; checked last).
         JsonObject Twin(string id, double dimmedBy, double northArcsec = 10)
         {
             var twin = demo.Single(c => c!["id"]!.GetValue<string>() == brokerId)!.DeepClone().AsObject();
@@ -48,7 +48,7 @@ public sealed class ArrivalReplanTests(NightClockFactory api) : IClassFixture<Ni
         // Eight magnitudes fainter no unit reaches the lowest S/N: a look happens, and no version names it.
         await WaitAsync(() => watch.Looks > 0, TimeSpan.FromSeconds(30));
         var looks = watch.Looks;
-        var faint = await broker.PostAsync("/api/candidates/batches", Bodies.Json(new JsonObject { ["candidates"] = new JsonArray(Twin("TG26-90001", 8)) }));
+        var faint = await broker.PostAsync("/api/candidates/batches", Bodies.Json(new JsonObject { ["candidates"] = new JsonArray(Twin("TG26-90001", 8, -10)) }));
         Assert.True(faint.IsSuccessStatusCode, await faint.Content.ReadAsStringAsync());
         await WaitAsync(() => watch.Looks > looks, TimeSpan.FromSeconds(60));
 
