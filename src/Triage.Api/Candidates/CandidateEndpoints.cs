@@ -249,7 +249,7 @@ public static class CandidateEndpoints
     /// <summary>The other posts within the planner's same-transient radius and discovery gap, nearest first.</summary>
     private static async Task<IReadOnlyList<SameTransientPostResponse>> SameTransientPostsAsync(
         CandidateStore store, Guid id, Candidate c, Triage.Api.Plans.PlannerOptions planner, CancellationToken ct) =>
-        (await store.SameTransientAsync(id, planner.Reach, ct))
+        (await store.SameTransientAsync(id, planner.SameTransient, ct))
             .Select(r => new SameTransientPostResponse(r.Id, r.Broker, r.BrokerCandidateId, r.State,
                 Math.Round(Triage.Core.Candidates.SameTransient.SeparationArcsec(c.RaDeg, c.DecDeg, r.RaDeg, r.DecDeg), 3)))
             .OrderBy(p => p.SeparationArcsec).ThenBy(p => p.Id)
@@ -341,7 +341,7 @@ public static class CandidateEndpoints
             return TypedResults.ValidationProblem(checks.ToDictionary());
         }
         var (previous, confirmed, followed) = await store.ConfirmLabelAsync(id, request.Label!, Caller.From(user).PublicId, request.Reason, clock.GetUtcNow(),
-            planner.Value.Reach, ct);
+            planner.Value.SameTransient, ct);
         return previous switch
         {
             null => Problems.NotFound("id", $"No candidate {id}."),
@@ -440,7 +440,7 @@ public static class CandidateEndpoints
         try
         {
             (result, state, reportId, weighed, followed) = await store.ReportObservationAsync(id, spectrograph.Value.Id, outcome, request.AchievedSnr,
-                request.ClassifiedLabel, request.ObservedUtc!.Value.ToUniversalTime(), Caller.From(user).PublicId, now, evidence, planner.Value.Reach, ct);
+                request.ClassifiedLabel, request.ObservedUtc!.Value.ToUniversalTime(), Caller.From(user).PublicId, now, evidence, planner.Value.SameTransient, ct);
         }
         catch (ArgumentException e)
         {

@@ -189,14 +189,11 @@ public sealed class PlanJobHandler(
     {
         var rows = await candidates.PoolRowsAsync([CandidateState.New, CandidateState.Unsettled, CandidateState.Planned], ct);
         var night = NightStartUtc(input.Night);
-        var sameTransient = new SameTransientSettings
-        {
-            RadiusArcsec = options.Value.SameTransientRadiusArcsec,
-            MaxDiscoveryGapDays = options.Value.SameTransientDays,
-        };
-        var posts = rows.Select(r => new TransientPost(r.Id.ToString(), r.RaDeg, r.DecDeg, r.DiscoveredAt,
-                exclude.Contains(r.Id.ToString()) ? PostStanding.Executing : r.State == CandidateState.Unsettled ? PostStanding.Unsettled : PostStanding.Waiting,
-                r.ScienceWeight, r.BrightestMagnitudeAB(night)))
+        var sameTransient = options.Value.SameTransient;
+        // Post i is rows[i] (the observed posts are appended after them).
+        var posts = rows.Select(r => (Row: r, Id: r.Id.ToString())).Select(r => new TransientPost(r.Id, r.Row.RaDeg, r.Row.DecDeg, r.Row.DiscoveredAt,
+                exclude.Contains(r.Id) ? PostStanding.Executing : r.Row.State == CandidateState.Unsettled ? PostStanding.Unsettled : PostStanding.Waiting,
+                r.Row.ScienceWeight, r.Row.BrightestMagnitudeAB(night)))
             .ToList();
         if (rows.Count > 0)
         {
@@ -206,9 +203,9 @@ public sealed class PlanJobHandler(
         }
         var grouped = SameTransient.Select(posts, mustKeep, sameTransient);
         var kept = grouped.Kept.ToHashSet(StringComparer.Ordinal);
-        var pool = rows
-            .Where(r => kept.Contains(r.Id.ToString()))
-            .Select(r => new PoolCandidate(r.Id.ToString(), r.RaDeg, r.DecDeg, r.ScienceWeight, r.BrightestMagnitudeAB(night)))
+        var pool = posts.Take(rows.Count)
+            .Where(p => kept.Contains(p.Id))
+            .Select(p => new PoolCandidate(p.Id, p.RaDeg, p.DecDeg, p.ScienceWeight, p.BrightestMagnitudeAB))
             .ToList();
         var waitingIds = pool.Select(p => p.Id).ToHashSet(StringComparer.Ordinal);
         var selection = CandidatePool.Select(sites, spectrographs, surface, input.Night, from, pool,
@@ -274,8 +271,8 @@ public sealed class PlannerOptions
     /// </summary>
     public bool UnitReliability { get; set; } = true;
 
-    /// <summary>The two as the store takes them.</summary>
-    public Triage.Storage.Candidates.SameTransientReach Reach => new(SameTransientRadiusArcsec, SameTransientDays);
+    /// <summary>The radius and the discovery gap as the grouping and the store take them.</summary>
+    public SameTransientSettings SameTransient => new() { RadiusArcsec = SameTransientRadiusArcsec, MaxDiscoveryGapDays = SameTransientDays };
 }
 
 /// <summary>Passes progress on and remembers how long each step (the time between two reports) took, for the log.</summary>

@@ -178,7 +178,7 @@ public sealed class ArrivalWatch(
         var fresh = new HashSet<Guid>();
         foreach (var id in arrivals)
         {
-            var linked = await candidates.SameTransientAsync(id, planner.Value.Reach, ct);
+            var linked = await candidates.SameTransientAsync(id, planner.Value.SameTransient, ct);
             if (!linked.Any(r => r.State is "observed" or "classified"
                 || (r.State is not ("abandoned" or "stale") && r.CreatedAt <= versionComputed)))
             {

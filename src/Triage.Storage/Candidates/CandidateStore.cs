@@ -434,7 +434,7 @@ public sealed partial class CandidateStore(NpgsqlDataSource dataSource)
     /// <returns>The state before, and whether it was changed (false: unknown candidate or abandoned).</returns>
     /// <param name="follow">When given, the other waiting posts of the transient follow the classification.</param>
     public async Task<(CandidateState? Previous, bool Confirmed, int Followed)> ConfirmLabelAsync(
-        Guid id, string label, string actor, string? reason, DateTimeOffset now, SameTransientReach? follow = null, CancellationToken ct = default)
+        Guid id, string label, string actor, string? reason, DateTimeOffset now, SameTransientSettings? follow = null, CancellationToken ct = default)
     {
         await using var conn = await dataSource.OpenConnectionAsync(ct);
         await using var tx = await conn.BeginTransactionAsync(ct);
@@ -479,7 +479,7 @@ public sealed partial class CandidateStore(NpgsqlDataSource dataSource)
     /// <param name="follow">When given and the report classifies the candidate, the other waiting posts of its transient follow.</param>
     public async Task<(ReportOutcome Outcome, CandidateState? State, Guid ReportId, WeighedLabel? Weighed, int Followed)> ReportObservationAsync(
         Guid id, Guid spectrographId, ObservationOutcome outcome, double? achievedSnr, string? label, DateTimeOffset observedAt,
-        string actor, DateTimeOffset now, LabelEvidence? evidence = null, SameTransientReach? follow = null, CancellationToken ct = default)
+        string actor, DateTimeOffset now, LabelEvidence? evidence = null, SameTransientSettings? follow = null, CancellationToken ct = default)
     {
         await using var conn = await dataSource.OpenConnectionAsync(ct);
         await using var tx = await conn.BeginTransactionAsync(ct);

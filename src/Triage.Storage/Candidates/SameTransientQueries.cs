@@ -4,11 +4,6 @@ using Triage.Core.Candidates;
 
 namespace Triage.Storage.Candidates;
 
-/// <summary>How near two posts must be to count as one transient (the planner's grouping, docs/planner.md §10a).</summary>
-/// <param name="RadiusArcsec">Largest separation, arcseconds &gt; 0.</param>
-/// <param name="GapDays">Largest gap between discovery instants, days &gt; 0.</param>
-public sealed record SameTransientReach(double RadiusArcsec, double GapDays);
-
 /// <summary>Another post of the same transient as stored.</summary>
 /// <param name="CreatedAt">When the service stored it.</param>
 public sealed record SameTransientRow(Guid Id, string Broker, string BrokerCandidateId, string State, double RaDeg, double DecDeg, DateTimeOffset CreatedAt);
@@ -47,16 +42,16 @@ public sealed partial class CandidateStore
         SELECT id, @now, 'transition', from_state, 'classified', @actor, @detail FROM moved
         """;
 
-    private static object Reach(Guid id, SameTransientReach reach) => new
+    private static object Reach(Guid id, SameTransientSettings reach) => new
     {
         id,
         radiusDeg = reach.RadiusArcsec / 3600,
         cosRadius = Math.Cos(reach.RadiusArcsec / 3600 * Math.PI / 180),
-        gap = TimeSpan.FromDays(reach.GapDays),
+        gap = TimeSpan.FromDays(reach.MaxDiscoveryGapDays),
     };
 
     /// <summary>The other posts of the same transient as candidate <paramref name="id"/> (any state), by id.</summary>
-    public async Task<IReadOnlyList<SameTransientRow>> SameTransientAsync(Guid id, SameTransientReach reach, CancellationToken ct = default)
+    public async Task<IReadOnlyList<SameTransientRow>> SameTransientAsync(Guid id, SameTransientSettings reach, CancellationToken ct = default)
     {
         ArgumentNullException.ThrowIfNull(reach);
         await using var conn = await dataSource.OpenConnectionAsync(ct);
@@ -71,7 +66,7 @@ public sealed partial class CandidateStore
     /// each with a history line naming the post whose spectrum settled it. Returns how many followed.
     /// </summary>
     private static async Task<int> FollowClassificationAsync(NpgsqlConnection conn, NpgsqlTransaction tx, Guid id, string label, string actor,
-        DateTimeOffset now, SameTransientReach reach, CancellationToken ct)
+        DateTimeOffset now, SameTransientSettings reach, CancellationToken ct)
     {
         var (broker, brokerId) = await conn.QuerySingleAsync<(string, string)>(new CommandDefinition(
             "SELECT broker, broker_candidate_id FROM candidates WHERE id = @id", new { id }, tx, cancellationToken: ct));

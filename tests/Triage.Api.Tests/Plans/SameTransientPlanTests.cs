@@ -138,7 +138,7 @@ public sealed class SameTransientPlanTests(IsolatedDatabaseFactory api) : IClass
         var far = await PostAsync("D", -30 + 2.0 * Arcsec, 4);        // 2″ away
         var given = await PostAsync("E", -30 - 0.3 * Arcsec, 4);      // the same transient, abandoned by a scheduler
         await store.TransitionAsync(given, CandidateState.Abandoned, _ => true, "test", "not wanted", now);
-        var reach = new SameTransientReach(1.5, 100);
+        var reach = new SameTransientSettings { RadiusArcsec = 1.5, MaxDiscoveryGapDays = 100 };
         Assert.Equal(new[] { b, given }.Order(), (await store.SameTransientAsync(a, reach)).Select(r => r.Id).Order());
 
         // A unit of its own to report on (the demo roster's first, under new ids and names).
