@@ -89,6 +89,9 @@ public sealed class NightViewTests(NightViewHost host)
         Assert.Contains("Also posted as", panel, StringComparison.Ordinal);
         Assert.Contains("b2c4e6f8/NB-7781", panel, StringComparison.Ordinal);
         await view.ScreenshotAsync("tonight-same-transient");
+        await view.Page.SetViewportSizeAsync(800, 900);
+        Assert.Contains("b2c4e6f8/NB-7781", await view.Page.InnerTextAsync(".block-detail"), StringComparison.Ordinal);
+        await view.ScreenshotAsync("tonight-same-transient-800");
         await view.Page.ClickAsync($".block[data-candidate=\"{s.CandidateIds[0]}\"]");
         Assert.DoesNotContain("Also posted as", await view.Page.InnerTextAsync(".block-detail"), StringComparison.Ordinal);
         Assert.Empty(view.ConsoleErrors);
